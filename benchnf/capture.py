@@ -1,0 +1,227 @@
+"""The Capture: samples in full-scale units plus everything needed to interpret them.
+
+A capture is read in blocks, so that a long recording never has to be held
+in memory.  It is made from a file by :func:`benchnf.io.open_capture` or
+from an array by :meth:`Capture.from_array`.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from collections.abc import Callable, Iterator, Mapping
+from dataclasses import dataclass, field
+from pathlib import Path
+from types import MappingProxyType
+from typing import Any
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from .errors import CalibrationError, CaptureError, ParameterError
+
+__all__ = ["CONDITIONS", "Capture", "SampleStats", "CLIP_LEVEL_FS"]
+
+#: Measurement conditions a capture can be made under (see docs/method.md).
+CONDITIONS = ("floor", "shorted", "terminated", "tone", "hot", "cold", "tap", "reference")
+
+#: A sample whose magnitude reaches this is counted as clipped.  It lies just
+#: below the largest positive 16-bit code, 32767/32768, so that integer files
+#: of any width are caught at their rails.
+CLIP_LEVEL_FS = 0.99996
+
+DEFAULT_BLOCK_FRAMES = 1 << 16
+
+BlockReader = Callable[[int], Iterator[NDArray[np.float64]]]
+
+
+def check_condition(condition: str | None) -> str | None:
+    """Return `condition` if it is one of :data:`CONDITIONS` (or None), else raise."""
+    if condition is not None and condition not in CONDITIONS:
+        raise ParameterError(f"condition {condition!r} is not one of {', '.join(CONDITIONS)}")
+    return condition
+
+
+@dataclass(frozen=True)
+class Capture:
+    """One channel of a recording, with its sample rate, calibration and condition.
+
+    Attributes
+    ----------
+    sample_rate_hz : float
+        Sample rate in Hz.
+    n_frames : int
+        Number of samples in the channel.
+    channel : int
+        Zero-based channel of the source this capture reads.
+    n_channels : int
+        Number of channels in the source.
+    volts_per_fs : float or None
+        The voltage that a sample value of 1.0 represents at the analyzer
+        input (peak volts); None when uncalibrated.
+    condition : str or None
+        One of :data:`CONDITIONS`.
+    metadata : Mapping
+        Free metadata (from the sidecar JSON next to a file).
+    path : pathlib.Path or None
+        The file it came from, if any.
+    """
+
+    sample_rate_hz: float
+    n_frames: int
+    channel: int
+    n_channels: int
+    volts_per_fs: float | None = None
+    condition: str | None = None
+    metadata: Mapping[str, Any] = field(default_factory=dict)
+    path: Path | None = None
+    _reader: Callable[[int, int], Iterator[NDArray[np.float64]]] | None = field(
+        default=None, repr=False, compare=False)
+
+    def __post_init__(self) -> None:
+        if not (math.isfinite(self.sample_rate_hz) and self.sample_rate_hz > 0):
+            raise ParameterError(f"sample_rate_hz={self.sample_rate_hz!r} must be a positive number")
+        if not 0 <= self.channel < self.n_channels:
+            raise ParameterError(
+                f"channel {self.channel} does not exist: the capture has {self.n_channels} "
+                f"channel(s), numbered from 0")
+        if self.volts_per_fs is not None and not (math.isfinite(self.volts_per_fs)
+                                                  and self.volts_per_fs > 0):
+            raise CalibrationError(f"volts_per_fs={self.volts_per_fs!r} must be a positive number")
+        check_condition(self.condition)
+        object.__setattr__(self, "metadata", MappingProxyType(dict(self.metadata)))
+
+    # -- construction -------------------------------------------------------------
+    @classmethod
+    def from_array(cls, samples_fs: ArrayLike, *, sample_rate_hz: float, channel: int = 0,
+                   volts_per_fs: float | None = None, condition: str | None = None,
+                   metadata: Mapping[str, Any] | None = None) -> "Capture":
+        """Make a capture from samples in full-scale units, shape (n,) or (n, channels)."""
+        data = np.asarray(samples_fs, dtype=np.float64)
+        if data.ndim == 1:
+            data = data[:, None]
+        if data.ndim != 2:
+            raise ParameterError(f"samples must be 1-D or 2-D (frames, channels), got shape {data.shape}")
+        data = data.copy()
+        data.setflags(write=False)
+
+        def reader(block_frames: int, ch: int) -> Iterator[NDArray[np.float64]]:
+            for start in range(0, data.shape[0], block_frames):
+                yield data[start:start + block_frames, ch]
+
+        return cls(float(sample_rate_hz), int(data.shape[0]), int(channel), int(data.shape[1]),
+                   volts_per_fs, condition, dict(metadata or {}), None, reader)
+
+    def replace(self, **changes: Any) -> "Capture":
+        """Return a copy with some fields changed (e.g. ``volts_per_fs``, ``channel``)."""
+        return dataclasses.replace(self, **changes)
+
+    # -- reading --------------------------------------------------------------------
+    @property
+    def duration_s(self) -> float:
+        """Length in seconds."""
+        return self.n_frames / self.sample_rate_hz
+
+    @property
+    def label(self) -> str:
+        """A short name for messages: the file name, or the condition."""
+        if self.path is not None:
+            return self.path.name
+        return f"{self.condition or 'array'} capture"
+
+    def blocks(self, block_frames: int = DEFAULT_BLOCK_FRAMES, *,
+               channel: int | None = None) -> Iterator[NDArray[np.float64]]:
+        """Yield the samples of one channel (default: this capture's) in float64 blocks."""
+        if self._reader is None:
+            raise CaptureError(f"{self.label} has no samples attached")
+        ch = self.channel if channel is None else channel
+        if not 0 <= ch < self.n_channels:
+            raise ParameterError(f"channel {ch} does not exist in {self.label} "
+                                 f"({self.n_channels} channel(s), numbered from 0)")
+        return self._reader(int(block_frames), ch)
+
+    def read(self, *, channel: int | None = None, max_frames: int | None = None) -> NDArray[np.float64]:
+        """Return the samples of one channel as one array (at most `max_frames`)."""
+        parts: list[NDArray[np.float64]] = []
+        n = 0
+        limit = self.n_frames if max_frames is None else min(self.n_frames, int(max_frames))
+        for block in self.blocks(channel=channel):
+            parts.append(block[: limit - n])
+            n += parts[-1].size
+            if n >= limit:
+                break
+        return np.concatenate(parts) if parts else np.zeros(0)
+
+    def volts_per_fs_or_raise(self, purpose: str) -> float:
+        """Return the calibration, or raise a CalibrationError saying how to supply one."""
+        if self.volts_per_fs is None:
+            raise CalibrationError(
+                f"{self.label} is not calibrated, and {purpose} needs volts: give "
+                f"--volts-per-fs V or --calibration cal.json (make one with 'benchnf calibrate')")
+        return self.volts_per_fs
+
+
+@dataclass
+class SampleStats:
+    """Running statistics of a capture's samples, for integrity checks.
+
+    Feed every block with :meth:`update`; then :meth:`check_noise` or
+    :meth:`check_tone` raise a :class:`CaptureError` for a capture that is
+    clipped, silent or not finite.
+    """
+
+    label: str = "capture"
+    n: int = 0
+    sum_fs: float = 0.0
+    sum_sq_fs2: float = 0.0
+    peak_fs: float = 0.0
+    n_clipped: int = 0
+    n_nonfinite: int = 0
+
+    def update(self, block: NDArray[np.float64]) -> None:
+        """Add one block of samples."""
+        finite = np.isfinite(block)
+        if not finite.all():
+            self.n_nonfinite += int(block.size - np.count_nonzero(finite))
+            block = block[finite]
+        if block.size == 0:
+            return
+        self.n += block.size
+        self.sum_fs += float(block.sum())
+        self.sum_sq_fs2 += float(np.dot(block, block))
+        peak = float(np.max(np.abs(block)))
+        self.peak_fs = max(self.peak_fs, peak)
+        if peak >= CLIP_LEVEL_FS:
+            self.n_clipped += int(np.count_nonzero(np.abs(block) >= CLIP_LEVEL_FS))
+
+    @property
+    def rms_fs(self) -> float:
+        """RMS of the samples (mean included) in full-scale units."""
+        return math.sqrt(self.sum_sq_fs2 / self.n) if self.n else 0.0
+
+    def _check_common(self) -> None:
+        if self.n_nonfinite:
+            raise CaptureError(f"{self.label} holds {self.n_nonfinite} NaN or infinite samples: "
+                               f"the file is damaged; record it again")
+        if self.n == 0:
+            raise CaptureError(f"{self.label} is empty: record it again")
+        if self.peak_fs == 0.0:
+            raise CaptureError(f"{self.label} is silent (every sample is zero): check that the "
+                               f"input is connected, unmuted and the right channel is chosen")
+
+    def check_noise(self) -> None:
+        """Raise unless the samples are fit for noise analysis (none clipped)."""
+        self._check_common()
+        if self.n_clipped:
+            raise CaptureError(
+                f"{self.label} is clipped ({self.n_clipped} samples at full scale, "
+                f"{100.0 * self.n_clipped / self.n:.3g} %): noise analysis refused; lower the "
+                f"input gain and record it again")
+
+    def check_tone(self) -> None:
+        """Raise unless the samples are fit for a tone level (none clipped)."""
+        self._check_common()
+        if self.n_clipped:
+            raise CaptureError(
+                f"{self.label} is clipped ({self.n_clipped} samples at full scale): the tone "
+                f"level would be wrong; lower the tone or the input gain and record it again")

@@ -1,0 +1,93 @@
+"""WAV, FLAC and AIFF captures through soundfile (libsndfile), read in blocks."""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from pathlib import Path
+
+import numpy as np
+from numpy.typing import NDArray
+
+from ..capture import Capture
+from ..errors import CaptureError
+from .sidecar import read_sidecar
+
+__all__ = ["open_capture", "AUDIO_SUFFIXES"]
+
+AUDIO_SUFFIXES = (".wav", ".flac", ".aif", ".aiff", ".w64", ".rf64", ".caf")
+
+
+def _soundfile():
+    # soundfile is a core dependency; imported here to keep `benchnf --help` fast.
+    from .._optional import require
+    return require("soundfile", extra=None, purpose="reading audio captures")
+
+
+def open_capture(path: str | Path, *, channel: int | None = None, condition: str | None = None,
+                 volts_per_fs: float | None = None) -> Capture:
+    """Open an audio capture file for block-wise reading.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        A WAV, FLAC, AIFF, W64, RF64 or CAF file.
+    channel : int, optional
+        Zero-based channel; default the sidecar's ``channel`` or 0.
+    condition : str, optional
+        The role the caller gives it; must agree with the sidecar's, if any.
+    volts_per_fs : float, optional
+        Calibration; overrides the sidecar's ``volts_per_fs``.
+
+    Returns
+    -------
+    Capture
+
+    Raises
+    ------
+    CaptureError
+        The file is missing, unreadable, empty, or its sidecar disagrees.
+    """
+    sf = _soundfile()
+    path = Path(path)
+    if not path.is_file():
+        raise CaptureError(f"{path}: no such file")
+    try:
+        info = sf.info(str(path))
+    except RuntimeError as err:  # soundfile.LibsndfileError derives from RuntimeError
+        raise CaptureError(f"{path} cannot be read as audio ({err}); give a complete WAV, FLAC "
+                           f"or AIFF file") from err
+    if info.frames <= 0:
+        raise CaptureError(f"{path} holds no samples: record it again")
+    meta = read_sidecar(path)
+    side_condition = meta.get("condition")
+    if condition is not None and side_condition is not None and side_condition != condition:
+        raise CaptureError(f"{path.name} is given as a {condition!r} capture but its sidecar says "
+                           f"{side_condition!r}: check which file is which")
+    if channel is None:
+        channel = int(meta.get("channel", 0))
+    if not 0 <= channel < info.channels:
+        raise CaptureError(f"{path.name} has {info.channels} channel(s), numbered from 0; "
+                           f"channel {channel} does not exist")
+    if volts_per_fs is None:
+        volts_per_fs = meta.get("volts_per_fs")
+    n_frames = int(info.frames)
+
+    def reader(block_frames: int, ch: int) -> Iterator[NDArray[np.float64]]:
+        got = 0
+        try:
+            with sf.SoundFile(str(path)) as fh:
+                while True:
+                    data = fh.read(block_frames, dtype="float64", always_2d=True)
+                    if data.shape[0] == 0:
+                        break
+                    got += data.shape[0]
+                    yield np.ascontiguousarray(data[:, ch])
+        except RuntimeError as err:
+            raise CaptureError(f"{path} could not be read to the end ({err}): the file is "
+                               f"damaged; record it again") from err
+        if got < n_frames:
+            raise CaptureError(f"{path} is truncated: its header promises {n_frames} frames but "
+                               f"only {got} could be read; record it again")
+
+    return Capture(float(info.samplerate), n_frames, channel, int(info.channels), volts_per_fs,
+                   condition or side_condition, meta, path, reader)

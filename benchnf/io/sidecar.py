@@ -1,0 +1,74 @@
+"""Sidecar metadata: a JSON object stored next to a capture file.
+
+For ``bench/floor.flac`` the sidecar is ``bench/floor.json`` (the name
+without its extension) or ``bench/floor.flac.json``; having both is an error.
+Known keys (all optional): ``condition``, ``volts_per_fs``, ``rs_ohm``,
+``temperature_k``, ``channel``, ``device``, ``host_api``, ``recorded_at``,
+``notes``.  Other keys are kept and passed through.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+from typing import Any
+
+from ..capture import check_condition
+from ..errors import CaptureError
+
+__all__ = ["sidecar_candidates", "find_sidecar", "read_sidecar", "write_sidecar"]
+
+_NUMERIC_KEYS = ("volts_per_fs", "rs_ohm", "temperature_k")
+
+
+def sidecar_candidates(capture_path: Path) -> tuple[Path, Path]:
+    """The two places a sidecar may stand for `capture_path`."""
+    capture_path = Path(capture_path)
+    return capture_path.with_suffix(".json"), capture_path.with_name(capture_path.name + ".json")
+
+
+def find_sidecar(capture_path: Path) -> Path | None:
+    """Return the sidecar of `capture_path`, None if there is none; refuse two."""
+    found = [p for p in dict.fromkeys(sidecar_candidates(capture_path)) if p.is_file()]
+    if len(found) > 1:
+        raise CaptureError(f"{capture_path.name} has two sidecars ({found[0].name} and "
+                           f"{found[1].name}): keep one")
+    return found[0] if found else None
+
+
+def read_sidecar(capture_path: Path) -> dict[str, Any]:
+    """Read and validate the sidecar of `capture_path` ({} if there is none)."""
+    path = find_sidecar(Path(capture_path))
+    if path is None:
+        return {}
+    try:
+        meta = json.loads(path.read_text(encoding="utf-8"))
+    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as err:
+        raise CaptureError(f"sidecar {path} is not readable JSON ({err}): fix or remove it") from err
+    if not isinstance(meta, dict):
+        raise CaptureError(f"sidecar {path} must hold a JSON object, not {type(meta).__name__}")
+    try:
+        check_condition(meta.get("condition"))
+    except ValueError as err:
+        raise CaptureError(f"sidecar {path}: {err}") from err
+    for key in _NUMERIC_KEYS:
+        value = meta.get(key)
+        if value is not None and not (isinstance(value, (int, float)) and math.isfinite(value)
+                                      and value >= 0 and not isinstance(value, bool)):
+            raise CaptureError(f"sidecar {path}: {key}={value!r} must be a non-negative number")
+    if meta.get("volts_per_fs") == 0:
+        raise CaptureError(f"sidecar {path}: volts_per_fs must be > 0")
+    return meta
+
+
+def write_sidecar(capture_path: Path, metadata: dict[str, Any]) -> Path:
+    """Write `metadata` as the sidecar of `capture_path`; never overwrite one."""
+    path = sidecar_candidates(Path(capture_path))[0]
+    try:
+        with open(path, "x", encoding="utf-8") as fh:
+            json.dump(metadata, fh, indent=2, sort_keys=True)
+            fh.write("\n")
+    except FileExistsError as err:
+        raise CaptureError(f"{path} exists already: choose another capture name") from err
+    return path

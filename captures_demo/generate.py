@@ -1,0 +1,216 @@
+"""Regenerate the demo captures and their ground truth (INVENTED DATA).
+
+Scenario (our own): a three-stage low-noise head amplifier for a moving-coil
+phono cartridge (source about 20 ohm), measured with a 24-bit sound card at
+48 kHz.  Nothing here was recorded: every sample is synthesised from the
+physical model below with a fixed seed, so the files are the same on every
+run and the truth they were made from is known.
+
+Model
+-----
+* Source: a 20 ohm resistor at 296.15 K, thermal noise 4kTR.
+* Stage n: white voltage noise en_n with a 1/f corner, input current noise
+  (stage 1 only) in with its own corner, voltage gain G_n; stages in
+  cascade, each stage's noise referred through the gains before it.
+* Response: first-order high-pass at 2 Hz, second-order low-pass at 90 kHz
+  (Butterworth), applied to everything the amplifier passes.
+* Mains hum at the output: a 50 Hz family with the 100 Hz line strongest
+  (rectifier ripple).
+* Sound card: 2.0 V per full scale (peak), input noise 15 nV/rtHz white with
+  a 50 Hz 1/f corner, 24-bit FLAC.
+
+Run ``python captures_demo/generate.py`` to rewrite the files; it refuses to
+overwrite unless given ``--force``.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+from pathlib import Path
+
+import numpy as np
+import soundfile as sf
+
+K_B = 1.380649e-23
+T0 = 290.0
+FS = 48_000
+SEED = 20261201
+VOLTS_PER_FS = 2.0
+CARD_EN = 15e-9
+CARD_CORNER_HZ = 50.0
+RS_OHM = 20.0
+TEMPERATURE_K = 296.15
+STAGES = [  # name, en (V/rtHz), en corner (Hz), in (A/rtHz), in corner (Hz), gain (V/V)
+    ("input pair", 0.45e-9, 60.0, 1.5e-12, 200.0, 10.0),
+    ("second stage", 3.0e-9, 30.0, 0.0, 1.0, 5.0),
+    ("output buffer", 6.0e-9, 20.0, 0.0, 1.0, 10 ** (2 / 20)),
+]
+HUM = [(50.0, 0.5e-6), (100.0, 0.8e-6), (150.0, 0.3e-6)]  # Hz, V RMS at the output
+TONE_HZ = 1000.0
+TONE_EMF_VRMS = 1.0e-3
+REFERENCE_HZ = 400.0
+REFERENCE_VRMS = 0.5
+STIMULUS_VRMS = 1.0e-3
+DURATIONS_S = {"floor": 10.0, "shorted": 10.0, "terminated": 10.0, "tone": 3.0,
+               "reference": 3.0, "response": 4.0}
+
+HERE = Path(__file__).resolve().parent
+
+
+def total_gain() -> float:
+    return math.prod(s[5] for s in STAGES)
+
+
+def response(f: np.ndarray) -> np.ndarray:
+    """Complex response shape of the amplifier (1 at mid band)."""
+    s = 1j * f
+    hp = s / (s + 2.0)
+    w = f / 90e3
+    lp = 1.0 / (1 - w ** 2 + 1j * math.sqrt(2) * w)
+    return hp * lp
+
+
+def amplifier_input_density(f: np.ndarray, *, rs_ohm: float, include_source: bool) -> np.ndarray:
+    """Input-referred noise density (V^2/Hz) of the chain with source resistance rs_ohm."""
+    f = np.maximum(f, 1e-3)
+    total = np.zeros_like(f)
+    gain_before = 1.0
+    for _name, en, en_fc, i_n, in_fc, gain in STAGES:
+        total += (en ** 2 * (1 + en_fc / f)) / gain_before ** 2
+        if gain_before == 1.0:
+            total += (i_n ** 2 * (1 + in_fc / f)) * rs_ohm ** 2
+        gain_before *= gain
+    if include_source:
+        total += 4 * K_B * TEMPERATURE_K * rs_ohm
+    return total
+
+
+def card_density(f: np.ndarray) -> np.ndarray:
+    return CARD_EN ** 2 * (1 + CARD_CORNER_HZ / np.maximum(f, 1e-3))
+
+
+def coloured_noise(rng: np.random.Generator, n: int, density_fn) -> np.ndarray:
+    """Gaussian noise with one-sided density density_fn(f) in V^2/Hz, by FFT synthesis."""
+    f = np.fft.rfftfreq(n, 1 / FS)
+    amp = np.sqrt(density_fn(f) * FS * n / 4.0)
+    spec = amp * (rng.standard_normal(f.size) + 1j * rng.standard_normal(f.size))
+    spec[0] = 0.0
+    return np.fft.irfft(spec, n)
+
+
+def hum(n: int, rng: np.random.Generator) -> np.ndarray:
+    t = np.arange(n) / FS
+    return sum(a * math.sqrt(2) * np.sin(2 * np.pi * fh * t + rng.uniform(0, 2 * np.pi))
+               for fh, a in HUM)
+
+
+def dut_output_noise(rng: np.random.Generator, n: int, rs_ohm: float | None) -> np.ndarray:
+    g = total_gain()
+
+    def density(f):
+        e2 = amplifier_input_density(f, rs_ohm=rs_ohm or 0.0, include_source=rs_ohm is not None)
+        return e2 * g ** 2 * np.abs(response(f)) ** 2
+
+    return coloured_noise(rng, n, density) + hum(n, rng)
+
+
+def write(name: str, volts: np.ndarray, meta: dict, force: bool) -> None:
+    path = HERE / f"{name}.flac"
+    side = HERE / f"{name}.json"
+    if not force and (path.exists() or side.exists()):
+        raise SystemExit(f"{path.name} exists: rerun with --force to rewrite the demo captures")
+    fs_units = volts / VOLTS_PER_FS
+    assert np.max(np.abs(fs_units)) < 0.9, name
+    sf.write(path, fs_units, FS, subtype="PCM_24")
+    meta = {"device": "demo sound card (simulated)", "notes": "INVENTED DATA, see README.md",
+            **meta}
+    side.write_text(json.dumps(meta, indent=2) + "\n")
+
+
+def ground_truth() -> dict:
+    """Expected figures, by numerical integration of the model (not by benchnf)."""
+    f = np.linspace(20.0, 20_000.0, 200_001)
+    g2 = total_gain() ** 2 * np.abs(response(f)) ** 2
+    g_1k = total_gain() * abs(response(np.array([TONE_HZ]))[0])
+    # EMF-referred: the model's response is part of the gain, so refer through |G(f)|.
+    e2_term = amplifier_input_density(f, rs_ohm=RS_OHM, include_source=True)
+    e2_short = amplifier_input_density(f, rs_ohm=0.0, include_source=False)
+    ein = math.sqrt(np.trapezoid(e2_term, f))
+    four_k_t0_r = 4 * K_B * T0 * RS_OHM
+    four_k_t_r = 4 * K_B * TEMPERATURE_K * RS_OHM
+    nf_band = 10 * math.log10(1 + np.trapezoid(e2_term - four_k_t_r, f) / (four_k_t0_r * (f[-1] - f[0])))
+    one_k = np.array([1000.0])
+    e2_1k = float(amplifier_input_density(one_k, rs_ohm=RS_OHM, include_source=True)[0])
+    return {
+        "note": "INVENTED DATA: figures of the model the captures were synthesised from",
+        "volts_per_fs": VOLTS_PER_FS,
+        "rs_ohm": RS_OHM,
+        "temperature_k": TEMPERATURE_K,
+        "band_hz": [20.0, 20_000.0],
+        "gain_db_at_1khz": 20 * math.log10(g_1k),
+        "input_density_at_1khz_v_per_rthz": math.sqrt(e2_1k),
+        "voltage_noise_at_1khz_v_per_rthz": math.sqrt(
+            float(amplifier_input_density(one_k, rs_ohm=0.0, include_source=False)[0])),
+        "nf_at_1khz_db": 10 * math.log10(1 + (e2_1k - four_k_t_r) / four_k_t0_r),
+        "noise_figure_db": nf_band,
+        "ein_dbu_unweighted_excluding_hum": 20 * math.log10(ein / math.sqrt(0.6)),
+        "voltage_noise_band_vrms": math.sqrt(np.trapezoid(e2_short, f)),
+        "output_noise_vrms_excluding_hum": math.sqrt(np.trapezoid(e2_term * g2, f)),
+        "hum_output_vrms": {f"{fh:g} Hz": a for fh, a in HUM},
+        "card_floor_density_v_per_rthz": CARD_EN,
+        "stages": [{"name": s[0], "en_v_per_rthz": s[1], "en_corner_hz": s[2],
+                    "in_a_per_rthz": s[3], "in_corner_hz": s[4], "gain_db": 20 * math.log10(s[5])}
+                   for s in STAGES],
+    }
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--force", action="store_true", help="rewrite existing files")
+    args = parser.parse_args()
+    rng = np.random.default_rng(SEED)
+    n = {k: int(v * FS) for k, v in DURATIONS_S.items()}
+
+    floor = coloured_noise(rng, n["floor"], card_density)
+    write("floor", floor, {"condition": "floor"}, args.force)
+
+    shorted = dut_output_noise(rng, n["shorted"], None) + coloured_noise(rng, n["shorted"], card_density)
+    write("shorted", shorted, {"condition": "shorted", "rs_ohm": 0.0}, args.force)
+
+    term = dut_output_noise(rng, n["terminated"], RS_OHM) + coloured_noise(rng, n["terminated"], card_density)
+    write("terminated", term, {"condition": "terminated", "rs_ohm": RS_OHM,
+                               "temperature_k": TEMPERATURE_K}, args.force)
+
+    t = np.arange(n["tone"]) / FS
+    g_1k = total_gain() * response(np.array([TONE_HZ]))[0]
+    tone = (TONE_EMF_VRMS * math.sqrt(2) * abs(g_1k) * np.sin(2 * np.pi * TONE_HZ * t + np.angle(g_1k))
+            + dut_output_noise(rng, n["tone"], RS_OHM) + coloured_noise(rng, n["tone"], card_density))
+    write("tone", tone, {"condition": "tone", "rs_ohm": RS_OHM, "tone_hz": TONE_HZ,
+                         "tone_input_vrms": TONE_EMF_VRMS}, args.force)
+
+    t = np.arange(n["reference"]) / FS
+    ref = REFERENCE_VRMS * math.sqrt(2) * np.sin(2 * np.pi * REFERENCE_HZ * t) + coloured_noise(
+        rng, n["reference"], card_density)
+    write("reference", ref, {"condition": "reference", "meter_vrms": REFERENCE_VRMS,
+                             "tone_hz": REFERENCE_HZ}, args.force)
+
+    m = n["response"]
+    stimulus = rng.standard_normal(m) * STIMULUS_VRMS
+    out = np.fft.irfft(np.fft.rfft(stimulus) * total_gain() * response(np.fft.rfftfreq(m, 1 / FS)), m)
+    out += dut_output_noise(rng, m, RS_OHM)
+    both = np.column_stack((stimulus + coloured_noise(rng, m, card_density),
+                            out + coloured_noise(rng, m, card_density)))
+    write("response", both, {"condition": "tone", "channels": ["DUT input", "DUT output"],
+                             "stimulus": "white noise", "rs_ohm": RS_OHM}, args.force)
+
+    truth = HERE / "ground_truth.json"
+    if truth.exists() and not args.force:
+        raise SystemExit("ground_truth.json exists: rerun with --force")
+    truth.write_text(json.dumps(ground_truth(), indent=2) + "\n")
+    print(f"wrote the demo captures and ground_truth.json in {HERE}")
+
+
+if __name__ == "__main__":
+    main()
