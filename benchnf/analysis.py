@@ -428,7 +428,9 @@ def analyze_gain_method(*, terminated: Capture, gain: GainSetup, rs_ohm: float,
 
     # Spots: one-third-octave means.
     spot_band = Band(band.low_hz, min(band.high_hz, fs / 2 / 10 ** (1 / 20)))
-    centres = third_octave_centres_hz(spot_band)
+    # A spot band narrower than one bin would only repeat its neighbour's value.
+    centres = [c for c in third_octave_centres_hz(spot_band)
+               if c[1] * (10 ** (1 / 20) - 10 ** (-1 / 20)) >= p_term.bin_width_hz]
     e2_spot = spot_means(f, e2_diff, centres)
     out_spot = spot_means(f, out_diff, centres)
     nf_spot = spot_noise_factor(e2_spot, rs_ohm=rs_ohm, temperature_k=temperature_k)

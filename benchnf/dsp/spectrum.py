@@ -92,8 +92,12 @@ def welch_dof(window: ArrayLike, hop: int, n_segments: int) -> float:
 
 
 def default_segment_length(sample_rate_hz: float) -> int:
-    """Power of two giving bins of about 10 Hz or finer (4096 at 48 kHz, 8192 at 96 kHz)."""
-    return int(2 ** math.ceil(math.log2(max(sample_rate_hz / 12.0, 16.0))))
+    """Power of two giving bins of 3 Hz or finer (16384 at 48 kHz, 32768 at 96 kHz).
+
+    Fine enough that the one-third-octave band at 20 Hz (4.6 Hz wide) spans
+    more than one bin.
+    """
+    return int(2 ** math.ceil(math.log2(max(sample_rate_hz / 3.0, 16.0))))
 
 
 @dataclass(frozen=True)

@@ -1,0 +1,5 @@
+"""``python -m benchnf``."""
+
+from .cli import main
+
+raise SystemExit(main())

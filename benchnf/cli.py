@@ -1,0 +1,329 @@
+"""Command line: parse, call the library, print.  No computation lives here.
+
+Exit status: 0 done, 1 a limit check failed, 2 bad input or usage, 3 a
+missing optional dependency or audio device, 130 interrupted.
+"""
+
+from __future__ import annotations
+
+import argparse
+import math
+import sys
+import warnings
+from collections.abc import Callable, Sequence
+from contextlib import contextmanager
+from enum import IntEnum
+from pathlib import Path
+from typing import Any, Iterator
+
+from .errors import BenchError, BenchWarning, MissingDependencyError
+
+__all__ = ["main", "build_parser", "ExitStatus"]
+
+
+class ExitStatus(IntEnum):
+    OK = 0
+    CHECK_FAILED = 1
+    BAD_INPUT = 2
+    MISSING_DEPENDENCY = 3
+    INTERRUPTED = 130
+
+
+# -- argument types: validate at the boundary -------------------------------------------
+def _number(text: str, what: str, ok: Callable[[float], bool]) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a number ({what})") from None
+    if not (math.isfinite(value) and ok(value)):
+        raise argparse.ArgumentTypeError(f"{text!r} is not {what}")
+    return value
+
+
+def positive_ohm(text: str) -> float:
+    return _number(text, "a resistance > 0 ohm", lambda v: v > 0)
+
+
+def positive_volts(text: str) -> float:
+    return _number(text, "a voltage > 0 V", lambda v: v > 0)
+
+
+def positive_hz(text: str) -> float:
+    return _number(text, "a positive frequency in Hz", lambda v: v > 0)
+
+
+def non_negative_hz(text: str) -> float:
+    return _number(text, "a frequency >= 0 Hz", lambda v: v >= 0)
+
+
+def kelvin(text: str) -> float:
+    return _number(text, "a temperature above 0 K", lambda v: v > 0)
+
+
+def finite_db(text: str) -> float:
+    return _number(text, "a finite number of dB", lambda v: True)
+
+
+def channel_index(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a channel number (0, 1, ...)") from None
+    if value < 0:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a channel number: channels count from 0")
+    return value
+
+
+def segment_samples(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number of samples") from None
+    if value < 64:
+        raise argparse.ArgumentTypeError(f"{text!r}: a segment needs at least 64 samples")
+    return value
+
+
+# -- helpers ------------------------------------------------------------------------------
+@contextmanager
+def _progress(total_frames: int, *, quiet: bool, label: str) -> Iterator[Callable[[int], None] | None]:
+    """A tqdm bar on stderr, only when stderr is a terminal and not --quiet."""
+    if quiet or not sys.stderr.isatty():
+        yield None
+        return
+    from tqdm import tqdm
+    bar = tqdm(total=total_frames, unit="frame", unit_scale=True, desc=label, leave=False,
+               file=sys.stderr)
+    try:
+        yield bar.update
+    finally:
+        bar.close()
+
+
+def _print_warnings(caught: list[warnings.WarningMessage]) -> None:
+    for w in caught:
+        if issubclass(w.category, BenchWarning):
+            print(f"benchnf: warning: {w.message}", file=sys.stderr)
+
+
+def _load_calibration(args: argparse.Namespace):
+    if getattr(args, "calibration", None) is None:
+        return None
+    from .calibration import Calibration
+    return Calibration.load(args.calibration)
+
+
+def _open(path: Path | None, *, condition: str | None, args: argparse.Namespace, cal,
+          channel: int | None = None):
+    """Open a capture with the calibration that applies: --volts-per-fs, --calibration, sidecar."""
+    if path is None:
+        return None
+    from .calibration import apply_calibration
+    from .io import open_capture
+    cap = open_capture(path, channel=args.channel if channel is None else channel,
+                       condition=condition, volts_per_fs=args.volts_per_fs)
+    if args.volts_per_fs is None and cal is not None:
+        cap = apply_calibration(cap, cal)
+    return cap
+
+
+# -- subcommands ------------------------------------------------------------------------
+def run_calibrate(args: argparse.Namespace) -> int:
+    from .calibration import calibrate_from_tone
+    from .io import open_capture
+    from .report.json_out import check_output_path
+    out = Path(args.output)
+    check_output_path(out, [Path(args.reference)])
+    if out.exists():
+        raise BenchError(f"{out} exists already: give another -o name (nothing was overwritten)")
+    ref = open_capture(args.reference, channel=args.channel, condition=None)
+    band = tuple(args.meter_band) if args.meter_band else None
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", BenchWarning)
+        kwargs: dict[str, Any] = {"vrms": args.vrms, "frequency_hz": args.tone_hz}
+        if band is not None:
+            kwargs["meter_band_hz"] = band
+        cal = calibrate_from_tone(ref, **kwargs)
+    _print_warnings(caught)
+    cal.save(out)
+    print(f"{cal.volts_per_fs:.6g} V per full scale on channel {cal.channel} at "
+          f"{cal.sample_rate_hz:g} Hz (tone {cal.reference_frequency_hz:.1f} Hz, "
+          f"{cal.reference_level_dbfs:.1f} dBFS, {cal.reference_vrms:g} V RMS stated); "
+          f"written to {out}")
+    return ExitStatus.OK
+
+
+def _gain_setup(args: argparse.Namespace, cal):
+    from .analysis import GainSetup
+    tone = _open(args.tone, condition="tone", args=args, cal=cal)
+    response = None
+    if args.response is not None:
+        from .io import open_capture
+        response = open_capture(args.response, channel=args.response_channels[1])
+    vin = args.tone_input_vrms
+    if tone is not None and vin is None and args.tone_input_channel is None:
+        vin = tone.metadata.get("tone_input_vrms")
+    return GainSetup(tone=tone, tone_input_vrms=vin, tone_input_channel=args.tone_input_channel,
+                     tone_frequency_hz=args.tone_hz, gain_db=args.gain_db,
+                     gain_frequency_hz=args.gain_frequency_hz, response=response,
+                     response_channels=tuple(args.response_channels), zin_ohm=args.zin_ohm)
+
+
+def run_analyze(args: argparse.Namespace) -> int:
+    from .analysis import analyze_gain_method
+    from .dsp.weighting import Band
+    from .report.json_out import check_output_path, write_json
+    from .report.text import format_summary
+
+    inputs = [args.terminated, args.floor, args.shorted, args.tone, args.response]
+    if args.json:
+        check_output_path(args.json, inputs)
+    cal = _load_calibration(args)
+    terminated = _open(args.terminated, condition="terminated", args=args, cal=cal)
+    floor = _open(args.floor, condition="floor", args=args, cal=cal)
+    shorted = _open(args.shorted, condition="shorted", args=args, cal=cal)
+    gain = _gain_setup(args, cal)
+    rs = args.rs if args.rs is not None else terminated.metadata.get("rs_ohm")
+    if rs is None:
+        raise BenchError("give the source resistance with --rs OHM (the terminated capture's "
+                         "sidecar does not state it)")
+    temperature = (args.temperature_k if args.temperature_k is not None
+                   else terminated.metadata.get("temperature_k", 290.0))
+    band = Band(*args.band)
+    total = sum(c.n_frames for c in (terminated, floor, shorted) if c is not None)
+    with warnings.catch_warnings(record=True) as caught, \
+            _progress(total, quiet=args.quiet, label="analysing") as tick:
+        warnings.simplefilter("always", BenchWarning)
+        result = analyze_gain_method(terminated=terminated, floor=floor, shorted=shorted, gain=gain,
+                                     rs_ohm=float(rs), temperature_k=float(temperature), band=band,
+                                     weighting=args.weighting, segment_length=args.segment,
+                                     progress=tick)
+    _print_warnings(caught)
+    print(format_summary(result), end="")
+    if args.json:
+        write_json(result.to_dict(), args.json)
+        print(f"\nJSON written to {args.json}")
+    if args.plot:
+        from .report.plots import save_plots
+        paths = save_plots(result, args.plot)
+        print(f"plots written to {Path(args.plot)}/: " + ", ".join(p.name for p in paths))
+    return ExitStatus.OK
+
+
+def run_demo(args: argparse.Namespace) -> int:
+    from .demo import run_demo as demo
+    demo(output=args.output, quiet=args.quiet)
+    return ExitStatus.OK
+
+
+# -- parser -------------------------------------------------------------------------------
+def _common(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--quiet", action="store_true", help="no progress bar")
+    p.add_argument("--traceback", action="store_true", help="show the full traceback on errors")
+
+
+def _calibration_options(p: argparse.ArgumentParser) -> None:
+    g = p.add_mutually_exclusive_group()
+    g.add_argument("--volts-per-fs", type=positive_volts, metavar="V",
+                   help="volts that a sample value of 1.0 represents at the analyzer input")
+    g.add_argument("--calibration", type=Path, metavar="CAL.json",
+                   help="a calibration file written by 'benchnf calibrate'")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="benchnf",
+        description="Gain, noise density, EIN and noise figure of low-noise amplifiers from "
+                    "sound-card captures.",
+        epilog="Run 'benchnf demo' to analyse the shipped demo captures. Exit status: 0 done, "
+               "1 a limit failed, 2 bad input, 3 missing dependency, 130 interrupted.")
+    from . import __version__
+    parser.add_argument("--version", action="version", version=f"benchnf {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", required=True)
+
+    p = sub.add_parser("analyze", help="gain-method noise analysis of captures",
+                       description="Gain, input-referred noise density, EIN and noise figure "
+                                   "from a terminated-input capture and a tone (or stated gain).")
+    p.add_argument("--terminated", type=Path, required=True, metavar="FILE",
+                   help="DUT output with its input terminated in Rs")
+    p.add_argument("--floor", type=Path, metavar="FILE",
+                   help="analyzer alone with its input terminated (subtracted in linear power)")
+    p.add_argument("--shorted", type=Path, metavar="FILE",
+                   help="DUT output with its input shorted (voltage noise alone)")
+    g = p.add_mutually_exclusive_group(required=True)
+    g.add_argument("--tone", type=Path, metavar="FILE", help="DUT output driven by a known sine")
+    g.add_argument("--gain-db", type=finite_db, metavar="G",
+                   help="stated voltage gain from source EMF to output, dB")
+    p.add_argument("--tone-input-vrms", type=positive_volts, metavar="V",
+                   help="RMS of the tone at the source EMF (default: the tone sidecar's "
+                        "tone_input_vrms)")
+    p.add_argument("--tone-input-channel", type=channel_index, metavar="N",
+                   help="the tone capture's channel that records the DUT input (two-channel gain)")
+    p.add_argument("--tone-hz", type=positive_hz, metavar="F",
+                   help="stated tone frequency; the tone must be found there")
+    p.add_argument("--gain-frequency-hz", type=positive_hz, default=1000.0, metavar="F",
+                   help="frequency a --gain-db holds at (default 1000)")
+    p.add_argument("--response", type=Path, metavar="FILE",
+                   help="two-channel capture of a broadband stimulus, DUT input and output, "
+                        "for the shape of the response")
+    p.add_argument("--response-channels", type=channel_index, nargs=2, default=[0, 1],
+                   metavar=("IN", "OUT"), help="channels of --response (default 0 1)")
+    p.add_argument("--zin-ohm", type=positive_ohm, metavar="OHM",
+                   help="DUT input impedance, when the tone level was taken at the DUT's terminals")
+    p.add_argument("--rs", type=positive_ohm, metavar="OHM",
+                   help="source resistance (default: the terminated sidecar's rs_ohm)")
+    p.add_argument("--temperature-k", type=kelvin, metavar="K",
+                   help="the source resistor's temperature (default: sidecar, else 290 K)")
+    p.add_argument("--band", type=non_negative_hz, nargs=2, default=[20.0, 20_000.0],
+                   metavar=("LO", "HI"), help="integration band in Hz (default 20 20000)")
+    p.add_argument("--weighting", choices=["none", "A"], default="none",
+                   help="frequency weighting (IEC 61672-1 A) of band figures")
+    p.add_argument("--segment", type=segment_samples, metavar="N",
+                   help="Welch segment length in samples (default about 10 Hz bins)")
+    p.add_argument("--channel", type=channel_index, metavar="N",
+                   help="channel of the noise and tone captures (default: sidecar, else 0)")
+    _calibration_options(p)
+    p.add_argument("--json", type=Path, metavar="OUT.json", help="write the results as JSON")
+    p.add_argument("--plot", type=Path, metavar="DIR", help="write PNG plots into DIR")
+    _common(p)
+    p.set_defaults(run=run_analyze)
+
+    p = sub.add_parser("calibrate", help="volts per full scale from a reference tone",
+                       description="Compute volts per full scale from a capture of a sine whose "
+                                   "RMS voltage was read on a meter.")
+    p.add_argument("reference", type=Path, metavar="REF", help="capture of the reference tone")
+    p.add_argument("--vrms", type=positive_volts, required=True, metavar="V",
+                   help="the tone's RMS voltage as read on the meter")
+    p.add_argument("--channel", type=channel_index, metavar="N", help="channel (default 0)")
+    p.add_argument("--tone-hz", type=positive_hz, metavar="F", help="stated tone frequency")
+    p.add_argument("--meter-band", type=positive_hz, nargs=2, metavar=("LO", "HI"),
+                   help="band where the meter reads true (default 50 640 Hz)")
+    p.add_argument("-o", "--output", type=Path, required=True, metavar="CAL.json",
+                   help="calibration file to write (never overwritten)")
+    _common(p)
+    p.set_defaults(run=run_calibrate)
+
+    p = sub.add_parser("demo", help="analyse the shipped demo captures",
+                       description="Calibrate and analyse the demo captures (invented data) and "
+                                   "write a results folder.")
+    p.add_argument("-o", "--output", type=Path, default=Path("benchnf-results"), metavar="DIR",
+                   help="results folder (default ./benchnf-results; a new numbered one if taken)")
+    _common(p)
+    p.set_defaults(run=run_demo)
+    return parser
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    try:
+        return int(args.run(args))
+    except KeyboardInterrupt:
+        print("benchnf: interrupted", file=sys.stderr)
+        return ExitStatus.INTERRUPTED
+    except BenchError as err:
+        if args.traceback:
+            raise
+        print(f"benchnf: error: {err}", file=sys.stderr)
+        return (ExitStatus.MISSING_DEPENDENCY if isinstance(err, MissingDependencyError)
+                else ExitStatus.BAD_INPUT)

@@ -1,0 +1,128 @@
+"""Plots of an analysis.  Each function takes ``ax=None``, returns the Axes, never shows.
+
+matplotlib is imported only here, and only when a plot is asked for.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from .._optional import require
+from ..analysis import AnalysisResult
+from ..units import thermal_density_v2_per_hz
+
+if TYPE_CHECKING:  # pragma: no cover
+    from matplotlib.axes import Axes
+
+__all__ = ["plot_output_spectrum", "plot_input_density", "plot_noise_figure", "save_plots"]
+
+
+def _axes(ax):
+    if ax is None:
+        plt = require("matplotlib.pyplot", extra=None, purpose="plotting")
+        _, ax = plt.subplots(figsize=(8, 5), layout="constrained")
+    return ax
+
+
+def _decorate(ax, r: AnalysisResult, title: str) -> None:
+    lo, hi = r.band_hz
+    ax.axvspan(lo, hi, color="0.93", zorder=0, label=f"band {lo:g}-{hi:g} Hz")
+    ax.set_xscale("log")
+    ax.set_xlim(max(r.spectra["frequency_hz"][1], 1.0), r.sample_rate_hz / 2)
+    ax.grid(True, which="both", alpha=0.3)
+    ax.set_xlabel("Frequency (Hz)")
+    if ax.get_yscale() == "log":
+        from matplotlib.ticker import FuncFormatter
+        plain = FuncFormatter(lambda v, _pos: f"{v:g}")
+        ax.yaxis.set_major_formatter(plain)
+        ax.yaxis.set_minor_formatter(plain)
+    ax.set_title(title, fontsize=11)
+    ax.legend(fontsize=8, loc="best")
+
+
+def _sel(r: AnalysisResult):
+    f = r.spectra["frequency_hz"]
+    return f, f > 0
+
+
+def plot_output_spectrum(r: AnalysisResult, *, ax: "Axes | None" = None) -> "Axes":
+    """Output noise density with the analyzer floor and the floor-subtracted curve."""
+    ax = _axes(ax)
+    f, s = _sel(r)
+    ax.loglog(f[s], np.sqrt(r.spectra["output_v2_per_hz"][s]) * 1e9, color="tab:blue", lw=0.8,
+              label="DUT output, as measured")
+    if r.spectra["floor_v2_per_hz"] is not None:
+        ax.loglog(f[s], np.sqrt(r.spectra["floor_v2_per_hz"][s]) * 1e9, color="0.45", lw=0.8,
+                  label="analyzer floor")
+        ax.loglog(f[s], np.sqrt(r.spectra["output_corrected_v2_per_hz"][s]) * 1e9, color="tab:orange",
+                  lw=0.8, alpha=0.8, label="DUT output, floor subtracted")
+    ax.set_ylabel("Output noise density (nV/\u221aHz)")
+    _decorate(ax, r, f"Output spectrum  (RBW {r.rbw_hz:.1f} Hz, {r.n_averages} averages)")
+    return ax
+
+
+def plot_input_density(r: AnalysisResult, *, ax: "Axes | None" = None) -> "Axes":
+    """Input-referred noise density with the source resistor's thermal line."""
+    ax = _axes(ax)
+    f, s = _sel(r)
+    ax.loglog(f[s], np.sqrt(r.spectra["input_v2_per_hz"][s]) * 1e9, color="tab:blue", lw=0.7,
+              alpha=0.6, label=f"input-referred, Rs = {r.rs_ohm:g} \u03a9")
+    spot_f = [p.freq_hz for p in r.spot if p.input_density_v_per_rthz]
+    spot_v = [p.input_density_v_per_rthz * 1e9 for p in r.spot if p.input_density_v_per_rthz]
+    ax.loglog(spot_f, spot_v, "o", color="tab:blue", ms=4, label="1/3-octave means")
+    if r.spectra["voltage_noise_v2_per_hz"] is not None:
+        ax.loglog(f[s], np.sqrt(r.spectra["voltage_noise_v2_per_hz"][s]) * 1e9, color="tab:green",
+                  lw=0.7, alpha=0.7, label="voltage noise (input shorted)")
+    thermal = np.sqrt(thermal_density_v2_per_hz(resistance_ohm=r.rs_ohm,
+                                                temperature_k=r.temperature_k)) * 1e9
+    ax.axhline(thermal, color="tab:red", ls="--", lw=1.0,
+               label=f"\u221a(4kTRs) = {thermal:.3f} nV/\u221aHz at {r.temperature_k:.1f} K")
+    ax.set_ylabel("Input-referred noise density (nV/\u221aHz)")
+    weighting = "unweighted" if r.weighting == "none" else f"{r.weighting}-weighted"
+    _decorate(ax, r, f"Input-referred noise  (EIN {r.ein_dbu:.2f} dBu {weighting}, "
+                     f"{r.band_hz[0]:g}-{r.band_hz[1]:g} Hz)")
+    return ax
+
+
+def plot_noise_figure(r: AnalysisResult, *, ax: "Axes | None" = None) -> "Axes":
+    """Spot noise figure against frequency, with the band figure."""
+    ax = _axes(ax)
+    f, s = _sel(r)
+    ax.semilogx(f[s], r.spectra["noise_figure_db"][s], color="tab:purple", lw=0.6, alpha=0.5,
+                label="per bin")
+    spot_f = [p.freq_hz for p in r.spot if p.noise_figure_db is not None]
+    spot_nf = [p.noise_figure_db for p in r.spot if p.noise_figure_db is not None]
+    ax.semilogx(spot_f, spot_nf, "o-", color="tab:purple", ms=4, lw=1.2, label="1/3-octave means")
+    ax.axhline(r.noise_figure_db, color="k", ls=":", lw=1.0,
+               label=f"band NF {r.noise_figure_db:.2f} dB")
+    finite = np.asarray(spot_nf, dtype=float)
+    top = float(np.nanmax(finite)) if finite.size else 10.0
+    ax.set_ylim(0.0, max(top * 1.3, 1.0))
+    ax.set_ylabel("Noise figure (dB)")
+    _decorate(ax, r, f"Noise figure at Rs = {r.rs_ohm:g} \u03a9, T = {r.temperature_k:.1f} K "
+                     f"(T0 = 290 K)")
+    return ax
+
+
+def save_plots(r: AnalysisResult, folder: str | Path) -> list[Path]:
+    """Write the three PNGs into `folder` (created if needed) and return their paths."""
+    require("matplotlib", extra=None, purpose="plotting")
+    import matplotlib
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+    folder = Path(folder)
+    folder.mkdir(parents=True, exist_ok=True)
+    out = []
+    for name, fn in (("output_spectrum.png", plot_output_spectrum),
+                     ("input_density.png", plot_input_density),
+                     ("noise_figure.png", plot_noise_figure)):
+        fig, ax = plt.subplots(figsize=(8, 5), layout="constrained")
+        fn(r, ax=ax)
+        path = folder / name
+        fig.savefig(path, dpi=110)
+        plt.close(fig)
+        out.append(path)
+    return out
