@@ -23,6 +23,32 @@ def _soundfile():
     return require("soundfile", extra=None, purpose="reading audio captures")
 
 
+def _wav_data_shortfall(path: Path) -> int | None:
+    """Bytes missing from a RIFF/WAVE file's data chunk (0 if complete; None if not a RIFF WAV).
+
+    libsndfile quietly shortens a truncated WAV to what is there, so the header
+    is read here: a data chunk that declares more bytes than the file holds is
+    a truncated recording.  A size of 0 or 0xFFFFFFFF (left by a recorder that
+    was stopped before it could finish the header) is not judged.
+    """
+    import struct
+    size = path.stat().st_size
+    with open(path, "rb") as fh:
+        head = fh.read(12)
+        if len(head) < 12 or head[:4] != b"RIFF" or head[8:12] != b"WAVE":
+            return None
+        pos = 12
+        while pos + 8 <= size:
+            fh.seek(pos)
+            chunk_id, chunk_size = struct.unpack("<4sI", fh.read(8))
+            if chunk_id == b"data":
+                if chunk_size in (0, 0xFFFFFFFF):
+                    return 0
+                return max(0, pos + 8 + chunk_size - size)
+            pos += 8 + chunk_size + (chunk_size & 1)
+    return 0
+
+
 def open_capture(path: str | Path, *, channel: int | None = None, condition: str | None = None,
                  volts_per_fs: float | None = None) -> Capture:
     """Open an audio capture file for block-wise reading.
@@ -58,6 +84,10 @@ def open_capture(path: str | Path, *, channel: int | None = None, condition: str
                            f"or AIFF file") from err
     if info.frames <= 0:
         raise CaptureError(f"{path} holds no samples: record it again")
+    missing = _wav_data_shortfall(path)
+    if missing:
+        raise CaptureError(f"{path} is truncated: its header promises {missing} more bytes of "
+                           f"samples than the file holds; copy it again or record it again")
     meta = read_sidecar(path)
     side_condition = meta.get("condition")
     if condition is not None and side_condition is not None and side_condition != condition:

@@ -1,0 +1,3 @@
+"""Root pytest configuration: keep module-level scripts out of doctest collection."""
+
+collect_ignore = ["benchnf/__main__.py", "captures_demo/generate.py"]

@@ -1,0 +1,131 @@
+"""Capture files, sidecars and calibration files (seeded synthetic data, INVENTED)."""
+
+import json
+import math
+import warnings
+
+import numpy as np
+import pytest
+import soundfile as sf
+
+from benchnf.calibration import Calibration, apply_calibration, calibrate_from_tone
+from benchnf.capture import Capture, SampleStats
+from benchnf.errors import CalibrationError, CalibrationWarning, CaptureError
+from benchnf.io import open_capture, read_sidecar, write_sidecar
+
+
+def _stereo(tmp_path, name="two.flac", seconds=2.0):
+    rng = np.random.default_rng(0)
+    x = np.column_stack((rng.normal(0, 0.01, int(48_000 * seconds)),
+                         rng.normal(0, 0.02, int(48_000 * seconds))))
+    p = tmp_path / name
+    sf.write(p, x, 48_000, subtype="PCM_24")
+    return p, sf.read(p)[0]
+
+
+def test_blocks_read_the_chosen_channel_exactly(tmp_path):
+    p, x = _stereo(tmp_path)
+    cap = open_capture(p, channel=1)
+    assert (cap.n_channels, cap.n_frames, cap.sample_rate_hz) == (2, x.shape[0], 48_000.0)
+    blocks = list(cap.blocks(10_000))
+    assert max(b.size for b in blocks) == 10_000
+    np.testing.assert_array_equal(np.concatenate(blocks), x[:, 1])
+    np.testing.assert_array_equal(cap.read(channel=0, max_frames=123), x[:123, 0])
+
+
+def test_sidecar_supplies_metadata_and_must_agree(tmp_path):
+    p, _ = _stereo(tmp_path)
+    write_sidecar(p, {"condition": "floor", "volts_per_fs": 1.5, "channel": 1})
+    cap = open_capture(p)
+    assert (cap.condition, cap.volts_per_fs, cap.channel) == ("floor", 1.5, 1)
+    assert cap.metadata["volts_per_fs"] == 1.5
+    with pytest.raises(CaptureError, match="given as a 'terminated' capture but its sidecar says"):
+        open_capture(p, condition="terminated")
+    with pytest.raises(CaptureError, match="exists already"):
+        write_sidecar(p, {"condition": "floor"})
+    (tmp_path / "two.flac.json").write_text("{}")
+    with pytest.raises(CaptureError, match="has two sidecars"):
+        read_sidecar(p)
+
+
+@pytest.mark.parametrize(("text", "pattern"), [("{nope", "not readable JSON"), ("[1]", "JSON object"),
+                                               ('{"condition": "warm"}', "not one of"),
+                                               ('{"rs_ohm": -1}', "non-negative number")])
+def test_bad_sidecars_are_refused(tmp_path, text, pattern):
+    p, _ = _stereo(tmp_path)
+    (tmp_path / "two.json").write_text(text)
+    with pytest.raises(CaptureError, match=pattern):
+        open_capture(p)
+
+
+def test_truncated_flac_is_reported_when_read(tmp_path):
+    p, _ = _stereo(tmp_path, seconds=4.0)
+    data = p.read_bytes()
+    cut = tmp_path / "cut.flac"
+    cut.write_bytes(data[: len(data) // 3])
+    cap = open_capture(cut)
+    with pytest.raises(CaptureError, match="could not be read to the end|truncated"):
+        for _ in cap.blocks():
+            pass
+
+
+def test_array_captures_are_read_only_and_checked():
+    cap = Capture.from_array(np.ones(10), sample_rate_hz=10.0)
+    block = next(cap.blocks())
+    assert not block.flags.writeable
+    with pytest.raises(ValueError, match="channel 2 does not exist"):
+        Capture.from_array(np.ones((10, 2)), sample_rate_hz=10.0, channel=2)
+    with pytest.raises(CalibrationError, match="must be a positive number"):
+        Capture.from_array(np.ones(10), sample_rate_hz=10.0, volts_per_fs=0.0)
+
+
+def test_sample_stats_counts_clipping_at_16_and_24_bit_rails():
+    stats = SampleStats(label="x")
+    stats.update(np.array([0.1, 32767 / 32768, -1.0, (2 ** 23 - 1) / 2 ** 23, 0.5]))
+    assert stats.n_clipped == 3
+    with pytest.raises(CaptureError, match="clipped"):
+        stats.check_noise()
+
+
+def _tone_file(tmp_path, f_hz, vpfs=1.7, vrms=0.3, name="ref.wav"):
+    t = np.arange(96_000) / 48_000.0
+    x = vrms * math.sqrt(2) / vpfs * np.sin(2 * np.pi * f_hz * t)
+    x += np.random.default_rng(0).normal(0, 1e-5, t.size)
+    p = tmp_path / name
+    sf.write(p, x, 48_000, subtype="PCM_24")
+    return p
+
+
+def test_calibration_recovers_volts_per_fs_and_round_trips(tmp_path):
+    cal = calibrate_from_tone(open_capture(_tone_file(tmp_path, 400.0)), vrms=0.3)
+    assert cal.volts_per_fs == pytest.approx(1.7, rel=1e-5)
+    path = cal.save(tmp_path / "cal.json")
+    assert Calibration.load(path) == cal
+    with pytest.raises(CalibrationError, match="exists already"):
+        cal.save(path)
+
+
+def test_calibration_warns_outside_the_meter_band(tmp_path):
+    cap = open_capture(_tone_file(tmp_path, 10_000.0))
+    with pytest.warns(CalibrationWarning, match="outside the meter's trusted band"):
+        calibrate_from_tone(cap, vrms=0.3)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", CalibrationWarning)
+        calibrate_from_tone(cap, vrms=0.3, meter_band_hz=(20.0, 20_000.0))
+
+
+def test_calibration_applies_only_to_its_rate_and_channel(tmp_path):
+    cal = calibrate_from_tone(open_capture(_tone_file(tmp_path, 400.0)), vrms=0.3)
+    other = Capture.from_array(np.ones(100), sample_rate_hz=44_100.0)
+    with pytest.raises(CalibrationError, match="calibration was made at 48000 Hz"):
+        apply_calibration(other, cal)
+    two = Capture.from_array(np.ones((100, 2)), sample_rate_hz=48_000.0, channel=1)
+    with pytest.raises(CalibrationError, match="calibration is for channel 0"):
+        apply_calibration(two, cal)
+
+
+def test_foreign_json_is_not_a_calibration(tmp_path):
+    p = tmp_path / "x.json"
+    p.write_text(json.dumps({"volts_per_fs": 1.0}))
+    with pytest.raises(CalibrationError, match="not a benchnf calibration file"):
+        Calibration.load(p)
