@@ -5,8 +5,8 @@ The public names are imported on first use, so that ``import benchnf`` (and
 hardware.
 
 >>> import benchnf
->>> benchnf.units.vrms_to_dbu(0.775).round(2)
-np.float64(0.0)
+>>> round(float(benchnf.units.vrms_to_dbu(0.775)), 2)
+0.0
 """
 
 from __future__ import annotations

@@ -31,7 +31,7 @@ __all__ = ["GainSetup", "GainEstimate", "SpotValue", "AnalysisResult", "analyze_
            "measure_gain", "capture_psd", "SCHEMA_VERSION"]
 
 SCHEMA_VERSION = "1"
-_MAX_TONE_SECONDS = 10.0
+_MAX_TONE_FRAMES = 1 << 18  # 2.7 s at 96 kHz: ample for a tone level, cheap to fit
 
 Progress = Callable[[int], None]
 
@@ -226,7 +226,7 @@ def capture_psd(capture: Capture, *, segment_length: int, progress: Progress | N
 
 def _tone_fit(capture: Capture, channel: int, expected_hz: float | None):
     from .dsp.tones import fit_sine, locate_tone
-    samples = capture.read(channel=channel, max_frames=int(_MAX_TONE_SECONDS * capture.sample_rate_hz))
+    samples = capture.read(channel=channel, max_frames=_MAX_TONE_FRAMES)
     stats = SampleStats(label=f"{capture.label} channel {channel}")
     stats.update(samples)
     stats.check_tone()

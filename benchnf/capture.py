@@ -180,16 +180,20 @@ class SampleStats:
 
     def update(self, block: NDArray[np.float64]) -> None:
         """Add one block of samples."""
-        finite = np.isfinite(block)
-        if not finite.all():
-            self.n_nonfinite += int(block.size - np.count_nonzero(finite))
-            block = block[finite]
         if block.size == 0:
             return
+        total = float(block.sum())
+        if not math.isfinite(total):  # a NaN or infinity anywhere makes the sum non-finite
+            finite = np.isfinite(block)
+            self.n_nonfinite += int(block.size - np.count_nonzero(finite))
+            block = block[finite]
+            if block.size == 0:
+                return
+            total = float(block.sum())
         self.n += block.size
-        self.sum_fs += float(block.sum())
+        self.sum_fs += total
         self.sum_sq_fs2 += float(np.dot(block, block))
-        peak = float(np.max(np.abs(block)))
+        peak = max(float(block.max()), -float(block.min()))
         self.peak_fs = max(self.peak_fs, peak)
         if peak >= CLIP_LEVEL_FS:
             self.n_clipped += int(np.count_nonzero(np.abs(block) >= CLIP_LEVEL_FS))

@@ -18,6 +18,7 @@ from ..errors import MeasurementError, ParameterError
 __all__ = ["SineFit", "fit_sine", "locate_tone"]
 
 _MIN_TONE_SNR_DB = 20.0
+_FREQUENCY_FIT_SAMPLES = 1 << 16
 
 
 @dataclass(frozen=True)
@@ -126,7 +127,9 @@ def fit_sine(samples: ArrayLike, *, sample_rate_hz: float, frequency_hz: float |
     ``sum (x_n - A cos(w t_n) - B sin(w t_n) - C)^2`` over A, B, C (linear
     least squares).  Four-parameter fit: Gauss-Newton on (A, B, C, w),
     linearising with the column ``t (-A sin(w t) + B cos(w t))``, started
-    from the three-parameter fit at the located frequency.
+    from the three-parameter fit at the located frequency, on the central
+    65536 samples at most; the amplitude, phase and offset then come from a
+    three-parameter fit on all samples at the fitted frequency.
 
     Parameters
     ----------
@@ -170,21 +173,25 @@ def fit_sine(samples: ArrayLike, *, sample_rate_hz: float, frequency_hz: float |
     t = np.arange(x.size) / sample_rate_hz
     t_mid = t - t[x.size // 2]  # centred time keeps the frequency column well conditioned
     omega = 2 * math.pi * frequency_hz
-    coef, *_ = np.linalg.lstsq(_design(t_mid, omega), x, rcond=None)
     if fit_frequency:
+        # Gauss-Newton on the central _FREQUENCY_FIT_SAMPLES at most: plenty to pin the
+        # frequency; the amplitude then comes from a three-parameter fit on every sample.
+        half = min(x.size, _FREQUENCY_FIT_SAMPLES) // 2
+        mid = slice(x.size // 2 - half, x.size // 2 + half)
+        xs, ts = x[mid], t_mid[mid]
+        coef, *_ = np.linalg.lstsq(_design(ts, omega), xs, rcond=None)
         for _ in range(max_iterations):
             a, b, _c = coef
-            phase = omega * t_mid
+            phase = omega * ts
             cos_p, sin_p = np.cos(phase), np.sin(phase)
-            design = np.column_stack((cos_p, sin_p, np.ones_like(t_mid),
-                                      t_mid * (-a * sin_p + b * cos_p)))
-            sol, *_ = np.linalg.lstsq(design, x, rcond=None)
+            design = np.column_stack((cos_p, sin_p, np.ones_like(ts), ts * (-a * sin_p + b * cos_p)))
+            sol, *_ = np.linalg.lstsq(design, xs, rcond=None)
             step = float(sol[3])
             coef = sol[:3]
             omega += step
             if abs(step) < 1e-12 * omega:
                 break
-        coef, *_ = np.linalg.lstsq(_design(t_mid, omega), x, rcond=None)
+    coef, *_ = np.linalg.lstsq(_design(t_mid, omega), x, rcond=None)
     design = _design(t_mid, omega)
     residual = x - design @ coef
     a, b, c = (float(v) for v in coef)

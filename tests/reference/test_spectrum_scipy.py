@@ -98,3 +98,19 @@ def test_too_short_a_capture_is_refused():
     from benchnf.errors import MeasurementError
     with pytest.raises(MeasurementError, match="shorter than one analysis segment"):
         welch_psd(np.ones(100), sample_rate_hz=1000.0, segment_length=256)
+
+
+@pytest.mark.parametrize("backend", ["numpy", "fftw"])
+def test_both_fft_backends_match_scipy(backend, monkeypatch):
+    if backend == "fftw":
+        pytest.importorskip("pyfftw")
+        monkeypatch.delenv("BENCHNF_FFT", raising=False)
+    else:
+        monkeypatch.setenv("BENCHNF_FFT", "numpy")
+    x = np.random.default_rng(9).normal(0, 1e-4, 300_000) + 0.3 * np.sin(np.arange(300_000) * 0.2)
+    acc = WelchAccumulator(sample_rate_hz=96_000.0, segment_length=8192)
+    assert acc.fft_backend == backend
+    for i in range(0, x.size, 50_000):
+        acc.update(x[i:i + 50_000])
+    _, ref = signal.welch(x, fs=96_000.0, nperseg=8192)
+    np.testing.assert_allclose(acc.result().psd_per_hz[1:], ref[1:], rtol=1e-9)
