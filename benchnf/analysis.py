@@ -24,7 +24,7 @@ from .dsp.weighting import Band, weighting_power_gain
 from .errors import BenchWarning, CaptureError, MeasurementError, ParameterError
 from .noise.floor import FloorSubtraction, band_relative_std, check_band_margin, subtract_floor
 from .noise.gain_method import (band_noise_factor, band_rms, check_source, spot_means,
-                                spot_noise_factor, third_octave_centres_hz)
+                                spot_noise_factor, third_octave_centres_hz, third_octave_weights)
 from .units import T0_K, power_db, thermal_vrms, vrms_to_dbu, vrms_to_dbv
 
 __all__ = ["GainSetup", "GainEstimate", "SpotValue", "AnalysisResult", "analyze_gain_method",
@@ -431,14 +431,14 @@ def analyze_gain_method(*, terminated: Capture, gain: GainSetup, rs_ohm: float,
     # A spot band narrower than one bin would only repeat its neighbour's value.
     centres = [c for c in third_octave_centres_hz(spot_band)
                if c[1] * (10 ** (1 / 20) - 10 ** (-1 / 20)) >= p_term.bin_width_hz]
-    e2_spot = spot_means(f, e2_diff, centres)
-    out_spot = spot_means(f, out_diff, centres)
+    spot_w = [third_octave_weights(f, exact) for _label, exact in centres]
+    e2_spot = spot_means(spot_w, e2_diff)
+    out_spot = spot_means(spot_w, out_diff)
     nf_spot = spot_noise_factor(e2_spot, rs_ohm=rs_ohm, temperature_k=temperature_k)
-    en_spot = spot_means(f, en_diff, centres) if en_diff is not None else None
+    en_spot = spot_means(spot_w, en_diff) if en_diff is not None else None
     spots = []
     low_margin = []
-    for i, (label, exact) in enumerate(centres):
-        w_s = band_bin_weights(f, Band(exact * 10 ** (-1 / 20), exact * 10 ** (1 / 20)))
+    for i, ((label, _exact), w_s) in enumerate(zip(centres, spot_w)):
         ok = _resolved(w_s, p_term, p_floor, out_diff) and e2_spot[i] > 0
         m_db = (float(power_db(np.dot(w_s, p_term.psd_per_hz) / np.dot(w_s, p_floor.psd_per_hz)))
                 if p_floor is not None else None)

@@ -42,7 +42,7 @@ from ..errors import ParameterError
 from ..units import BOLTZMANN_J_PER_K, T0_K, thermal_density_v2_per_hz
 
 __all__ = ["spot_noise_factor", "band_noise_factor", "band_rms", "third_octave_centres_hz",
-           "spot_means", "check_source"]
+           "third_octave_weights", "spot_means", "check_source"]
 
 
 def check_source(*, rs_ohm: float, temperature_k: float) -> None:
@@ -121,20 +121,19 @@ def third_octave_centres_hz(band: Band) -> list[tuple[float, float]]:
     return out
 
 
-def spot_means(frequency_hz: ArrayLike, density: ArrayLike, centres_hz: list[tuple[float, float]]
-               ) -> NDArray[np.float64]:
-    """Mean density over the one-third-octave band around each exact centre.
-
-    Bins cut by a band edge count by the fraction inside.  NaN if any bin in
-    the band is NaN (not resolved above the floor).
-    """
+def third_octave_weights(frequency_hz: ArrayLike, exact_centre_hz: float) -> NDArray[np.float64]:
+    """Bin weights of the one-third-octave band around an exact centre, ``f c 10^(+-1/20)``."""
     f = np.asarray(frequency_hz, dtype=np.float64)
+    w = band_bin_weights(f, Band(exact_centre_hz * 10 ** (-1 / 20), exact_centre_hz * 10 ** (1 / 20)))
+    if not np.any(w > 0):
+        raise ParameterError(f"no spectrum bin falls near {exact_centre_hz:.1f} Hz")
+    return w
+
+
+def spot_means(weights: list[NDArray[np.float64]], density: ArrayLike) -> NDArray[np.float64]:
+    """Mean density over each band given by its bin weights (see :func:`third_octave_weights`).
+
+    Bins cut by a band edge count by the fraction inside.
+    """
     s = np.asarray(density, dtype=np.float64)
-    out = np.empty(len(centres_hz))
-    for i, (_label, exact) in enumerate(centres_hz):
-        w = band_bin_weights(f, Band(exact * 10 ** (-1 / 20), exact * 10 ** (1 / 20)))
-        used = w > 0
-        if not used.any():
-            raise ParameterError(f"no spectrum bin falls near {exact:.1f} Hz")
-        out[i] = float(np.dot(w[used], s[used]) / w[used].sum())
-    return out
+    return np.array([float(np.dot(w, s) / w.sum()) for w in weights])
