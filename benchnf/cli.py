@@ -60,6 +60,10 @@ def kelvin(text: str) -> float:
     return _number(text, "a temperature above 0 K", lambda v: v > 0)
 
 
+def non_negative_pct(text: str) -> float:
+    return _number(text, "a number >= 0", lambda v: v >= 0)
+
+
 def finite_db(text: str) -> float:
     return _number(text, "a finite number of dB", lambda v: True)
 
@@ -171,35 +175,49 @@ def _gain_setup(args: argparse.Namespace, cal):
 
 def run_analyze(args: argparse.Namespace) -> int:
     from .analysis import analyze_gain_method
-    from .dsp.weighting import Band
+    from .dsp.weighting import BAND_PRESETS, Band
+    from .noise.uncertainty import StatedUncertainty
     from .report.json_out import check_output_path, write_json
     from .report.text import format_summary
+    from .units import dbu_to_vrms
 
-    inputs = [args.terminated, args.floor, args.shorted, args.tone, args.response]
+    inputs = [*args.terminated, args.floor, args.shorted, args.tone, args.response]
     if args.json:
         check_output_path(args.json, inputs)
     cal = _load_calibration(args)
-    terminated = _open(args.terminated, condition="terminated", args=args, cal=cal)
+    runs = [_open(t, condition="terminated", args=args, cal=cal) for t in args.terminated]
+    terminated = runs[0]
     floor = _open(args.floor, condition="floor", args=args, cal=cal)
     shorted = _open(args.shorted, condition="shorted", args=args, cal=cal)
     gain = _gain_setup(args, cal)
-    rs = args.rs if args.rs is not None else terminated.metadata.get("rs_ohm")
+    meta = getattr(terminated, "metadata", {})
+    rs = args.rs if args.rs is not None else meta.get("rs_ohm")
     if rs is None:
         raise BenchError("give the source resistance with --rs OHM (the terminated capture's "
                          "sidecar does not state it)")
-    temperature = (args.temperature_k if args.temperature_k is not None
-                   else terminated.metadata.get("temperature_k", 290.0))
-    band = Band(*args.band)
-    total = sum(c.n_frames for c in (terminated, floor, shorted) if c is not None)
+    temperature = args.temperature_k if args.temperature_k is not None else meta.get("temperature_k", 290.0)
+    if args.band_preset:
+        band = BAND_PRESETS[args.band_preset]
+    else:
+        band = Band(*(args.band or (20.0, 20_000.0)))
+    reference = args.reference_vrms
+    if args.reference_dbu is not None:
+        reference = float(dbu_to_vrms(args.reference_dbu))
+    stated = StatedUncertainty(calibration_pct=args.calibration_limit_pct, tone_level_pct=args.tone_limit_pct,
+                               resistor_pct=args.resistor_limit_pct, temperature_k=args.temperature_limit_k)
+    total = sum(getattr(c, "n_frames", 0) for c in (*runs, floor, shorted) if c is not None)
     with warnings.catch_warnings(record=True) as caught, \
             _progress(total, quiet=args.quiet, label="analysing") as tick:
         warnings.simplefilter("always", BenchWarning)
-        result = analyze_gain_method(terminated=terminated, floor=floor, shorted=shorted, gain=gain,
+        result = analyze_gain_method(terminated=runs, floor=floor, shorted=shorted, gain=gain,
                                      rs_ohm=float(rs), temperature_k=float(temperature), band=band,
-                                     weighting=args.weighting, segment_length=args.segment,
-                                     progress=tick)
+                                     weighting=args.weighting, detector=args.detector,
+                                     segment_length=args.segment, mains_hz=args.mains_hz,
+                                     flicker_range_hz=tuple(args.flicker_range) if args.flicker_range else None,
+                                     flicker_free_slope=args.flicker_free_slope, stated=stated,
+                                     reference_output_vrms=reference, progress=tick)
     _print_warnings(caught)
-    print(format_summary(result), end="")
+    print(format_summary(result, explain=args.explain), end="")
     if args.json:
         write_json(result.to_dict(), args.json)
         print(f"\nJSON written to {args.json}")
@@ -244,8 +262,9 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("analyze", help="gain-method noise analysis of captures",
                        description="Gain, input-referred noise density, EIN and noise figure "
                                    "from a terminated-input capture and a tone (or stated gain).")
-    p.add_argument("--terminated", type=Path, required=True, metavar="FILE",
-                   help="DUT output with its input terminated in Rs")
+    p.add_argument("--terminated", type=Path, required=True, nargs="+", metavar="FILE",
+                   help="DUT output with its input terminated in Rs (several: repeats, pooled, with "
+                        "their scatter and drift)")
     p.add_argument("--floor", type=Path, metavar="FILE",
                    help="analyzer alone with its input terminated (subtracted in linear power)")
     p.add_argument("--shorted", type=Path, metavar="FILE",
@@ -274,10 +293,36 @@ def build_parser() -> argparse.ArgumentParser:
                    help="source resistance (default: the terminated sidecar's rs_ohm)")
     p.add_argument("--temperature-k", type=kelvin, metavar="K",
                    help="the source resistor's temperature (default: sidecar, else 290 K)")
-    p.add_argument("--band", type=non_negative_hz, nargs=2, default=[20.0, 20_000.0],
-                   metavar=("LO", "HI"), help="integration band in Hz (default 20 20000)")
-    p.add_argument("--weighting", choices=["none", "A"], default="none",
-                   help="frequency weighting (IEC 61672-1 A) of band figures")
+    bands = p.add_mutually_exclusive_group()
+    bands.add_argument("--band", type=non_negative_hz, nargs=2, metavar=("LO", "HI"),
+                       help="integration band in Hz (default 20 20000)")
+    bands.add_argument("--band-preset", choices=["audio", "wide", "no-hum"],
+                       help="audio 20 Hz-20 kHz, wide 22 Hz-22 kHz, no-hum 400 Hz-22 kHz")
+    p.add_argument("--weighting", choices=["none", "A", "C", "468", "468-2k"], default="none",
+                   help="frequency weighting of band figures: IEC 61672-1 A or C, ITU-R BS.468-4 "
+                        "(0 dB at 1 kHz) or 468-2k (0 dB at 2 kHz, for an RMS detector)")
+    p.add_argument("--detector", choices=["rms", "qp"], default="rms",
+                   help="rms, or qp: the BS.468-4 quasi-peak meter (with --weighting 468 only)")
+    p.add_argument("--mains-hz", type=positive_hz, metavar="F",
+                   help="mains fundamental for the hum families (default: found, 50 or 60)")
+    p.add_argument("--flicker-range", type=positive_hz, nargs=2, metavar=("LO", "HI"),
+                   help="range of the 1/f fit in Hz (default: band bottom to 10 kHz)")
+    p.add_argument("--flicker-free-slope", action="store_true",
+                   help="fit the 1/f exponent too, instead of fixing it at 1")
+    refs = p.add_mutually_exclusive_group()
+    refs.add_argument("--reference-vrms", type=positive_volts, metavar="V",
+                      help="output reference level for an SNR figure, V RMS")
+    refs.add_argument("--reference-dbu", type=finite_db, metavar="L",
+                      help="output reference level for an SNR figure, dBu")
+    p.add_argument("--calibration-limit-pct", type=non_negative_pct, default=1.0, metavar="P",
+                   help="meter accuracy, +/- %% of reading (default 1)")
+    p.add_argument("--tone-limit-pct", type=non_negative_pct, default=1.0, metavar="P",
+                   help="tone level at the source known to +/- %% (default 1)")
+    p.add_argument("--resistor-limit-pct", type=non_negative_pct, default=1.0, metavar="P",
+                   help="source resistor tolerance, +/- %% (default 1)")
+    p.add_argument("--temperature-limit-k", type=non_negative_pct, default=2.0, metavar="K",
+                   help="source resistor temperature known to +/- K (default 2)")
+    p.add_argument("--explain", action="store_true", help="list every uncertainty contribution")
     p.add_argument("--segment", type=segment_samples, metavar="N",
                    help="Welch segment length in samples (default about 10 Hz bins)")
     p.add_argument("--channel", type=channel_index, metavar="N",

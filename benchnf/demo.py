@@ -78,8 +78,11 @@ def run_demo(*, output: Path = Path("benchnf-results"), quiet: bool = False) -> 
         f"  input noise, 1 kHz   measured {result.input_density_at_1khz_v_per_rthz * 1e9:7.3f} nV/rtHz"
         f"   model {truth['input_density_at_1khz_v_per_rthz'] * 1e9:7.3f} nV/rtHz",
         f"  noise figure, 1 kHz  measured {result.nf_at_1khz_db:7.3f} dB   model {truth['nf_at_1khz_db']:7.3f} dB",
-        f"  noise figure, band   measured {result.noise_figure_db:7.3f} dB   model {truth['noise_figure_db']:7.3f} dB"
-        " (model excludes hum)",
+        f"  noise figure, band   measured {result.noise_figure_db:7.3f} dB   model {truth['noise_figure_db']:7.3f} dB",
+        f"  EIN, hum excluded    measured {result.ein_dbu:7.2f} dBu  model "
+        f"{truth['ein_dbu_unweighted_excluding_hum']:7.2f} dBu",
+        f"  1/f corner (shorted) measured {result.flicker_corner_hz or float('nan'):7.1f} Hz   model "
+        f"{truth['voltage_noise_corner_hz']:7.1f} Hz",
         "",
     ]
     for w in caught:

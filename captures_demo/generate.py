@@ -129,6 +129,17 @@ def write(name: str, volts: np.ndarray, meta: dict, force: bool) -> None:
     side.write_text(json.dumps(meta, indent=2) + "\n")
 
 
+def _white_and_corner() -> tuple[float, float]:
+    white, weighted = 0.0, 0.0
+    gain_before = 1.0
+    for _name, en, en_fc, _in, _in_fc, gain in STAGES:
+        w = en ** 2 / gain_before ** 2
+        white += w
+        weighted += w * en_fc
+        gain_before *= gain
+    return white, weighted / white
+
+
 def ground_truth() -> dict:
     """Expected figures, by numerical integration of the model (not by benchnf)."""
     f = np.linspace(20.0, 20_000.0, 200_001)
@@ -157,6 +168,10 @@ def ground_truth() -> dict:
         "noise_figure_db": nf_band,
         "ein_dbu_unweighted_excluding_hum": 20 * math.log10(ein / math.sqrt(0.6)),
         "voltage_noise_band_vrms": math.sqrt(np.trapezoid(e2_short, f)),
+        # The stages' 1/f terms add up to one white level with one corner:
+        # sum en_i^2 (1 + fc_i/f) / G_before_i^2 = W (1 + fc/f), fc = sum(w_i fc_i) / W.
+        "voltage_noise_white_v_per_rthz": math.sqrt(_white_and_corner()[0]),
+        "voltage_noise_corner_hz": _white_and_corner()[1],
         "output_noise_vrms_excluding_hum": math.sqrt(np.trapezoid(e2_term * g2, f)),
         "hum_output_vrms": {f"{fh:g} Hz": a for fh, a in HUM},
         "card_floor_density_v_per_rthz": CARD_EN,

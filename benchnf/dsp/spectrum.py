@@ -19,7 +19,7 @@ from numpy.typing import ArrayLike, NDArray
 
 from ..errors import MeasurementError, ParameterError
 
-__all__ = ["Psd", "WelchAccumulator", "welch_psd", "welch_dof", "window_enbw_bins",
+__all__ = ["Psd", "WelchAccumulator", "welch_psd", "welch_dof", "window_enbw_bins", "pool_psds",
            "make_window", "default_segment_length", "WINDOWS"]
 
 #: Windows offered: name -> scipy.signal.get_window name.  Hann for noise,
@@ -454,3 +454,23 @@ def welch_psd(samples: ArrayLike | Iterable[ArrayLike], *, sample_rate_hz: float
             on_block(block)
         acc.update(block)
     return acc.result(unit=unit, scale=scale)
+
+
+def pool_psds(spectra: list[Psd]) -> Psd:
+    """Average Welch spectra of independent captures of one condition.
+
+    The densities are averaged with weights proportional to their segment
+    counts; the degrees of freedom of independent estimates add.
+    """
+    from dataclasses import replace
+    first = spectra[0]
+    for p in spectra[1:]:
+        if (p.segment_length != first.segment_length or p.sample_rate_hz != first.sample_rate_hz
+                or p.window != first.window or p.unit != first.unit):
+            raise ParameterError("spectra to pool must share sample rate, segment, window and unit")
+    if len(spectra) == 1:
+        return first
+    weights = np.array([p.n_averages for p in spectra], dtype=np.float64)
+    density = np.average(np.stack([p.psd_per_hz for p in spectra]), axis=0, weights=weights)
+    return replace(first, psd_per_hz=density, n_averages=int(weights.sum()),
+                   dof=float(sum(p.dof for p in spectra)))

@@ -59,6 +59,14 @@ def plot_output_spectrum(r: AnalysisResult, *, ax: "Axes | None" = None) -> "Axe
                   label="analyzer floor")
         ax.loglog(f[s], np.sqrt(r.spectra["output_corrected_v2_per_hz"][s]) * 1e9, color="tab:orange",
                   lw=0.8, alpha=0.8, label="DUT output, floor subtracted")
+    lines = r.spectra.get("lines") or ()
+    out = np.sqrt(r.spectra["output_v2_per_hz"]) * 1e9
+    for i, ln in enumerate(lines[:12]):
+        k = int(round(ln.freq_hz / (f[1] - f[0])))
+        ax.plot(ln.freq_hz, out[k] * 1.25, "v", color="tab:red", ms=6,
+                label="hum / spur lines" if i == 0 else None)
+        ax.annotate(f"{ln.freq_hz:.0f}", (ln.freq_hz, out[k] * 1.4), fontsize=7, ha="center",
+                    color="tab:red")
     ax.set_ylabel("Output noise density (nV/\u221aHz)")
     _decorate(ax, r, f"Output spectrum  (RBW {r.rbw_hz:.1f} Hz, {r.n_averages} averages)")
     return ax
@@ -76,6 +84,12 @@ def plot_input_density(r: AnalysisResult, *, ax: "Axes | None" = None) -> "Axes"
     if r.spectra["voltage_noise_v2_per_hz"] is not None:
         ax.loglog(f[s], np.sqrt(r.spectra["voltage_noise_v2_per_hz"][s]) * 1e9, color="tab:green",
                   lw=0.7, alpha=0.7, label="voltage noise (input shorted)")
+    fit = r.spectra.get("flicker")
+    if fit is not None:
+        ff = np.geomspace(max(f[1], 1.0), r.sample_rate_hz / 2, 300)
+        ax.loglog(ff, np.sqrt(fit.model_v2_per_hz(ff)) * 1e9, color="k", lw=1.0, ls="-.",
+                  label=f"1/f fit: {fit.white_density_v_per_rthz * 1e9:.3f} nV/\u221aHz, "
+                        f"corner {fit.corner_hz:.0f} Hz")
     thermal = np.sqrt(thermal_density_v2_per_hz(resistance_ohm=r.rs_ohm,
                                                 temperature_k=r.temperature_k)) * 1e9
     ax.axhline(thermal, color="tab:red", ls="--", lw=1.0,

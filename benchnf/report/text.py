@@ -28,19 +28,29 @@ def _db(v: float | None, digits: int = 2) -> str:
     return "-" if v is None or not math.isfinite(v) else f"{v:.{digits}f}"
 
 
-def format_summary(r: AnalysisResult, *, max_spots: int | None = None) -> str:
-    """A plain-text summary for the terminal (ASCII only)."""
+def _pm(r: AnalysisResult, key: str) -> str:
+    u = r.uncertainty.get(key)
+    return f" +/- {u:.2f} dB (k=2)" if isinstance(u, float) else ""
+
+
+def format_summary(r: AnalysisResult, *, max_spots: int | None = None, max_spurs: int = 8,
+                   explain: bool = False) -> str:
+    """A plain-text summary for the terminal (ASCII only).
+
+    With `explain`, every uncertainty budget is listed contribution by contribution.
+    """
     lo, hi = r.band_hz
     band = f"{lo:g} Hz-{hi / 1000:g} kHz" if hi >= 1000 else f"{lo:g}-{hi:g} Hz"
     floor = (f"analyzer floor subtracted, DUT {r.floor_margin_db:.1f} dB above it in band"
              if r.floor_corrected else "analyzer floor NOT subtracted (no floor capture)")
+    detector = ("quasi-peak (ITU-R BS.468-4 meter)" if r.detector == "qp" else "RMS")
     lines = [
         "benchnf - gain-method noise analysis",
         "",
         "Conditions",
         f"  source        {r.rs_ohm:g} ohm at {r.temperature_k:.2f} K "
         f"({r.temperature_k - 273.15:.1f} C); NF referred to T0 = 290 K",
-        f"  band          {band}, weighting {r.weighting}, detector {r.detector.upper()}",
+        f"  band          {band}, weighting {r.weighting}, detector {detector}",
         f"  floor         {floor}",
         f"  spectrum      Welch, Hann, RBW {r.rbw_hz:.2f} Hz, {r.n_averages} averages "
         f"({r.dof:.0f} degrees of freedom), fs {r.sample_rate_hz:g} Hz",
@@ -48,13 +58,13 @@ def format_summary(r: AnalysisResult, *, max_spots: int | None = None) -> str:
         f"  gain from     {r.gain_reference}",
         "",
         "Results",
-        f"  gain                 {r.gain_db:8.3f} dB at {r.gain_frequency_hz:.1f} Hz "
-        f"(fit std {r.gain_std_db:.2g} dB)",
-        f"  EIN                  {r.ein_dbu:8.2f} dBu   ({r.ein_dbv:.2f} dBV, {si_volts(r.ein_vrms)})",
+        f"  gain                 {r.gain_db:8.3f} dB{_pm(r, 'gain_db')} at {r.gain_frequency_hz:.1f} Hz",
+        f"  EIN                  {r.ein_dbu:8.2f} dBu{_pm(r, 'ein_db')}   ({r.ein_dbv:.2f} dBV, "
+        f"{si_volts(r.ein_vrms)}; hum and spurs excluded, {r.ein_with_spurs_dbu:.2f} dBu with them)",
         f"  thermal limit of Rs  {r.thermal_ein_dbu:8.2f} dBu   (EIN is "
         f"{r.ein_dbu - r.thermal_ein_dbu:.2f} dB above it)",
-        f"  noise figure, band   {_db(r.noise_figure_db):>8} dB",
-        f"  noise figure, 1 kHz  {_db(r.nf_at_1khz_db):>8} dB",
+        f"  noise figure, band   {_db(r.noise_figure_db):>8} dB{_pm(r, 'noise_figure_db')}",
+        f"  noise figure, 1 kHz  {_db(r.nf_at_1khz_db):>8} dB{_pm(r, 'nf_at_1khz_db')}",
         f"  input noise, 1 kHz   {density_text(r.input_density_at_1khz_v_per_rthz):>8} nV/rtHz",
         f"  output noise         {si_volts(r.output_noise_vrms):>10} ({r.output_noise_dbu:.2f} dBu; "
         f"{si_volts(r.output_noise_uncorrected_vrms)} before floor subtraction)",
@@ -63,6 +73,31 @@ def format_summary(r: AnalysisResult, *, max_spots: int | None = None) -> str:
         lines.append(f"  voltage noise (shorted input)  "
                      f"{density_text(r.voltage_noise_at_1khz_v_per_rthz)} nV/rtHz at 1 kHz, "
                      f"{si_volts(r.voltage_noise_band_vrms)} in band")
+    if r.flicker_corner_hz is not None:
+        slope = "" if r.flicker_slope == 1.0 else f", slope {r.flicker_slope:.2f}"
+        lines.append(f"  1/f corner           {r.flicker_corner_hz:8.1f} Hz +/- {2 * r.flicker_corner_std_hz:.1f} "
+                     f"(k=2), white level {density_text(r.white_density_v_per_rthz)} nV/rtHz{slope}; "
+                     f"fitted on the {r.flicker_fit_on}")
+    if r.snr_db is not None:
+        lines.append(f"  SNR                  {r.snr_db:8.2f} dB re {si_volts(r.reference_output_vrms)} at "
+                     f"the output (same band and weighting)")
+    if r.repeats is not None:
+        rp = r.repeats
+        lines.append(f"  repeats              {rp.n} captures pooled; scatter EIN {rp.ein_std_db:.3f} dB, "
+                     f"NF {rp.noise_figure_std_db:.3f} dB (1 sigma); drift "
+                     f"{rp.noise_figure_drift_db_per_capture:+.3f} dB per capture")
+    if r.spurs:
+        mains = f"mains {r.mains_hz:g} Hz" if r.mains_hz else "no mains family found"
+        lines += ["", f"Hum and spurs ({len(r.spurs)} lines, {mains}; strongest first)",
+                  f"  {'freq Hz':>9}  {'output':>10}  {'at input':>10}  {'above noise':>11}  family"]
+        for sp in r.spurs[:max_spurs]:
+            fam = sp.family + (f" x{sp.harmonic}" if sp.harmonic else "")
+            lines.append(f"  {sp.freq_hz:>9.1f}  {si_volts(sp.output_vrms):>10}  {si_volts(sp.input_vrms):>10}  "
+                         f"{sp.excess_db:>8.1f} dB  {fam}")
+        if len(r.spurs) > max_spurs:
+            lines.append(f"  ... {len(r.spurs) - max_spurs} more in the JSON")
+        for hint in r.hum_hints:
+            lines.append(f"  hint: {hint}")
     spots = list(r.spot)
     if max_spots is not None and len(spots) > max_spots:
         step = math.ceil(len(spots) / max_spots)
@@ -74,6 +109,15 @@ def format_summary(r: AnalysisResult, *, max_spots: int | None = None) -> str:
         lines.append(f"  {s.freq_hz:>8g}  {density_text(s.input_density_v_per_rthz):>13}  "
                      f"{_db(s.noise_figure_db):>6}  {_db(s.floor_margin_db, 1):>9}  "
                      f"{density_text(s.voltage_noise_v_per_rthz):>10}")
+    if explain:
+        lines += ["", f"Uncertainty budgets (standard uncertainties in dB; {r.uncertainty['stated']})"]
+        for name, budget in r.budgets.items():
+            lines.append(f"  {name}: {budget.value_db:.3f} dB, combined {budget.combined_db:.3f} dB, "
+                         f"expanded {budget.expanded_db:.3f} dB (k=2)")
+            for c in budget.contributions:
+                lines.append(f"    {c.u_db:8.4f}  {c.name} ({c.note})")
+    else:
+        lines += ["", f"Uncertainties are expanded (k=2) per the GUM; --explain lists each budget."]
     if r.notes:
         lines += ["", "Notes"] + [f"  * {n}" for n in r.notes]
     return "\n".join(lines) + "\n"

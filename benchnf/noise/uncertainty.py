@@ -1,0 +1,220 @@
+"""Uncertainty budgets for EIN, noise figure and gain, after the GUM.
+
+Each input quantity's standard uncertainty is propagated to the result with
+its sensitivity coefficient (first-order Taylor series, GUM 5.1.2); the
+contributions are independent and combine in quadrature; the expanded
+uncertainty uses coverage factor k = 2 (about 95 % for a normal
+distribution).  User-stated limits (meter accuracy, tone level, resistor
+tolerance, temperature) are taken as rectangular distributions: standard
+uncertainty = half-width / sqrt(3) (GUM 4.3.7).
+
+Models (see docs/method.md, section 7):
+
+* Band power of the DUT, ``P = P_m - P_f``: ``u(P)^2 = (P_m u_m)^2 + (P_f u_f)^2``
+  with ``u_m``, ``u_f`` the relative Welch scatter of the measured and floor
+  band powers.  Near the floor ``P`` is small and ``u(P)/P`` grows without bound.
+* EIN^2 = P / G^2 with G proportional to k_cal^a / V_tone^b: a = 1, b = 1 for
+  a one-channel tone (so the calibration cancels), a = 0, b = 0 for a
+  two-channel tone, and EIN proportional to k_cal for a stated gain.
+* F = 1 + EIN^2 / N0 - T / T0, N0 = 4 k T0 Rs B_W: ``dF/dT = -1/T0``,
+  ``dF/dRs = -(EIN^2/N0) / Rs``.
+
+References
+----------
+.. [1] JCGM 100:2008, "Evaluation of measurement data - Guide to the
+       expression of uncertainty in measurement" (GUM).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Any
+
+from ..errors import ParameterError
+
+__all__ = ["StatedUncertainty", "Contribution", "Budget", "power_rel_to_db", "amplitude_rel_to_db",
+           "dut_power_rel_std", "ein_budget", "nf_budget", "gain_budget"]
+
+_DB_PER_NEPER_POWER = 10.0 / math.log(10.0)
+
+
+def power_rel_to_db(u_rel: float) -> float:
+    """Relative standard uncertainty of a power quantity to dB (10 lg): ``4.343 u``."""
+    return _DB_PER_NEPER_POWER * u_rel
+
+
+def amplitude_rel_to_db(u_rel: float) -> float:
+    """Relative standard uncertainty of an amplitude quantity to dB (20 lg): ``8.686 u``."""
+    return 2.0 * _DB_PER_NEPER_POWER * u_rel
+
+
+@dataclass(frozen=True)
+class StatedUncertainty:
+    """Half-widths of the user-stated limits (rectangular distributions).
+
+    The defaults are printed with every budget: a true-RMS meter within 1 %
+    of reading at 50-640 Hz, a tone level known to 1 %, a resistor within
+    1 %, and its temperature within 2 K.
+    """
+
+    calibration_pct: float = 1.0
+    tone_level_pct: float = 1.0
+    resistor_pct: float = 1.0
+    temperature_k: float = 2.0
+
+    def __post_init__(self) -> None:
+        for name, value in self.__dict__.items():
+            if not (math.isfinite(value) and value >= 0):
+                raise ParameterError(f"{name}={value!r} must be a number >= 0")
+
+    @staticmethod
+    def _std(half_width: float) -> float:
+        return half_width / math.sqrt(3.0)
+
+    @property
+    def u_calibration_rel(self) -> float:
+        return self._std(self.calibration_pct / 100)
+
+    @property
+    def u_tone_level_rel(self) -> float:
+        return self._std(self.tone_level_pct / 100)
+
+    @property
+    def u_resistor_rel(self) -> float:
+        return self._std(self.resistor_pct / 100)
+
+    @property
+    def u_temperature_k(self) -> float:
+        return self._std(self.temperature_k)
+
+    def describe(self) -> str:
+        return (f"stated limits (rectangular): calibration +/-{self.calibration_pct:g} %, tone level "
+                f"+/-{self.tone_level_pct:g} %, resistor +/-{self.resistor_pct:g} %, temperature "
+                f"+/-{self.temperature_k:g} K")
+
+
+@dataclass(frozen=True)
+class Contribution:
+    """One line of a budget: its standard uncertainty in dB of the result."""
+
+    name: str
+    u_db: float
+    note: str
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"name": self.name, "u_db": self.u_db, "note": self.note}
+
+
+@dataclass(frozen=True)
+class Budget:
+    """An uncertainty budget of one result in dB."""
+
+    quantity: str
+    value_db: float
+    contributions: tuple[Contribution, ...]
+    coverage_factor: float = 2.0
+
+    @property
+    def combined_db(self) -> float:
+        """Combined standard uncertainty, dB."""
+        return math.sqrt(sum(c.u_db ** 2 for c in self.contributions))
+
+    @property
+    def expanded_db(self) -> float:
+        """Expanded uncertainty (k = 2), dB half-width."""
+        return self.coverage_factor * self.combined_db
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"quantity": self.quantity, "value_db": self.value_db,
+                "combined_standard_db": self.combined_db, "expanded_db": self.expanded_db,
+                "coverage_factor": self.coverage_factor,
+                "contributions": [c.to_dict() for c in self.contributions]}
+
+
+def dut_power_rel_std(*, measured: float, measured_rel_std: float, floor: float | None,
+                      floor_rel_std: float | None) -> float:
+    """Relative standard uncertainty of ``P = measured - floor`` from the Welch scatter of each."""
+    if floor is None:
+        return measured_rel_std
+    p = measured - floor
+    if not p > 0:
+        return math.inf
+    return math.hypot(measured * measured_rel_std, floor * (floor_rel_std or 0.0)) / p
+
+
+def _gain_terms(gain_kind: str, gain_rel_std: float, stated: StatedUncertainty) -> list[tuple[str, float, str]]:
+    """Relative uncertainties of the input-referred POWER from the gain's ingredients."""
+    terms = [("gain (sine fit)", 2 * gain_rel_std, "fit residual, sigma*sqrt(2/n) per tone")]
+    if gain_kind == "tone-1ch":
+        terms.append(("tone level at the source", 2 * stated.u_tone_level_rel,
+                      f"+/-{stated.tone_level_pct:g} % stated"))
+        terms.append(("calibration", 0.0, "cancels: tone and noise share the calibrated input"))
+    elif gain_kind in ("tone-2ch", "stated"):
+        terms.append(("calibration", 2 * stated.u_calibration_rel,
+                      f"+/-{stated.calibration_pct:g} % stated (meter)"))
+    else:
+        raise ParameterError(f"unknown gain kind {gain_kind!r}")
+    return terms
+
+
+def ein_budget(*, value_db: float, dut_rel_std: float, floor_corrected: bool, gain_kind: str,
+               gain_rel_std: float, stated: StatedUncertainty, response_rel_std: float = 0.0) -> Budget:
+    """Budget of an EIN (or input-referred band level) in dB."""
+    contributions = [Contribution(
+        "Welch statistics" + (" with floor subtraction" if floor_corrected else ""),
+        power_rel_to_db(dut_rel_std), "scatter of the band power(s), from their degrees of freedom")]
+    for name, u_rel, note in _gain_terms(gain_kind, gain_rel_std, stated):
+        contributions.append(Contribution(name, power_rel_to_db(u_rel), note))
+    if response_rel_std:
+        contributions.append(Contribution("response shape (H1)", power_rel_to_db(2 * response_rel_std),
+                                          "from the coherence of the response capture"))
+    return Budget("ein_db", value_db, tuple(contributions))
+
+
+def nf_budget(*, quantity: str, noise_factor: float, excess_over_n0: float, dut_rel_std: float,
+              floor_corrected: bool, gain_kind: str, gain_rel_std: float, stated: StatedUncertainty,
+              response_rel_std: float = 0.0) -> Budget:
+    """Budget of a noise figure in dB.
+
+    Parameters
+    ----------
+    noise_factor : float
+        F (linear).
+    excess_over_n0 : float
+        ``EIN^2 / N0``: the input-referred power over the T0 source noise.
+    """
+    from ..units import T0_K
+    ratio = excess_over_n0
+    contributions = [Contribution(
+        "Welch statistics" + (" with floor subtraction" if floor_corrected else ""),
+        power_rel_to_db(ratio * dut_rel_std / noise_factor), "scatter of the band power(s)")]
+    for name, u_rel, note in _gain_terms(gain_kind, gain_rel_std, stated):
+        contributions.append(Contribution(name, power_rel_to_db(ratio * u_rel / noise_factor), note))
+    if response_rel_std:
+        contributions.append(Contribution("response shape (H1)",
+                                          power_rel_to_db(ratio * 2 * response_rel_std / noise_factor),
+                                          "from the coherence of the response capture"))
+    contributions.append(Contribution("resistor temperature",
+                                      power_rel_to_db(stated.u_temperature_k / T0_K / noise_factor),
+                                      f"+/-{stated.temperature_k:g} K stated; dF/dT = -1/T0"))
+    contributions.append(Contribution("resistor tolerance",
+                                      power_rel_to_db(ratio * stated.u_resistor_rel / noise_factor),
+                                      f"+/-{stated.resistor_pct:g} % stated; dF/dRs = -(F - 1 + T/T0)/Rs"))
+    return Budget(quantity, 10 * math.log10(noise_factor), tuple(contributions))
+
+
+def gain_budget(*, value_db: float, gain_kind: str, gain_rel_std: float,
+                stated: StatedUncertainty) -> Budget:
+    """Budget of the voltage gain in dB."""
+    contributions = [Contribution("sine fit", amplitude_rel_to_db(gain_rel_std), "fit residual")]
+    if gain_kind == "tone-1ch":
+        contributions.append(Contribution("tone level at the source",
+                                          amplitude_rel_to_db(stated.u_tone_level_rel),
+                                          f"+/-{stated.tone_level_pct:g} % stated"))
+        contributions.append(Contribution("calibration", amplitude_rel_to_db(stated.u_calibration_rel),
+                                          f"+/-{stated.calibration_pct:g} % stated (meter)"))
+    elif gain_kind == "stated":
+        contributions.append(Contribution("stated gain", 0.0, "taken as exact; state its uncertainty "
+                                          "by measuring it with a tone"))
+    return Budget("gain_db", value_db, tuple(contributions))
