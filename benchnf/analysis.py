@@ -236,6 +236,7 @@ class AnalysisResult:
     repeats: RepeatSummary | None
     sample_rate_hz: float
     segment_length: int
+    spectrum_window: str
     rbw_hz: float
     n_averages: int
     dof: float
@@ -390,12 +391,11 @@ def _line_mask(search: LineSearch, size: int) -> NDArray[np.bool_]:
 
 
 def _check_rates(fs: float, label: str, inputs: dict[str, Any]) -> None:
+    """Every capture (spectrum traces have no sample rate to compare) at one rate."""
     for role, item in inputs.items():
-        rate = getattr(item, "sample_rate_hz", None)
-        if item is not None and rate is not None and rate != fs:
-            name = item.label if isinstance(item, Capture) else "spectrum"
-            raise CaptureError(f"the {role} capture {name} was recorded at {rate:g} Hz but {label} at "
-                               f"{fs:g} Hz: record all captures at one rate")
+        if isinstance(item, Capture) and item.sample_rate_hz != fs:
+            raise CaptureError(f"the {role} capture {item.label} was recorded at {item.sample_rate_hz:g} Hz "
+                               f"but {label} at {fs:g} Hz: record all captures at one rate")
 
 
 def _with_vpfs(cap: NoiseInput | None, vpfs: float | None, role: str, label: str) -> NoiseInput | None:
@@ -491,9 +491,17 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
         raise ParameterError("give at least one terminated capture")
     first = runs[0]
     fs = first.sample_rate_hz
-    _check_rates(fs, _label(first), {"floor": floor, "shorted": shorted, "tone": gain.tone,
-                                     "response": gain.response,
-                                     **{f"repeat {i + 1}": r for i, r in enumerate(runs[1:])}})
+    if isinstance(first, Capture):
+        _check_rates(fs, _label(first), {"floor": floor, "shorted": shorted, "tone": gain.tone,
+                                         "response": gain.response,
+                                         **{f"repeat {i + 1}": r for i, r in enumerate(runs[1:])}})
+    else:
+        if first.enbw_hz > band.width_hz:
+            raise ParameterError(f"the trace's noise bandwidth ({first.enbw_hz:g} Hz) is coarser than the "
+                                 f"band {band.label()}: narrow the RBW or widen the band")
+        if not (first.frequency_hz[0] <= band.low_hz and band.high_hz <= first.frequency_hz[-1]):
+            raise ParameterError(f"the trace covers {first.frequency_hz[0]:g}-{first.frequency_hz[-1]:g} Hz, "
+                                 f"not the whole band {band.label()}: choose a band inside it")
     band.check_within(fs)
     if isinstance(first, Psd):
         seg = first.segment_length
@@ -698,6 +706,7 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
         repeats=repeats,
         sample_rate_hz=fs,
         segment_length=seg,
+        spectrum_window=p_term.window,
         rbw_hz=p_term.enbw_hz,
         n_averages=p_term.n_averages,
         dof=p_term.dof,

@@ -124,6 +124,11 @@ def _open(path: Path | None, *, condition: str | None, args: argparse.Namespace,
         return None
     from .calibration import apply_calibration
     from .io import open_capture
+    if path.suffix.lower() in (".csv", ".txt"):
+        from .io.csv_trace import load_csv
+        # Instrument CSV is in volts already: no sound-card calibration applies.
+        return load_csv(path, rbw_hz=args.rbw_hz, detector=args.trace_detector,
+                        reference_ohm=args.reference_ohm, enbw_ratio=args.enbw_ratio)
     cap = open_capture(path, channel=args.channel if channel is None else channel,
                        condition=condition, volts_per_fs=args.volts_per_fs)
     if args.volts_per_fs is None and cal is not None:
@@ -323,6 +328,14 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--temperature-limit-k", type=non_negative_pct, default=2.0, metavar="K",
                    help="source resistor temperature known to +/- K (default 2)")
     p.add_argument("--explain", action="store_true", help="list every uncertainty contribution")
+    p.add_argument("--rbw-hz", type=positive_hz, metavar="F",
+                   help="instrument CSV traces: resolution bandwidth (else the file's '# rbw_hz')")
+    p.add_argument("--trace-detector", choices=["rms", "sample", "log"],
+                   help="instrument CSV traces: how the trace was averaged (log reads noise 2.51 dB low)")
+    p.add_argument("--reference-ohm", type=positive_ohm, metavar="OHM",
+                   help="instrument CSV traces in dBm: reference impedance (default 50)")
+    p.add_argument("--enbw-ratio", type=positive_hz, metavar="R",
+                   help="instrument CSV traces: noise bandwidth over RBW (default 1)")
     p.add_argument("--segment", type=segment_samples, metavar="N",
                    help="Welch segment length in samples (default about 10 Hz bins)")
     p.add_argument("--channel", type=channel_index, metavar="N",

@@ -52,9 +52,11 @@ def format_summary(r: AnalysisResult, *, max_spots: int | None = None, max_spurs
         f"({r.temperature_k - 273.15:.1f} C); NF referred to T0 = 290 K",
         f"  band          {band}, weighting {r.weighting}, detector {detector}",
         f"  floor         {floor}",
-        f"  spectrum      Welch, Hann, RBW {r.rbw_hz:.2f} Hz, {r.n_averages} averages "
-        f"({r.dof:.0f} degrees of freedom), fs {r.sample_rate_hz:g} Hz",
-        f"  calibration   {r.volts_per_fs:.6g} V per full scale",
+        (f"  spectrum      Welch, {r.spectrum_window}, RBW {r.rbw_hz:.2f} Hz, {r.n_averages} averages "
+         f"({r.dof:.0f} degrees of freedom), fs {r.sample_rate_hz:g} Hz" if r.volts_per_fs is not None else
+         f"  spectrum      {r.spectrum_window}, RBW {r.rbw_hz:.2f} Hz, {r.n_averages} average(s)"),
+        (f"  calibration   {r.volts_per_fs:.6g} V per full scale" if r.volts_per_fs is not None else
+         "  calibration   instrument data in volts"),
         f"  gain from     {r.gain_reference}",
         "",
         "Results",
