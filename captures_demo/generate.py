@@ -220,11 +220,84 @@ def main() -> None:
     write("response", both, {"condition": "tone", "channels": ["DUT input", "DUT output"],
                              "stimulus": "white noise", "rs_ohm": RS_OHM}, args.force)
 
+    truth_data = ground_truth()
+    truth_data["yfactor_vhf"] = write_vhf_scenario(args.force)
+    truth_data["yfactor_audio"] = write_two_temperature_scenario(args.force)
     truth = HERE / "ground_truth.json"
     if truth.exists() and not args.force:
         raise SystemExit("ground_truth.json exists: rerun with --force")
-    truth.write_text(json.dumps(ground_truth(), indent=2) + "\n")
+    truth.write_text(json.dumps(truth_data, indent=2) + "\n")
     print(f"wrote the demo captures and ground_truth.json in {HERE}")
+
+
+# --- Y-factor scenarios (INVENTED DATA) ------------------------------------------------------
+VHF = {"centre_hz": 145.0e6, "sample_rate_hz": 250e3, "seconds": 0.4, "enr_db": 5.5,
+       "source_cold_k": 297.0, "dut_nf_db": 0.8, "dut_gain_db": 18.0, "receiver_nf_db": 6.0,
+       "seed": 7}
+AUDIO_2T = {"rs_ohm": 1000.0, "t_hot_k": 373.15, "t_cold_k": 273.15, "en_v_per_rthz": 3.0e-9,
+            "in_a_per_rthz": 0.5e-12, "gain_db": 40.0, "seconds": 6.0, "seed": 11}
+
+
+def write_vhf_scenario(force: bool) -> dict:
+    """A VHF low-noise preamplifier measured with an SDR and a noise diode (SigMF, ci16_le)."""
+    import sys
+    sys.path.insert(0, str(HERE.parent))
+    from benchnf.io.sigmf_iq import write_sigmf
+    v = VHF
+    rng = np.random.default_rng(v["seed"])
+    fs, n = v["sample_rate_hz"], int(v["seconds"] * v["sample_rate_hz"])
+    th = T0 * (1 + 10 ** (v["enr_db"] / 10))
+    tc = v["source_cold_k"]
+    te1 = T0 * (10 ** (v["dut_nf_db"] / 10) - 1)
+    te2 = T0 * (10 ** (v["receiver_nf_db"] / 10) - 1)
+    g1 = 10 ** (v["dut_gain_db"] / 10)
+    f = np.fft.fftfreq(n, 1 / fs)
+    # The SDR's anti-alias filter rolls off towards the edges; its ADC adds a flat floor after it.
+    roll = 1.0 / (1.0 + (np.abs(f) / (0.42 * fs)) ** 16)
+    scale = 10 ** (-3.2) / (g1 * (th + te1) + te2)  # receiver gain: about -30 dBFS with the DUT hot
+
+    def record(kelvin: float, name: str) -> None:
+        spec = (rng.standard_normal(n) + 1j * rng.standard_normal(n)) * np.sqrt(kelvin * scale * roll / 2)
+        adc = (rng.standard_normal(n) + 1j * rng.standard_normal(n)) * math.sqrt(2e-7 / 2)
+        x = np.fft.ifft(spec) * math.sqrt(n) + adc + (0.004 + 0.003j)  # DC offset: the centre spike
+        base = HERE / name
+        if force:
+            for suffix in (".sigmf-data", ".sigmf-meta"):
+                base.with_suffix(suffix).unlink(missing_ok=True)
+        write_sigmf(base, x, sample_rate_hz=fs, centre_hz=v["centre_hz"],
+                    description="INVENTED DATA: benchnf demo, VHF preamplifier with a noise diode")
+
+    record(g1 * (th + te1) + te2, "vhf_hot")
+    record(g1 * (tc + te1) + te2, "vhf_cold")
+    record(th + te2, "vhf_cal_hot")
+    record(tc + te2, "vhf_cal_cold")
+    table = HERE / "noise_source_enr.toml"
+    if force or not table.exists():
+        table.write_text(
+            "# Noise source ENR table (INVENTED DATA, benchnf demo)\n"
+            'name = "demo noise diode"\n'
+            f"cold_k = {tc}\n"
+            "enr_uncertainty_db = 0.15\n"
+            "# frequency_hz, enr_db\n"
+            f"points = [[100e6, {v['enr_db'] + 0.1}], [145e6, {v['enr_db']}], [200e6, {v['enr_db'] - 0.1}]]\n")
+    return {"note": "INVENTED DATA", **v, "dut_noise_temperature_k": te1}
+
+
+def write_two_temperature_scenario(force: bool) -> dict:
+    """An audio preamplifier with a 1 kohm resistor in boiling water and in ice water, via a sound card."""
+    a = AUDIO_2T
+    rng = np.random.default_rng(a["seed"])
+    n = int(a["seconds"] * FS)
+    g = 10 ** (a["gain_db"] / 20)
+    amp2 = a["en_v_per_rthz"] ** 2 + (a["in_a_per_rthz"] * a["rs_ohm"]) ** 2
+    for name, t in (("bath_hot", a["t_hot_k"]), ("bath_cold", a["t_cold_k"])):
+        density = g ** 2 * (amp2 + 4 * K_B * t * a["rs_ohm"])
+        x = rng.normal(0, math.sqrt(density * FS / 2), n) + coloured_noise(rng, n, card_density)
+        write(name, x, {"condition": "hot" if name.endswith("hot") else "cold", "rs_ohm": a["rs_ohm"],
+                        "temperature_k": t}, force)
+    write("bath_floor", coloured_noise(rng, n, card_density), {"condition": "floor"}, force)
+    nf = 10 * math.log10(1 + amp2 / (4 * K_B * T0 * a["rs_ohm"]))
+    return {"note": "INVENTED DATA", **a, "dut_noise_figure_db": nf}
 
 
 if __name__ == "__main__":

@@ -33,7 +33,7 @@ from typing import Any
 
 from ..errors import ParameterError
 
-__all__ = ["StatedUncertainty", "Contribution", "Budget", "power_rel_to_db", "amplitude_rel_to_db",
+__all__ = ["propagate", "StatedUncertainty", "Contribution", "Budget", "power_rel_to_db", "amplitude_rel_to_db",
            "dut_power_rel_std", "ein_budget", "nf_budget", "gain_budget"]
 
 _DB_PER_NEPER_POWER = 10.0 / math.log(10.0)
@@ -218,3 +218,28 @@ def gain_budget(*, value_db: float, gain_kind: str, gain_rel_std: float,
         contributions.append(Contribution("stated gain", 0.0, "taken as exact; state its uncertainty "
                                           "by measuring it with a tone"))
     return Budget("gain_db", value_db, tuple(contributions))
+
+
+def propagate(fn, inputs: dict[str, tuple[float, float, str]], *, quantity: str) -> Budget:
+    """Budget of ``fn(**values)`` (a result in dB) by central differences, one input at a time.
+
+    Each input is (value, standard uncertainty, note).  The contribution of
+    input i is ``|fn(x_i + u_i) - fn(x_i - u_i)| / 2`` (GUM 5.1.3, the
+    sensitivity coefficient evaluated numerically); a step that leaves the
+    function's domain counts as an infinite contribution.
+    """
+    values = {k: v for k, (v, _u, _n) in inputs.items()}
+    centre = float(fn(**values))
+    contributions = []
+    for name, (value, u, note) in inputs.items():
+        if u == 0:
+            contributions.append(Contribution(name, 0.0, note))
+            continue
+        try:
+            up = float(fn(**{**values, name: value + u}))
+            down = float(fn(**{**values, name: value - u}))
+            c = abs(up - down) / 2.0
+        except (ValueError, ZeroDivisionError, ArithmeticError):
+            c = math.inf
+        contributions.append(Contribution(name, c if math.isfinite(c) else math.inf, note))
+    return Budget(quantity, centre, tuple(contributions))

@@ -140,3 +140,50 @@ def save_plots(r: AnalysisResult, folder: str | Path) -> list[Path]:
         plt.close(fig)
         out.append(path)
     return out
+
+
+def plot_yfactor(r, *, ax_nf: "Axes | None" = None, ax_y: "Axes | None" = None):
+    """NF and gain against frequency with the k=2 band (top), Y against frequency (bottom)."""
+    if ax_nf is None or ax_y is None:
+        plt = require("matplotlib.pyplot", extra=None, purpose="plotting")
+        _, (ax_nf, ax_y) = plt.subplots(2, 1, figsize=(8, 7), layout="constrained", sharex=True)
+    rows = [row for row in r.rows if row.noise_figure_db is not None]
+    scale, unit = (1e6, "MHz") if r.band_hz[1] >= 1e6 else ((1e3, "kHz") if r.band_hz[1] >= 1e4 else (1, "Hz"))
+    f = np.array([row.freq_hz for row in rows]) / scale
+    nf = np.array([row.noise_figure_db for row in rows])
+    un = np.array([row.noise_figure_expanded_db or 0.0 for row in rows])
+    ax_nf.fill_between(f, nf - un, nf + un, color="tab:purple", alpha=0.2, label="NF, k=2 interval")
+    ax_nf.plot(f, nf, "o-", color="tab:purple", ms=4, label="noise figure")
+    ax_nf.set_ylabel("Noise figure (dB)")
+    gains = [row.gain_db for row in rows]
+    if any(g is not None for g in gains):
+        ax_g = ax_nf.twinx()
+        ax_g.plot(f, [g if g is not None else np.nan for g in gains], "s--", color="tab:green", ms=3,
+                  label="DUT gain")
+        ax_g.set_ylabel("Gain (dB)", color="tab:green")
+        ax_g.legend(fontsize=8, loc="lower right")
+    ax_nf.grid(True, alpha=0.3)
+    ax_nf.legend(fontsize=8, loc="upper left")
+    title = "second stage corrected" if r.second_stage_corrected else "system (DUT + receiver)"
+    ax_nf.set_title(f"Y-factor noise figure, {title}: {r.noise_figure_db:.2f} dB over the band", fontsize=11)
+    ax_y.plot(f, [row.y_factor_db for row in rows], "o-", color="tab:blue", ms=4)
+    ax_y.set_ylabel("Y factor (dB)")
+    ax_y.set_xlabel(f"Frequency ({unit})")
+    ax_y.grid(True, alpha=0.3)
+    return ax_nf, ax_y
+
+
+def save_yfactor_plots(r, folder: str | Path) -> list[Path]:
+    """Write yfactor.png into `folder` and return its path in a list."""
+    require("matplotlib", extra=None, purpose="plotting")
+    import matplotlib
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+    folder = Path(folder)
+    folder.mkdir(parents=True, exist_ok=True)
+    fig, (a, b) = plt.subplots(2, 1, figsize=(8, 7), layout="constrained", sharex=True)
+    plot_yfactor(r, ax_nf=a, ax_y=b)
+    path = folder / "yfactor.png"
+    fig.savefig(path, dpi=110)
+    plt.close(fig)
+    return [path]
