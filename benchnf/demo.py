@@ -85,10 +85,46 @@ def run_demo(*, output: Path = Path("benchnf-results"), quiet: bool = False) -> 
         f"{truth['voltage_noise_corner_hz']:7.1f} Hz",
         "",
     ]
+    lines += _yfactor_demos(src, out, truth)
     for w in caught:
         if issubclass(w.category, BenchWarning):
             lines.append(f"warning: {w.message}")
     lines.append(f"Results written to {out.resolve()}/ (results.json, summary.txt, calibration.json, "
-                 f"output_spectrum.png, input_density.png, noise_figure.png)")
+                 f"output_spectrum.png, input_density.png, noise_figure.png, yfactor_vhf.json, "
+                 f"yfactor_vhf.png, yfactor_bath.json, yfactor_bath.png)")
     print("\n".join(lines))
     return out
+
+
+def _yfactor_demos(src: Path, out: Path, truth: dict) -> list[str]:
+    """The two Y-factor scenarios: VHF preamp with a noise diode (SigMF), audio preamp in hot/cold baths."""
+    from .io import open_capture
+    from .io.sigmf_iq import open_sigmf
+    from .noise.yfactor import load_enr_table
+    from .report.json_out import write_json
+    from .report.plots import save_yfactor_plots
+    from .report.yfactor_text import format_yfactor
+    from .yfactor_analysis import HotColdSource, analyze_yfactor
+
+    vhf = analyze_yfactor(hot=open_sigmf(src / "vhf_hot.sigmf-meta"), cold=open_sigmf(src / "vhf_cold.sigmf-meta"),
+                          cal_hot=open_sigmf(src / "vhf_cal_hot.sigmf-meta"),
+                          cal_cold=open_sigmf(src / "vhf_cal_cold.sigmf-meta"),
+                          source=HotColdSource(enr=load_enr_table(src / "noise_source_enr.toml")), n_rows=8)
+    a = truth["yfactor_audio"]
+    bath = analyze_yfactor(hot=open_capture(src / "bath_hot.flac"), cold=open_capture(src / "bath_cold.flac"),
+                           floor=open_capture(src / "bath_floor.flac"),
+                           source=HotColdSource(t_hot_k=a["t_hot_k"], t_cold_k=a["t_cold_k"]), n_rows=6)
+    for name, res in (("vhf", vhf), ("bath", bath)):
+        write_json(res.to_dict(), out / f"yfactor_{name}.json")
+        (out / f"yfactor_{name}.txt").write_text(format_yfactor(res), encoding="utf-8")
+        save_yfactor_plots(res, out, name=f"yfactor_{name}.png")
+    v = truth["yfactor_vhf"]
+    return [
+        "Y-factor demos (INVENTED DATA; full tables in yfactor_vhf.txt and yfactor_bath.txt):",
+        f"  VHF preamp, SDR and noise diode:  NF {vhf.noise_figure_db:.3f} dB +/- "
+        f"{vhf.uncertainty['noise_figure_db']:.2f} (k=2), gain {vhf.gain_db:.2f} dB; model NF "
+        f"{v['dut_nf_db']:.3f} dB, gain {v['dut_gain_db']:.2f} dB",
+        f"  audio preamp, 1 kohm at 100 C / 0 C: NF {bath.noise_figure_db:.3f} dB +/- "
+        f"{bath.uncertainty['noise_figure_db']:.2f} (k=2); model NF {a['dut_noise_figure_db']:.3f} dB",
+        "",
+    ]

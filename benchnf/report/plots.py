@@ -173,8 +173,8 @@ def plot_yfactor(r, *, ax_nf: "Axes | None" = None, ax_y: "Axes | None" = None):
     return ax_nf, ax_y
 
 
-def save_yfactor_plots(r, folder: str | Path) -> list[Path]:
-    """Write yfactor.png into `folder` and return its path in a list."""
+def save_yfactor_plots(r, folder: str | Path, *, name: str = "yfactor.png") -> list[Path]:
+    """Write the Y-factor figure (`name`) into `folder` and return its path in a list."""
     require("matplotlib", extra=None, purpose="plotting")
     import matplotlib
     matplotlib.use("Agg")
@@ -183,7 +183,7 @@ def save_yfactor_plots(r, folder: str | Path) -> list[Path]:
     folder.mkdir(parents=True, exist_ok=True)
     fig, (a, b) = plt.subplots(2, 1, figsize=(8, 7), layout="constrained", sharex=True)
     plot_yfactor(r, ax_nf=a, ax_y=b)
-    path = folder / "yfactor.png"
+    path = folder / name
     fig.savefig(path, dpi=110)
     plt.close(fig)
     return [path]
