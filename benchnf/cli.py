@@ -302,6 +302,147 @@ def run_yfactor(args: argparse.Namespace) -> int:
     return ExitStatus.OK
 
 
+def run_cascade(args: argparse.Namespace) -> int:
+    from dataclasses import replace as dc_replace
+    from .noise.cascade import load_chain, predict, what_if, where_to_spend
+    from .report.json_out import write_json
+    from .report.stages_text import format_cascade
+    chain = load_chain(args.chain)
+    result = predict(chain)
+    spend = where_to_spend(chain, improvement_db=args.improve_db)
+    alternative = None
+    if args.what_if:
+        target, *pairs = args.what_if
+        names = [s.name for s in chain.stages]
+        index = int(target) - 1 if target.isdigit() else (names.index(target) if target in names else -1)
+        if not 0 <= index < len(names):
+            raise BenchError(f"--what-if: no stage {target!r} (stages: {', '.join(names)}, or 1..{len(names)})")
+        changes: dict[str, Any] = {}
+        for pair in pairs:
+            key, _, value = pair.partition("=")
+            if key not in ("gain_db", "nf_db", "te_k", "en_v_per_rthz", "in_a_per_rthz", "output_ohm"):
+                raise BenchError(f"--what-if: {key!r} is not a stage value one can swap")
+            try:
+                changes[key] = float(value)
+            except ValueError:
+                raise BenchError(f"--what-if: {pair!r} is not KEY=NUMBER") from None
+        if "nf_db" in changes:
+            changes.setdefault("te_k", None)
+        if "te_k" in changes and changes["te_k"] is not None:
+            changes.setdefault("nf_db", None)
+        stage = dc_replace(chain.stages[index], **changes, source="what-if")
+        _, other = what_if(chain, index, stage)
+        alternative = (f"{names[index]} had " + ", ".join(pairs), other)
+    print(format_cascade(result, spend=spend, improve_db=args.improve_db, what_if=alternative), end="")
+    if args.json:
+        data = {"schema_version": "1", "kind": "cascade", **result.to_dict(),
+                "where_to_spend": [{"stage": n, "noise_figure_saving_db": v} for n, v in spend]}
+        if alternative:
+            data["what_if"] = {"change": alternative[0], **alternative[1].to_dict()}
+        write_json(data, args.json)
+        print(f"\nJSON written to {args.json}")
+    return ExitStatus.OK
+
+
+def _gain_for(args: argparse.Namespace, cal, tone_path: Path | None):
+    from .analysis import GainSetup
+    if tone_path is not None:
+        tone = _open(tone_path, condition="tone", args=args, cal=cal)
+        vin = args.tone_input_vrms if args.tone_input_vrms is not None else tone.metadata.get("tone_input_vrms")
+        return GainSetup(tone=tone, tone_input_vrms=vin, tone_frequency_hz=getattr(args, "tone_hz", None),
+                         zin_ohm=getattr(args, "zin_ohm", None))
+    if args.gain_db is None:
+        raise BenchError("give the gain: --tone FILE with --tone-input-vrms, or --gain-db G")
+    return GainSetup(gain_db=args.gain_db, zin_ohm=getattr(args, "zin_ohm", None))
+
+
+def run_budget(args: argparse.Namespace) -> int:
+    from .dsp.weighting import Band
+    from .noise.cascade import load_chain
+    from .report.json_out import write_json
+    from .report.stages_text import format_budget
+    from .stages import measured_budget
+    chain = load_chain(args.chain) if args.chain else None
+    cal = _load_calibration(args)
+    taps = []
+    for i, (noise, tone) in enumerate(args.tap, 1):
+        name = chain.stages[i - 1].name if chain is not None and i <= len(chain.stages) else f"tap {i}"
+        taps.append((name, _open(Path(noise), condition=None, args=args, cal=cal),
+                     _gain_for(args, cal, Path(tone))))
+    rs = args.rs if args.rs is not None else taps[0][1].metadata.get("rs_ohm")
+    if rs is None or not rs > 0:
+        raise BenchError("give the source resistance the chain's input is terminated in: --rs OHM")
+    temperature = args.temperature_k or taps[0][1].metadata.get("temperature_k", 290.0)
+    result = measured_budget(taps=taps, rs_ohm=float(rs), temperature_k=float(temperature),
+                             floor=_open(args.floor, condition="floor", args=args, cal=cal), chain=chain,
+                             band=Band(*args.band), segment_length=args.segment)
+    print(format_budget(result), end="")
+    if args.json:
+        write_json(result.to_dict(), args.json)
+        print(f"\nJSON written to {args.json}")
+    if args.plot:
+        from .report.plots import save_budget_plot
+        paths = save_budget_plot(result, args.plot)
+        print(f"plots written to {Path(args.plot)}/: " + ", ".join(p.name for p in paths))
+    return ExitStatus.OK
+
+
+def _sweep_item(text: str) -> tuple[Path, float, Path | None]:
+    parts = text.split("@")
+    if len(parts) not in (2, 3):
+        raise argparse.ArgumentTypeError(f"{text!r} is not FILE@RS_OHM (or FILE@RS_OHM@TONE_FILE)")
+    try:
+        rs = float(parts[1])
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r}: {parts[1]!r} is not a resistance in ohm") from None
+    if not (math.isfinite(rs) and rs >= 0):
+        raise argparse.ArgumentTypeError(f"{text!r}: the source resistance must be >= 0 ohm (0 = shorted)")
+    return Path(parts[0]), rs, Path(parts[2]) if len(parts) == 3 else None
+
+
+def run_eni(args: argparse.Namespace) -> int:
+    from .dsp.weighting import Band
+    from .report.json_out import check_output_path, write_json
+    from .report.stages_text import format_eni
+    from .stages import extract_en_in
+    if args.json:
+        check_output_path(args.json, [p for p, _r, _t in args.captures])
+    cal = _load_calibration(args)
+    sweep = []
+    temps = []
+    for path, rs, tone in args.captures:
+        cap = _open(path, condition=None, args=args, cal=cal)
+        t_side = getattr(cap, "metadata", {}).get("temperature_k")
+        temps.append(t_side)
+        sweep.append([cap, rs, t_side, _gain_for(args, cal, tone or args.tone)])
+    stated = {t for t in temps if t is not None}
+    if args.temperature_k is not None:
+        if len(stated) > 1:
+            raise BenchError("the sweep's sidecars state different temperatures; --temperature-k would hide "
+                             "that: remove it, or correct the sidecars")
+        for item in sweep:
+            item[2] = args.temperature_k
+    else:
+        if len(stated) > 1 and None in temps:
+            raise BenchError("some captures of the sweep state their temperature and others do not: state "
+                             "it for every capture (sidecar temperature_k) or give --temperature-k")
+        for item in sweep:
+            if item[2] is None:
+                item[2] = 290.0
+    result = extract_en_in(sweep=[tuple(x) for x in sweep], floor=_open(args.floor, condition="floor", args=args,
+                                                                        cal=cal),
+                           band=Band(*args.band), segment_length=args.segment)
+    print(format_eni(result), end="")
+    if args.json:
+        write_json(result.to_dict(), args.json)
+        print(f"\nJSON written to {args.json}")
+    if args.plot:
+        from .report.plots import save_eni_plots
+        paths = save_eni_plots(result, args.plot)
+        print(f"plots written to {Path(args.plot)}/: " + ", ".join(p.name for p in paths))
+    return ExitStatus.OK
+
+
 def run_demo(args: argparse.Namespace) -> int:
     from .demo import run_demo as demo
     demo(output=args.output, quiet=args.quiet)
@@ -479,6 +620,65 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--plot", type=Path, metavar="DIR", help="write PNG plots into DIR")
     _common(p)
     p.set_defaults(run=run_yfactor)
+
+    p = sub.add_parser("cascade", help="predict a chain's noise figure (Friis) and where to spend",
+                       description="Noise figure, noise temperature and gain of a chain of stages from a "
+                                   "chain file (docs/cascade.md), each stage's share of the excess noise, "
+                                   "and what a quieter stage would buy.")
+    p.add_argument("chain", type=Path, metavar="CHAIN.toml")
+    p.add_argument("--improve-db", type=positive_hz, default=1.0, metavar="DB",
+                   help="improvement tried on each stage for the ranking (default 1 dB)")
+    p.add_argument("--what-if", nargs="+", metavar=("STAGE", "KEY=VALUE"),
+                   help="swap one stage's data, e.g. --what-if 2 nf_db=1.2 or --what-if 1 en_v_per_rthz=3e-10")
+    p.add_argument("--json", type=Path, metavar="OUT.json")
+    _common(p)
+    p.set_defaults(run=run_cascade)
+
+    p = sub.add_parser("budget", help="measured stage budget from tap captures, against the prediction",
+                       description="Input-referred noise after each stage, from captures at each stage's "
+                                   "output (the chain's input terminated) with a tone capture for each tap's "
+                                   "gain, beside the prediction from the chain file.")
+    p.add_argument("chain", type=Path, nargs="?", metavar="CHAIN.toml", help="stated part data (optional)")
+    p.add_argument("--tap", nargs=2, action="append", required=True, metavar=("NOISE", "TONE"),
+                   help="noise at one stage's output and a tone capture there; repeat in chain order")
+    p.add_argument("--tone-input-vrms", type=positive_volts, metavar="V",
+                   help="tone RMS at the source (default: each tone sidecar's tone_input_vrms)")
+    p.add_argument("--gain-db", type=finite_db, help=argparse.SUPPRESS)
+    p.add_argument("--rs", type=positive_ohm, metavar="OHM", help="source resistance (default: sidecar)")
+    p.add_argument("--temperature-k", type=kelvin, metavar="K", help="resistor temperature (default: sidecar, 290)")
+    p.add_argument("--floor", type=Path, metavar="FILE", help="analyzer floor")
+    p.add_argument("--band", type=non_negative_hz, nargs=2, default=[400.0, 20_000.0], metavar=("LO", "HI"),
+                   help="band of the band-mean densities (default 400 20000 Hz)")
+    p.add_argument("--segment", type=segment_samples, metavar="N")
+    p.add_argument("--channel", type=channel_index, metavar="N")
+    _calibration_options(p)
+    p.add_argument("--json", type=Path, metavar="OUT.json")
+    p.add_argument("--plot", type=Path, metavar="DIR")
+    _common(p)
+    p.set_defaults(run=run_budget)
+
+    p = sub.add_parser("eni", help="amplifier en and in from a source-resistance sweep, NF against Rs",
+                       description="Voltage noise en and current noise in (and their correlation with three "
+                                   "or more resistances) per one-third-octave band, Ropt and NFmin.")
+    p.add_argument("captures", type=_sweep_item, nargs="+", metavar="FILE@RS_OHM",
+                   help="captures with the input terminated in RS (0 = shorted); FILE@RS@TONE gives each its "
+                        "own tone capture for the gain through that Rs")
+    g = p.add_mutually_exclusive_group()
+    g.add_argument("--tone", type=Path, metavar="FILE", help="tone capture for the gain (all captures)")
+    g.add_argument("--gain-db", type=finite_db, metavar="G", help="stated voltage gain, dB")
+    p.add_argument("--tone-input-vrms", type=positive_volts, metavar="V", help="tone RMS at the source")
+    p.add_argument("--zin-ohm", type=positive_ohm, metavar="OHM",
+                   help="DUT input impedance, when tone levels were taken at the DUT terminals")
+    p.add_argument("--temperature-k", type=kelvin, metavar="K", help="resistor temperature for every capture")
+    p.add_argument("--floor", type=Path, metavar="FILE", help="analyzer floor")
+    p.add_argument("--band", type=non_negative_hz, nargs=2, default=[20.0, 20_000.0], metavar=("LO", "HI"))
+    p.add_argument("--segment", type=segment_samples, metavar="N")
+    p.add_argument("--channel", type=channel_index, metavar="N")
+    _calibration_options(p)
+    p.add_argument("--json", type=Path, metavar="OUT.json")
+    p.add_argument("--plot", type=Path, metavar="DIR")
+    _common(p)
+    p.set_defaults(run=run_eni)
 
     p = sub.add_parser("demo", help="analyse the shipped demo captures",
                        description="Calibrate and analyse the demo captures (invented data) and "

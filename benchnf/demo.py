@@ -85,15 +85,51 @@ def run_demo(*, output: Path = Path("benchnf-results"), quiet: bool = False) -> 
         f"{truth['voltage_noise_corner_hz']:7.1f} Hz",
         "",
     ]
+    lines += _stage_demos(src, out, cal, tone, terminated)
     lines += _yfactor_demos(src, out, truth)
     for w in caught:
         if issubclass(w.category, BenchWarning):
             lines.append(f"warning: {w.message}")
     lines.append(f"Results written to {out.resolve()}/ (results.json, summary.txt, calibration.json, "
-                 f"output_spectrum.png, input_density.png, noise_figure.png, yfactor_vhf.json, "
-                 f"yfactor_vhf.png, yfactor_bath.json, yfactor_bath.png)")
+                 f"output_spectrum.png, input_density.png, noise_figure.png, budget.json, stage_budget.png, "
+                 f"eni.json, en_in.png, nf_vs_rs.png, yfactor_vhf.json, yfactor_vhf.png, yfactor_bath.json, "
+                 f"yfactor_bath.png)")
     print("\n".join(lines))
     return out
+
+
+def _stage_demos(src: Path, out: Path, cal, tone, terminated) -> list[str]:
+    """The head amplifier's measured stage budget against its part data, and en/in from an Rs sweep."""
+    from .analysis import GainSetup
+    from .calibration import apply_calibration
+    from .io import open_capture
+    from .noise.cascade import load_chain
+    from .report.json_out import write_json
+    from .report.plots import save_budget_plot, save_eni_plots
+    from .report.stages_text import format_budget, format_eni
+    from .stages import extract_en_in, measured_budget
+
+    def cap(name: str):
+        return apply_calibration(open_capture(src / f"{name}.flac"), cal)
+
+    def gain(tone_cap):
+        return GainSetup(tone=tone_cap, tone_input_vrms=float(tone_cap.metadata["tone_input_vrms"]))
+
+    chain = load_chain(src / "head_amp_chain.toml")
+    taps = [(chain.stages[0].name, cap("tap1"), gain(cap("tap1_tone"))),
+            (chain.stages[1].name, cap("tap2"), gain(cap("tap2_tone"))),
+            (chain.stages[2].name, terminated, gain(tone))]
+    floor = cap("floor")
+    budget = measured_budget(taps=taps, rs_ohm=float(terminated.metadata["rs_ohm"]),
+                             temperature_k=float(terminated.metadata["temperature_k"]), floor=floor, chain=chain)
+    sweep = [(c, float(c.metadata["rs_ohm"]), float(c.metadata.get("temperature_k", 296.15)), gain(tone))
+             for c in (cap("shorted"), terminated, cap("rs_100"), cap("rs_1000"))]
+    eni = extract_en_in(sweep=sweep, floor=floor)
+    write_json(budget.to_dict(), out / "budget.json")
+    write_json(eni.to_dict(), out / "eni.json")
+    save_budget_plot(budget, out)
+    save_eni_plots(eni, out)
+    return ["", format_budget(budget), format_eni(eni)]
 
 
 def _yfactor_demos(src: Path, out: Path, truth: dict) -> list[str]:

@@ -59,8 +59,8 @@ DURATIONS_S = {"floor": 10.0, "shorted": 10.0, "terminated": 10.0, "tone": 3.0,
 HERE = Path(__file__).resolve().parent
 
 
-def total_gain() -> float:
-    return math.prod(s[5] for s in STAGES)
+def total_gain(n_stages: int = len(STAGES)) -> float:
+    return math.prod(s[5] for s in STAGES[:n_stages])
 
 
 def response(f: np.ndarray) -> np.ndarray:
@@ -72,12 +72,13 @@ def response(f: np.ndarray) -> np.ndarray:
     return hp * lp
 
 
-def amplifier_input_density(f: np.ndarray, *, rs_ohm: float, include_source: bool) -> np.ndarray:
-    """Input-referred noise density (V^2/Hz) of the chain with source resistance rs_ohm."""
+def amplifier_input_density(f: np.ndarray, *, rs_ohm: float, include_source: bool,
+                            n_stages: int = len(STAGES)) -> np.ndarray:
+    """Input-referred noise density (V^2/Hz) of the first n_stages with source resistance rs_ohm."""
     f = np.maximum(f, 1e-3)
     total = np.zeros_like(f)
     gain_before = 1.0
-    for _name, en, en_fc, i_n, in_fc, gain in STAGES:
+    for _name, en, en_fc, i_n, in_fc, gain in STAGES[:n_stages]:
         total += (en ** 2 * (1 + en_fc / f)) / gain_before ** 2
         if gain_before == 1.0:
             total += (i_n ** 2 * (1 + in_fc / f)) * rs_ohm ** 2
@@ -106,14 +107,17 @@ def hum(n: int, rng: np.random.Generator) -> np.ndarray:
                for fh, a in HUM)
 
 
-def dut_output_noise(rng: np.random.Generator, n: int, rs_ohm: float | None) -> np.ndarray:
-    g = total_gain()
+def dut_output_noise(rng: np.random.Generator, n: int, rs_ohm: float | None,
+                     n_stages: int = len(STAGES)) -> np.ndarray:
+    g = total_gain(n_stages)
 
     def density(f):
-        e2 = amplifier_input_density(f, rs_ohm=rs_ohm or 0.0, include_source=rs_ohm is not None)
+        e2 = amplifier_input_density(f, rs_ohm=rs_ohm or 0.0, include_source=rs_ohm is not None,
+                                     n_stages=n_stages)
         return e2 * g ** 2 * np.abs(response(f)) ** 2
 
-    return coloured_noise(rng, n, density) + hum(n, rng)
+    hum_scale = g / total_gain()  # the hum enters at the output stage's supply; scale it with the tap
+    return coloured_noise(rng, n, density) + hum(n, rng) * hum_scale
 
 
 def write(name: str, volts: np.ndarray, meta: dict, force: bool) -> None:
@@ -221,6 +225,7 @@ def main() -> None:
                              "stimulus": "white noise", "rs_ohm": RS_OHM}, args.force)
 
     truth_data = ground_truth()
+    truth_data["stage_budget"] = write_taps_and_sweep(args.force)
     truth_data["yfactor_vhf"] = write_vhf_scenario(args.force)
     truth_data["yfactor_audio"] = write_two_temperature_scenario(args.force)
     truth = HERE / "ground_truth.json"
@@ -228,6 +233,59 @@ def main() -> None:
         raise SystemExit("ground_truth.json exists: rerun with --force")
     truth.write_text(json.dumps(truth_data, indent=2) + "\n")
     print(f"wrote the demo captures and ground_truth.json in {HERE}")
+
+
+# --- stage taps and an Rs sweep (INVENTED DATA) -----------------------------------------------
+TAP_SECONDS = 5.0
+SWEEP_RS_OHM = (100.0, 1000.0)
+
+
+def write_taps_and_sweep(force: bool) -> dict:
+    """Taps after stages 1 and 2 (stage 3 is terminated.flac), their tones, and captures at 100 and 1000 ohm."""
+    rng = np.random.default_rng(SEED + 1)
+    n, nt = int(TAP_SECONDS * FS), int(DURATIONS_S["tone"] * FS)
+    t = np.arange(nt) / FS
+    for k in (1, 2):
+        g = total_gain(k) * response(np.array([TONE_HZ]))[0]
+        noise = dut_output_noise(rng, n, RS_OHM, n_stages=k) + coloured_noise(rng, n, card_density)
+        write(f"tap{k}", noise, {"condition": "tap", "rs_ohm": RS_OHM, "temperature_k": TEMPERATURE_K,
+                                 "stage": k}, force)
+        tone = (TONE_EMF_VRMS * math.sqrt(2) * abs(g) * np.sin(2 * np.pi * TONE_HZ * t + np.angle(g))
+                + dut_output_noise(rng, nt, RS_OHM, n_stages=k) + coloured_noise(rng, nt, card_density))
+        write(f"tap{k}_tone", tone, {"condition": "tone", "rs_ohm": RS_OHM, "tone_hz": TONE_HZ,
+                                     "tone_input_vrms": TONE_EMF_VRMS, "stage": k}, force)
+    for rs in SWEEP_RS_OHM:
+        noise = dut_output_noise(rng, n, rs) + coloured_noise(rng, n, card_density)
+        write(f"rs_{rs:g}", noise, {"condition": "terminated", "rs_ohm": rs, "temperature_k": TEMPERATURE_K},
+              force)
+    chain = HERE / "head_amp_chain.toml"
+    if force or not chain.exists():
+        chain.write_text(
+            "# The demo head amplifier as its parts' data sheets describe it (INVENTED DATA).\n"
+            "# Stage 2's data sheet is optimistic: the model the captures come from has 3 nV/rtHz.\n"
+            'name = "moving-coil head amplifier"\n'
+            f"source_ohm = {RS_OHM}\n"
+            f"temperature_k = {TEMPERATURE_K}\n\n"
+            "[[stage]]\n"
+            'name = "input pair"\nvoltage_gain_db = 20.0\nen_v_per_rthz = 0.45e-9\n'
+            'in_a_per_rthz = 1.5e-12\nsource = "part data"\n\n'
+            "[[stage]]\n"
+            'name = "second stage"\nvoltage_gain_db = 13.98\nen_v_per_rthz = 2.0e-9\n'
+            'source = "part data (typical)"\n\n'
+            "[[stage]]\n"
+            'name = "output buffer"\nvoltage_gain_db = 2.0\nen_v_per_rthz = 6.0e-9\n'
+            'source = "part data"\n')
+    one_k = np.array([2000.0])
+    return {
+        "note": "INVENTED DATA",
+        "added_at_input_v2_per_hz_at_2khz": [
+            float(amplifier_input_density(one_k, rs_ohm=RS_OHM, include_source=False, n_stages=k)[0]
+                  - (amplifier_input_density(one_k, rs_ohm=RS_OHM, include_source=False, n_stages=k - 1)[0]
+                     if k > 1 else 0.0)) for k in (1, 2, 3)],
+        "en_at_1khz_v_per_rthz": float(np.sqrt(amplifier_input_density(np.array([1000.0]), rs_ohm=0.0,
+                                                                       include_source=False)[0])),
+        "in_at_1khz_a_per_rthz": STAGES[0][3] * math.sqrt(1 + STAGES[0][4] / 1000.0),
+    }
 
 
 # --- Y-factor scenarios (INVENTED DATA) ------------------------------------------------------

@@ -187,3 +187,107 @@ def save_yfactor_plots(r, folder: str | Path, *, name: str = "yfactor.png") -> l
     fig.savefig(path, dpi=110)
     plt.close(fig)
     return [path]
+
+
+def _save(fig, path: Path) -> Path:
+    import matplotlib.pyplot as plt
+    fig.savefig(path, dpi=110)
+    plt.close(fig)
+    return path
+
+
+def _figure(rows: int = 1, height: float = 5.0):
+    require("matplotlib", extra=None, purpose="plotting")
+    import matplotlib
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+    return plt.subplots(rows, 1, figsize=(8, height), layout="constrained")
+
+
+def plot_stage_budget(budget, *, ax: "Axes | None" = None) -> "Axes":
+    """Each stage's share of the excess noise, measured beside predicted."""
+    if ax is None:
+        _, ax = _figure()
+    names = [t.name for t in budget.taps]
+    x = np.arange(len(names))
+    ax.bar(x - 0.2, [100 * t.share_measured for t in budget.taps], 0.4, label="measured", color="tab:blue")
+    if any(t.share_predicted is not None for t in budget.taps):
+        ax.bar(x + 0.2, [100 * (t.share_predicted or 0) for t in budget.taps], 0.4, label="predicted from part data",
+               color="tab:gray")
+    for i, t in enumerate(budget.taps):
+        if t.unexplained:
+            ax.annotate("unexplained", (i - 0.2, 100 * t.share_measured), ha="center", va="bottom",
+                        fontsize=8, color="tab:red")
+    ax.set_xticks(x, names)
+    ax.set_ylabel("Share of the excess noise (%)")
+    ax.set_title(f"Stage budget at Rs = {budget.rs_ohm:g} \u03a9: NF measured {budget.measured_noise_figure_db:.2f} dB"
+                 + (f", predicted {budget.predicted_noise_figure_db:.2f} dB"
+                    if budget.predicted_noise_figure_db is not None else ""), fontsize=11)
+    ax.grid(True, axis="y", alpha=0.3)
+    ax.legend(fontsize=8)
+    return ax
+
+
+def plot_en_in(eni, *, axes=None):
+    """en(f) and in(f) with their k=2 bands."""
+    if axes is None:
+        _, axes = _figure(2, 7)
+    fit = eni.fit
+    f = fit.frequency_hz
+    for ax, val, std, scale, label in ((axes[0], fit.en_v_per_rthz, fit.en_std, 1e9, "en (nV/\u221aHz)"),
+                                       (axes[1], fit.in_a_per_rthz, fit.in_std, 1e12, "in (pA/\u221aHz)")):
+        ax.fill_between(f, (val - 2 * std) * scale, (val + 2 * std) * scale, color="tab:blue", alpha=0.2,
+                        label="k=2 interval")
+        ax.loglog(f, val * scale, "o-", ms=3, color="tab:blue", label=label.split(" ")[0])
+        ax.set_ylabel(label)
+        ax.grid(True, which="both", alpha=0.3)
+        ax.legend(fontsize=8)
+    axes[1].set_xlabel("Frequency (Hz)")
+    axes[0].set_title("Amplifier voltage and current noise from the Rs sweep", fontsize=11)
+    return axes
+
+
+def plot_nf_vs_rs(eni, *, ax: "Axes | None" = None) -> "Axes":
+    """NF against source resistance at chosen frequencies, with the measured points."""
+    if ax is None:
+        _, ax = _figure()
+    grid = np.array(eni.nf_vs_rs["rs_ohm_grid"])
+    for name, curve in eni.nf_vs_rs["curves"].items():
+        ax.semilogx(grid, curve["noise_figure_db"], label=f"model at {name} Hz")
+    from ..units import BOLTZMANN_J_PER_K, T0_K
+    a = eni.at_1khz
+    for p in eni.points:
+        if p["rs_ohm"] > 0 and a["en_v_per_rthz"]:
+            e2 = p["input_density_at_1khz_v_per_rthz"] ** 2
+            f_meas = 1 + (e2 - 4 * BOLTZMANN_J_PER_K * p["temperature_k"] * p["rs_ohm"]) / (
+                4 * BOLTZMANN_J_PER_K * T0_K * p["rs_ohm"])
+            ax.semilogx(p["rs_ohm"], 10 * np.log10(max(f_meas, 1e-3)), "ks", ms=6)
+    if a["ropt_ohm"]:
+        ax.axvline(a["ropt_ohm"], color="0.5", ls=":", label=f"Ropt {a['ropt_ohm']:.0f} \u03a9 (1 kHz)")
+    ax.set_xlabel("Source resistance (\u03a9)")
+    ax.set_ylabel("Noise figure (dB)")
+    ax.set_ylim(bottom=0)
+    ax.grid(True, which="both", alpha=0.3)
+    ax.legend(fontsize=8, title="squares: measured at 1 kHz", title_fontsize=8)
+    ax.set_title("NF against Rs (best SNR is at the lowest Rs, not at Ropt)", fontsize=11)
+    return ax
+
+
+def save_budget_plot(budget, folder: str | Path) -> list[Path]:
+    folder = Path(folder)
+    folder.mkdir(parents=True, exist_ok=True)
+    fig, ax = _figure()
+    plot_stage_budget(budget, ax=ax)
+    return [_save(fig, folder / "stage_budget.png")]
+
+
+def save_eni_plots(eni, folder: str | Path) -> list[Path]:
+    folder = Path(folder)
+    folder.mkdir(parents=True, exist_ok=True)
+    fig, axes = _figure(2, 7)
+    plot_en_in(eni, axes=axes)
+    paths = [_save(fig, folder / "en_in.png")]
+    fig, ax = _figure()
+    plot_nf_vs_rs(eni, ax=ax)
+    paths.append(_save(fig, folder / "nf_vs_rs.png"))
+    return paths

@@ -1,0 +1,335 @@
+"""Chains of stages: the Friis cascade, the audio (voltage-noise) cascade, and where to spend.
+
+Matched (RF) form, Friis 1944:
+
+.. math::
+
+    F = F_1 + \\frac{F_2 - 1}{G_1} + \\frac{F_3 - 1}{G_1 G_2} + \\dots,\\qquad
+    T_e = T_{e1} + \\frac{T_{e2}}{G_1} + \\dots
+
+with G the available power gains.  Stage i's share of the excess noise is
+``(F_i - 1) / (G_1 ... G_{i-1}) / (F - 1)``.  A passive stage of loss L at
+physical temperature T has ``F = 1 + (L - 1) T / T0`` and ``G = 1/L``.
+
+Audio (voltage) form: each stage i has voltage noise e_n,i and current noise
+i_n,i at its input and voltage gain A_i, and sees the previous stage's output
+resistance (the source resistance Rs for the first).  Referred to the chain's
+input (uncorrelated sources; Motchenbacher and Connelly, ch. 2 and 13):
+
+.. math::
+
+    e_{ni}^2 = 4kTR_s + \\sum_i \\frac{e_{n,i}^2 + (i_{n,i} R_{src,i})^2 + 4kT R_{out,i-1}}
+               {(A_1 \\cdots A_{i-1})^2}
+
+with ``R_src,1 = Rs`` and ``R_src,i = R_out,i-1``; the output resistance of a
+stage is counted as thermal noise at the next stage's input.  Loading by the
+input impedance is not modelled (state the gains as loaded gains).
+
+References
+----------
+.. [1] H. T. Friis, "Noise figures of radio receivers", Proc. IRE 32(7), 1944.
+.. [2] C. D. Motchenbacher and J. A. Connelly, "Low-Noise Electronic System
+       Design", Wiley 1993.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+from typing import Any
+
+from ..errors import ParameterError
+from ..units import BOLTZMANN_J_PER_K, T0_K
+
+__all__ = ["Stage", "Chain", "CascadeResult", "StageShare", "load_chain", "friis", "voltage_cascade",
+           "where_to_spend", "what_if", "predict"]
+
+_STAGE_KEYS = {"name", "gain_db", "gain_linear", "voltage_gain_db", "nf_db", "te_k", "loss_db", "temperature_k",
+               "en_v_per_rthz", "in_a_per_rthz", "output_ohm", "source", "notes"}
+_CHAIN_KEYS = {"name", "source_ohm", "temperature_k", "stage", "notes"}
+
+
+@dataclass(frozen=True)
+class Stage:
+    """One stage of a chain; give what is known, with where it comes from.
+
+    Attributes
+    ----------
+    name : str
+    gain_db : float, optional
+        Power gain (RF) or, for the audio form, the voltage gain in dB.
+    nf_db, te_k : float, optional
+        Noise figure or noise temperature (either).
+    loss_db, temperature_k : float, optional
+        A passive stage: its loss and physical temperature (gives NF and gain).
+    en_v_per_rthz, in_a_per_rthz : float, optional
+        Input voltage and current noise densities (audio form).
+    output_ohm : float
+        Output resistance, seen by the next stage (audio form).
+    source : str
+        Where the values come from: ``measured``, ``part data``, ``assumed``...
+    """
+
+    name: str
+    gain_db: float | None = None
+    nf_db: float | None = None
+    te_k: float | None = None
+    loss_db: float | None = None
+    temperature_k: float | None = None
+    en_v_per_rthz: float | None = None
+    in_a_per_rthz: float = 0.0
+    output_ohm: float = 0.0
+    source: str = "stated"
+
+    def __post_init__(self) -> None:
+        if self.loss_db is not None:
+            if not (math.isfinite(self.loss_db) and self.loss_db >= 0):
+                raise ParameterError(f"stage {self.name!r}: loss_db {self.loss_db!r} must be >= 0")
+            if self.gain_db is None:
+                object.__setattr__(self, "gain_db", -self.loss_db)
+        if self.gain_db is not None and not math.isfinite(self.gain_db):
+            raise ParameterError(f"stage {self.name!r}: gain_db must be a finite number")
+        if self.nf_db is not None and self.te_k is not None:
+            raise ParameterError(f"stage {self.name!r}: give nf_db or te_k, not both")
+        if self.nf_db is not None and not self.nf_db >= 0:
+            raise ParameterError(f"stage {self.name!r}: nf_db {self.nf_db!r} must be >= 0 dB")
+        if self.te_k is not None and not self.te_k >= 0:
+            raise ParameterError(f"stage {self.name!r}: te_k {self.te_k!r} must be >= 0 K")
+        for key in ("en_v_per_rthz", "in_a_per_rthz", "output_ohm"):
+            v = getattr(self, key)
+            if v is not None and not (math.isfinite(v) and v >= 0):
+                raise ParameterError(f"stage {self.name!r}: {key} {v!r} must be >= 0")
+
+    @property
+    def gain(self) -> float:
+        """Linear power gain (RF form) or voltage gain squared (audio form)."""
+        if self.gain_db is None:
+            raise ParameterError(f"stage {self.name!r} has no gain: state gain_db (or loss_db)")
+        return 10 ** (self.gain_db / 10)
+
+    @property
+    def voltage_gain(self) -> float:
+        if self.gain_db is None:
+            raise ParameterError(f"stage {self.name!r} has no gain: state gain_db")
+        return 10 ** (self.gain_db / 20)
+
+    @property
+    def noise_factor(self) -> float:
+        """F from nf_db, te_k, or a passive loss at its temperature."""
+        if self.nf_db is not None:
+            return 10 ** (self.nf_db / 10)
+        if self.te_k is not None:
+            return 1 + self.te_k / T0_K
+        if self.loss_db is not None:
+            t = self.temperature_k if self.temperature_k is not None else T0_K
+            return 1 + (10 ** (self.loss_db / 10) - 1) * t / T0_K
+        raise ParameterError(f"stage {self.name!r} has no noise data: state nf_db, te_k or loss_db")
+
+    @property
+    def has_noise_figure(self) -> bool:
+        return self.nf_db is not None or self.te_k is not None or self.loss_db is not None
+
+
+@dataclass(frozen=True)
+class Chain:
+    """Stages in order, with the source resistance and temperature for the audio form."""
+
+    stages: tuple[Stage, ...]
+    source_ohm: float | None = None
+    temperature_k: float = T0_K
+    name: str = ""
+
+    def __post_init__(self) -> None:
+        if not self.stages:
+            raise ParameterError("a chain needs at least one [[stage]]")
+        if self.source_ohm is not None and not (math.isfinite(self.source_ohm) and self.source_ohm > 0):
+            raise ParameterError(f"source_ohm {self.source_ohm!r} must be > 0")
+
+    def replace_stage(self, index: int, stage: Stage) -> "Chain":
+        stages = list(self.stages)
+        stages[index] = stage
+        return replace(self, stages=tuple(stages))
+
+
+def load_chain(path: str | Path) -> Chain:
+    """Read a chain file (TOML, docs/cascade.md): ``[[stage]]`` tables in order."""
+    try:
+        import tomllib
+    except ModuleNotFoundError:  # Python 3.10
+        import tomli as tomllib  # type: ignore[no-redef]
+    path = Path(path)
+    try:
+        data = tomllib.loads(path.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise ParameterError(f"chain file {path}: no such file") from None
+    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as err:
+        raise ParameterError(f"chain file {path} is not valid TOML ({err})") from err
+    unknown = set(data) - _CHAIN_KEYS
+    if unknown:
+        raise ParameterError(f"chain file {path}: unknown top-level keys {sorted(unknown)} "
+                             f"(allowed: {sorted(_CHAIN_KEYS)})")
+    raw = data.get("stage")
+    if not isinstance(raw, list) or not raw:
+        raise ParameterError(f"chain file {path} has no [[stage]] tables")
+    stages = []
+    for i, st in enumerate(raw, 1):
+        unknown = set(st) - _STAGE_KEYS
+        if unknown:
+            raise ParameterError(f"chain file {path}, stage {i}: unknown keys {sorted(unknown)}")
+        st = dict(st)
+        st.pop("notes", None)
+        if "gain_linear" in st:
+            g = st.pop("gain_linear")
+            if not (isinstance(g, (int, float)) and g > 0):
+                raise ParameterError(f"chain file {path}, stage {i}: gain_linear {g!r} must be > 0")
+            st["gain_db"] = 10 * math.log10(g)
+        if "voltage_gain_db" in st:
+            st["gain_db"] = st.pop("voltage_gain_db")
+        st.setdefault("name", f"stage {i}")
+        try:
+            stages.append(Stage(**st))
+        except TypeError as err:
+            raise ParameterError(f"chain file {path}, stage {i}: {err}") from err
+    return Chain(tuple(stages), data.get("source_ohm"), float(data.get("temperature_k", T0_K)),
+                 str(data.get("name", path.stem)))
+
+
+@dataclass(frozen=True)
+class StageShare:
+    """A stage's place in the cascade."""
+
+    name: str
+    noise_factor: float
+    gain_db: float
+    contribution: float
+    share_of_excess: float
+    cumulative_noise_figure_db: float
+    source: str
+
+    def to_dict(self) -> dict[str, Any]:
+        return dict(self.__dict__)
+
+
+@dataclass(frozen=True)
+class CascadeResult:
+    """A predicted cascade: total figures and each stage's share."""
+
+    noise_figure_db: float
+    noise_temperature_k: float
+    gain_db: float
+    stages: tuple[StageShare, ...]
+    form: str
+    input_density_v_per_rthz: float | None = None
+    notes: tuple[str, ...] = field(default=())
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"noise_figure_db": self.noise_figure_db, "noise_temperature_k": self.noise_temperature_k,
+                "gain_db": self.gain_db, "form": self.form,
+                "input_density_v_per_rthz": self.input_density_v_per_rthz,
+                "stages": [s.to_dict() for s in self.stages], "notes": list(self.notes)}
+
+
+def friis(chain: Chain) -> CascadeResult:
+    """Friis cascade of a matched chain (noise factor and noise temperature form).
+
+    Raises
+    ------
+    ParameterError
+        A stage without noise data or gain, or with a gain <= 0 in linear terms.
+    """
+    gain_before = 1.0
+    total = 0.0
+    parts = []
+    for i, st in enumerate(chain.stages):
+        f = st.noise_factor
+        contribution = (f - 1.0) / gain_before if i else f - 1.0
+        total += contribution
+        parts.append((st, f, contribution, 1.0 + total))
+        if i < len(chain.stages) - 1:
+            gain_before *= st.gain  # needed to refer the next stage
+    last = chain.stages[-1]
+    total_gain_db = (10 * math.log10(gain_before * last.gain) if last.gain_db is not None else math.nan)
+    f_total = 1.0 + total
+    excess = f_total - 1.0
+    shares = tuple(StageShare(st.name, f, st.gain_db if st.gain_db is not None else math.nan, c,
+                              c / excess if excess > 0 else 0.0, 10 * math.log10(cum), st.source)
+                   for st, f, c, cum in parts)
+    return CascadeResult(10 * math.log10(f_total), excess * T0_K, total_gain_db, shares, "friis")
+
+
+def voltage_cascade(chain: Chain) -> CascadeResult:
+    """Input-referred noise of an audio chain (voltage form), and the NF at the chain's Rs."""
+    if chain.source_ohm is None:
+        raise ParameterError("the audio (voltage) cascade needs source_ohm at the top of the chain file")
+    k_t = 4 * BOLTZMANN_J_PER_K * chain.temperature_k
+    source = k_t * chain.source_ohm
+    gain_before = 1.0
+    r_src = chain.source_ohm
+    total = 0.0
+    parts = []
+    for i, st in enumerate(chain.stages):
+        if st.en_v_per_rthz is None:
+            raise ParameterError(f"stage {st.name!r} has no en_v_per_rthz for the audio cascade")
+        own = st.en_v_per_rthz ** 2 + (st.in_a_per_rthz * r_src) ** 2 + (k_t * r_src if i else 0.0)
+        contribution = own / gain_before ** 2
+        total += contribution
+        parts.append((st, contribution, total))
+        gain_before *= st.voltage_gain
+        r_src = st.output_ohm
+    n0 = 4 * BOLTZMANN_J_PER_K * T0_K * chain.source_ohm
+    f_total = 1 + total / n0
+    shares = tuple(StageShare(st.name, 1 + c / n0, st.gain_db, c, c / total if total > 0 else 0.0,
+                              10 * math.log10(1 + cum / n0), st.source) for st, c, cum in parts)
+    return CascadeResult(10 * math.log10(f_total), (f_total - 1) * T0_K, 20 * math.log10(gain_before), shares,
+                         "voltage", math.sqrt(source + total),
+                         (f"NF at Rs = {chain.source_ohm:g} ohm; best SNR always comes at the lowest "
+                          f"source impedance, not at the Rs of minimum NF",))
+
+
+def _predict(chain: Chain) -> CascadeResult:
+    if all(s.has_noise_figure for s in chain.stages):
+        return friis(chain)
+    if all(s.en_v_per_rthz is not None for s in chain.stages):
+        return voltage_cascade(chain)
+    lacking = next(s for s in chain.stages if not s.has_noise_figure and s.en_v_per_rthz is None) \
+        if any(not s.has_noise_figure and s.en_v_per_rthz is None for s in chain.stages) else None
+    if lacking is not None:
+        raise ParameterError(f"stage {lacking.name!r} has no noise data: state nf_db, te_k, loss_db "
+                             f"(Friis form) or en_v_per_rthz (voltage form)")
+    raise ParameterError("the chain mixes forms: give every stage a noise figure (nf_db, te_k or loss_db) "
+                         "or every stage its en_v_per_rthz")
+
+
+def where_to_spend(chain: Chain, *, improvement_db: float = 1.0) -> list[tuple[str, float]]:
+    """For each stage, how much the total NF falls if that stage's NF falls by `improvement_db`.
+
+    Returned ranked, largest saving first, as (stage name, saving in dB).
+    In the audio form, the stage's en is scaled by the same factor instead.
+    """
+    base = _predict(chain)
+    out = []
+    for i, st in enumerate(chain.stages):
+        if base.form == "friis":
+            f = st.noise_factor
+            better_f = max(1.0, 1 + (f - 1) * 10 ** (-improvement_db / 10)) if st.loss_db is not None \
+                else max(1.0, f / 10 ** (improvement_db / 10))
+            new = replace(st, nf_db=10 * math.log10(better_f), te_k=None, loss_db=None,
+                          gain_db=st.gain_db)
+        else:
+            new = replace(st, en_v_per_rthz=st.en_v_per_rthz * 10 ** (-improvement_db / 20),
+                          in_a_per_rthz=st.in_a_per_rthz * 10 ** (-improvement_db / 20))
+        out.append((st.name, base.noise_figure_db - _predict(chain.replace_stage(i, new)).noise_figure_db))
+    return sorted(out, key=lambda x: x[1], reverse=True)
+
+
+def what_if(chain: Chain, index: int, replacement: Stage) -> tuple[CascadeResult, CascadeResult]:
+    """(now, with `replacement` in place of stage `index`)."""
+    if not 0 <= index < len(chain.stages):
+        raise ParameterError(f"stage index {index} is outside the chain (1..{len(chain.stages)})")
+    return _predict(chain), _predict(chain.replace_stage(index, replacement))
+
+
+def predict(chain: Chain) -> CascadeResult:
+    """Friis when every stage has a noise figure, else the audio voltage form."""
+    return _predict(chain)

@@ -1,0 +1,149 @@
+"""Amplifier voltage and current noise (en, in) from captures at several source resistances.
+
+With the input terminated in Rs at temperature T (the gain measured through
+Rs, so input loading is included), the input-referred density is
+
+.. math:: e_{ni}^2(R_s) = e_n^2 + 2\\rho\\, e_n i_n R_s + i_n^2 R_s^2 + 4kTR_s
+
+Subtracting the known thermal term leaves a polynomial in Rs whose
+coefficients are found per frequency by weighted linear least squares:
+``[e_n^2, i_n^2]`` from two or more resistances (uncorrelated model), and the
+correlation term ``2 rho e_n i_n`` too from three or more.  Then
+
+.. math::
+
+    R_{opt} = e_n / i_n,\\qquad F_{min} = 1 + \\frac{e_n i_n (1 + \\rho)}{2kT_0},\\qquad
+    F(R_s) = 1 + \\frac{e_n^2 + 2\\rho e_n i_n R_s + i_n^2 R_s^2}{4kT_0 R_s}
+
+Best SNR always comes at the lowest source impedance, not at Ropt: Ropt only
+makes the amplifier's contribution smallest relative to the source's own noise.
+
+References
+----------
+.. [1] C. D. Motchenbacher and J. A. Connelly, "Low-Noise Electronic System
+       Design", Wiley 1993, ch. 2 (the en-in model, Ropt and Fmin).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from ..errors import MeasurementError, ParameterError
+from ..units import BOLTZMANN_J_PER_K, T0_K
+
+__all__ = ["EnInFit", "fit_en_in", "noise_factor_vs_rs", "ropt_ohm", "fmin"]
+
+
+def noise_factor_vs_rs(rs_ohm: ArrayLike, *, en_v_per_rthz: float, in_a_per_rthz: float,
+                       correlation: float = 0.0) -> NDArray[np.float64]:
+    """F(Rs) of the en-in model referred to T0.
+
+    Examples
+    --------
+    >>> round(10 * math.log10(float(noise_factor_vs_rs(150.0, en_v_per_rthz=1e-9, in_a_per_rthz=1e-12))), 4)
+    1.5401
+    """
+    rs = np.asarray(rs_ohm, dtype=np.float64)
+    amp = en_v_per_rthz ** 2 + 2 * correlation * en_v_per_rthz * in_a_per_rthz * rs + (in_a_per_rthz * rs) ** 2
+    return 1 + amp / (4 * BOLTZMANN_J_PER_K * T0_K * rs)
+
+
+def ropt_ohm(en_v_per_rthz: float, in_a_per_rthz: float) -> float:
+    """Source resistance of minimum noise figure, en / in."""
+    return en_v_per_rthz / in_a_per_rthz if in_a_per_rthz > 0 else math.inf
+
+
+def fmin(en_v_per_rthz: float, in_a_per_rthz: float, correlation: float = 0.0) -> float:
+    """Minimum noise factor ``1 + en in (1 + rho) / (2 k T0)``."""
+    return 1 + en_v_per_rthz * in_a_per_rthz * (1 + correlation) / (2 * BOLTZMANN_J_PER_K * T0_K)
+
+
+@dataclass(frozen=True)
+class EnInFit:
+    """en, in (and rho) against frequency, with standard uncertainties."""
+
+    frequency_hz: NDArray[np.float64]
+    en_v_per_rthz: NDArray[np.float64]
+    in_a_per_rthz: NDArray[np.float64]
+    correlation: NDArray[np.float64] | None
+    en_std: NDArray[np.float64]
+    in_std: NDArray[np.float64]
+    rs_ohm: NDArray[np.float64]
+
+    def at(self, frequency_hz: float) -> dict[str, Any]:
+        """Values at the nearest fitted frequency, with Ropt and NFmin."""
+        k = int(np.argmin(np.abs(self.frequency_hz - frequency_hz)))
+        en, i_n = float(self.en_v_per_rthz[k]), float(self.in_a_per_rthz[k])
+        rho = float(self.correlation[k]) if self.correlation is not None else 0.0
+        ok = math.isfinite(en) and math.isfinite(i_n) and i_n > 0
+        return {"freq_hz": float(self.frequency_hz[k]), "en_v_per_rthz": en, "in_a_per_rthz": i_n,
+                "en_std_v_per_rthz": float(self.en_std[k]), "in_std_a_per_rthz": float(self.in_std[k]),
+                "correlation": rho if self.correlation is not None else None,
+                "ropt_ohm": ropt_ohm(en, i_n) if ok else None,
+                "nfmin_db": 10 * math.log10(fmin(en, i_n, rho)) if ok else None}
+
+
+def fit_en_in(rs_ohm: ArrayLike, density_v2_per_hz: ArrayLike, variance: ArrayLike, *,
+              temperature_k: ArrayLike, frequency_hz: ArrayLike, with_correlation: bool | None = None) -> EnInFit:
+    """Per-frequency weighted least squares for en^2, in^2 (and 2 rho en in).
+
+    Parameters
+    ----------
+    rs_ohm : array_like, shape (m,)
+        Source resistances (0 for a shorted input).
+    density_v2_per_hz : array_like, shape (m, n)
+        Input-referred density at each Rs and frequency (source noise included).
+    variance : array_like, shape (m, n)
+        Variance of each density value (from its Welch statistics).
+    temperature_k : array_like, shape (m,)
+        Each resistor's temperature.
+    frequency_hz : array_like, shape (n,)
+    with_correlation : bool, optional
+        Fit the correlation term (default: when three or more resistances are given).
+
+    Raises
+    ------
+    ParameterError
+        Fewer than two distinct resistances.
+    """
+    rs = np.asarray(rs_ohm, dtype=np.float64)
+    d = np.asarray(density_v2_per_hz, dtype=np.float64)
+    var = np.asarray(variance, dtype=np.float64)
+    t = np.broadcast_to(np.asarray(temperature_k, dtype=np.float64), rs.shape)
+    if np.unique(rs).size < 2:
+        raise ParameterError("en and in need captures at two or more different source resistances")
+    if np.any(rs < 0):
+        raise ParameterError("source resistances must be >= 0 ohm")
+    corr = (np.unique(rs).size >= 3) if with_correlation is None else with_correlation
+    y = d - 4 * BOLTZMANN_J_PER_K * t[:, None] * rs[:, None]
+    cols = [np.ones_like(rs), rs ** 2] + ([rs] if corr else [])
+    a = np.column_stack(cols)
+    n = d.shape[1]
+    coef = np.full((a.shape[1], n), np.nan)
+    cov_diag = np.full((a.shape[1], n), np.nan)
+    for j in range(n):
+        w = 1.0 / np.sqrt(np.maximum(var[:, j], 1e-300))
+        aw = a * w[:, None]
+        try:
+            sol, *_ = np.linalg.lstsq(aw, y[:, j] * w, rcond=None)
+            cov = np.linalg.inv(aw.T @ aw)
+        except np.linalg.LinAlgError:
+            continue
+        coef[:, j] = sol
+        cov_diag[:, j] = np.diag(cov)
+    en2, in2 = coef[0], coef[1]
+    en = np.sqrt(np.where(en2 > 0, en2, np.nan))
+    i_n = np.sqrt(np.where(in2 > 0, in2, np.nan))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        en_std = np.sqrt(cov_diag[0]) / (2 * en)
+        in_std = np.sqrt(cov_diag[1]) / (2 * i_n)
+        rho = np.clip(coef[2] / (2 * en * i_n), -1, 1) if corr else None
+    if np.all(np.isnan(en)):
+        raise MeasurementError("no frequency gives a positive en^2: the captures are noisier at low Rs "
+                               "than at high Rs, or the gains are wrong")
+    return EnInFit(np.asarray(frequency_hz, dtype=np.float64), en, i_n, rho, en_std, in_std, rs)

@@ -1,0 +1,283 @@
+"""Where the noise comes from: measured stage budgets from tap captures, and en/in from an Rs sweep.
+
+Both build on the gain-method pieces of :mod:`benchnf.analysis`: each capture
+gives an input-referred density ``e^2(f) = (S - S_floor) / |G|^2`` (lines
+removed), with the variance of every bin from the Welch statistics of the
+capture and of the floor, ``var = (2/nu_m S_m^2 + 2/nu_f S_f^2) / |G|^4``.
+The formulas are in :mod:`benchnf.noise.cascade` and
+:mod:`benchnf.noise.twoport`; the method in docs/cascade.md.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+from numpy.typing import NDArray
+
+from .analysis import GainSetup, _json_safe, capture_psd, measure_gain
+from .capture import Capture
+from .dsp.integrate import band_bin_weights
+from .dsp.spectrum import Psd, default_segment_length
+from .dsp.spurs import find_lines
+from .dsp.weighting import Band
+from .errors import CaptureError, ParameterError
+from .noise.cascade import Chain, predict
+from .noise.gain_method import third_octave_centres_hz, third_octave_weights
+from .noise.twoport import EnInFit, fit_en_in, noise_factor_vs_rs
+from .units import BOLTZMANN_J_PER_K, T0_K
+
+__all__ = ["InputReferred", "input_referred", "TapResult", "BudgetResult", "measured_budget",
+           "EniResult", "extract_en_in", "SCHEMA_VERSION"]
+
+SCHEMA_VERSION = "1"
+
+
+@dataclass(frozen=True)
+class InputReferred:
+    """Input-referred density of one capture, with per-bin variance and the gain used."""
+
+    frequency_hz: NDArray[np.float64]
+    density_v2_per_hz: NDArray[np.float64]
+    variance: NDArray[np.float64]
+    gain_db: float
+    gain_rel_std: float
+    enbw_bins: float
+    label: str
+
+    def band_mean(self, weights: NDArray[np.float64]) -> tuple[float, float]:
+        """Weighted mean density over a band and its standard deviation (bins correlated over ENBW)."""
+        wsum = float(weights.sum())
+        mean = float(np.dot(weights, self.density_v2_per_hz)) / wsum
+        var = float(np.dot(weights ** 2, self.variance)) / wsum ** 2 * self.enbw_bins
+        return mean, math.sqrt(var)
+
+
+def input_referred(capture: Capture | Psd, gain: GainSetup, *, rs_ohm: float, floor: Psd | None,
+                   segment_length: int, band: Band) -> InputReferred:
+    """Input-referred density of a capture (lines removed, floor subtracted) and its variance."""
+    p = capture_psd(capture, segment_length=segment_length)
+    clean = find_lines(p).cleaned
+    var_out = 2.0 / p.dof * clean ** 2
+    diff = clean
+    if floor is not None:
+        floor_clean = find_lines(floor).cleaned
+        diff = clean - floor_clean
+        var_out = var_out + 2.0 / floor.dof * floor_clean ** 2
+    vpfs = capture.volts_per_fs if isinstance(capture, Capture) else None
+    g = measure_gain(gain, frequency_hz=p.frequency_hz, rs_ohm=rs_ohm, segment_length=segment_length,
+                     output_volts_per_fs=vpfs, band=band)
+    label = capture.label if isinstance(capture, Capture) else "spectrum"
+    return InputReferred(p.frequency_hz, diff / g.power_gain, var_out / g.power_gain ** 2, g.gain_db,
+                         g.gain_rel_std, p.enbw_hz / p.bin_width_hz, label)
+
+
+# -- measured stage budget -------------------------------------------------------------------
+@dataclass(frozen=True)
+class TapResult:
+    """One tap: the noise after a stage, referred to the chain's input."""
+
+    name: str
+    gain_db: float
+    input_density_v_per_rthz: float
+    input_density_std_v_per_rthz: float
+    added_v2_per_hz: float
+    added_std_v2_per_hz: float
+    predicted_added_v2_per_hz: float | None
+    share_measured: float
+    share_predicted: float | None
+    unexplained: bool
+
+    def to_dict(self) -> dict[str, Any]:
+        return dict(self.__dict__)
+
+
+@dataclass(frozen=True)
+class BudgetResult:
+    """The measured stage budget beside the prediction."""
+
+    band_hz: tuple[float, float]
+    rs_ohm: float
+    temperature_k: float
+    source_density_v_per_rthz: float
+    taps: tuple[TapResult, ...]
+    measured_noise_figure_db: float
+    predicted_noise_figure_db: float | None
+    notes: tuple[str, ...]
+
+    def to_dict(self) -> dict[str, Any]:
+        out = {"schema_version": SCHEMA_VERSION, "kind": "budget", **{
+            k: ([t.to_dict() for t in v] if k == "taps" else v) for k, v in self.__dict__.items()}}
+        return _json_safe(out)
+
+
+def measured_budget(*, taps: Sequence[tuple[str, Capture, GainSetup]], rs_ohm: float,
+                    temperature_k: float = T0_K, floor: Capture | None = None, chain: Chain | None = None,
+                    band: Band = Band(400.0, 20_000.0), segment_length: int | None = None) -> BudgetResult:
+    """What each stage adds, measured at taps after each stage, against the chain's prediction.
+
+    Parameters
+    ----------
+    taps : sequence of (name, noise capture, gain setup)
+        In chain order: the chain's input terminated in `rs_ohm`, the noise at the
+        output of each stage, and how the gain from the input to that tap is known.
+    chain : Chain, optional
+        Stated part data, for the prediction (same stages, same order).
+    band : Band
+        Where the densities are averaged (default 400 Hz-20 kHz, above most 1/f).
+
+    Notes
+    -----
+    After tap k the input-referred density is ``e_k^2``; stage k added
+    ``e_k^2 - e_{k-1}^2`` (``e_0^2 = 4kT Rs``).  A stage's measured addition
+    differs from the prediction ("unexplained") when the difference exceeds
+    twice its combined standard uncertainty (Welch statistics of both taps and
+    the floor, and the gain fits).
+
+    Raises
+    ------
+    ParameterError
+        Taps whose gain does not increase, a chain of another length.
+    """
+    if not taps:
+        raise ParameterError("a budget needs at least one tap")
+    if chain is not None and len(chain.stages) != len(taps):
+        raise ParameterError(f"the chain has {len(chain.stages)} stages but {len(taps)} taps were given")
+    first = taps[0][1]
+    fs = first.sample_rate_hz
+    seg = default_segment_length(fs) if segment_length is None else int(segment_length)
+    p_floor = capture_psd(floor, segment_length=seg) if floor is not None else None
+    refs = [input_referred(cap, g, rs_ohm=rs_ohm, floor=p_floor, segment_length=seg, band=band)
+            for _name, cap, g in taps]
+    for a, b, (na, _, _), (nb, _, _) in zip(refs, refs[1:], taps, taps[1:]):
+        if not b.gain_db > a.gain_db:
+            raise ParameterError(f"tap {nb!r} has gain {b.gain_db:.2f} dB, not more than tap {na!r} "
+                                 f"({a.gain_db:.2f} dB): give the taps in chain order")
+    w = band_bin_weights(refs[0].frequency_hz, band)
+    source = 4 * BOLTZMANN_J_PER_K * temperature_k * rs_ohm
+    prediction = None
+    predicted_cum: list[float] | None = None
+    if chain is not None:
+        chain_here = Chain(chain.stages, source_ohm=chain.source_ohm or rs_ohm, temperature_k=temperature_k,
+                           name=chain.name)
+        prediction = predict(chain_here)
+        if prediction.form == "voltage":
+            predicted_cum = [s.contribution for s in prediction.stages]
+        else:  # Friis: the amplifier part of F - 1, in density terms at this Rs
+            n0 = 4 * BOLTZMANN_J_PER_K * T0_K * rs_ohm
+            predicted_cum = [s.contribution * n0 for s in prediction.stages]
+    notes: list[str] = []
+    results = []
+    prev_mean, prev_std = source, 0.0
+    means = []
+    for k, (ref, (name, _cap, _g)) in enumerate(zip(refs, taps)):
+        mean, std = ref.band_mean(w)
+        std = math.hypot(std, 2 * ref.gain_rel_std * mean)
+        means.append(mean)
+        added = mean - prev_mean
+        added_std = math.hypot(std, prev_std)
+        pred = predicted_cum[k] if predicted_cum is not None else None
+        unexplained = pred is not None and abs(added - pred) > 2 * added_std
+        if unexplained:
+            notes.append(f"unexplained noise at stage {k + 1} ({name}): it adds "
+                         f"{math.sqrt(max(added, 0)) * 1e9:.3f} nV/rtHz (referred to the input) where the part "
+                         f"data predict {math.sqrt(max(pred, 0)) * 1e9:.3f} nV/rtHz "
+                         f"(difference beyond twice its uncertainty)")
+        results.append((name, ref.gain_db, mean, std, added, added_std, pred))
+        prev_mean, prev_std = mean, std
+    total_excess = means[-1] - source
+    pred_total = sum(predicted_cum) if predicted_cum is not None else None
+    taps_out = tuple(TapResult(name, g, math.sqrt(max(m, 0)), s / (2 * math.sqrt(m)) if m > 0 else math.inf,
+                               a, a_s, p, a / total_excess if total_excess > 0 else math.nan,
+                               (p / pred_total) if (p is not None and pred_total) else None,
+                               bool(p is not None and abs(a - p) > 2 * a_s))
+                     for name, g, m, s, a, a_s, p in results)
+    n0 = 4 * BOLTZMANN_J_PER_K * T0_K * rs_ohm
+    measured_nf = 10 * math.log10(1 + (means[-1] - source) / n0)  # IEEE F, source at its own T
+    return BudgetResult((band.low_hz, band.high_hz), rs_ohm, temperature_k, math.sqrt(source), taps_out,
+                        measured_nf, prediction.noise_figure_db if prediction is not None else None,
+                        tuple(notes))
+
+
+# -- en/in from an Rs sweep ------------------------------------------------------------------
+@dataclass(frozen=True)
+class EniResult:
+    """en, in (and rho) against frequency from an Rs sweep, with NF(Rs) curves."""
+
+    fit: EnInFit
+    at_1khz: dict[str, Any]
+    points: tuple[dict[str, Any], ...]
+    rows: tuple[dict[str, Any], ...]
+    nf_vs_rs: dict[str, Any]
+    notes: tuple[str, ...]
+
+    def to_dict(self) -> dict[str, Any]:
+        a = self.at_1khz
+        out = {"schema_version": SCHEMA_VERSION, "kind": "eni",
+               "en_at_1khz_v_per_rthz": a["en_v_per_rthz"], "in_at_1khz_a_per_rthz": a["in_a_per_rthz"],
+               "ropt_at_1khz_ohm": a["ropt_ohm"], "nfmin_at_1khz_db": a["nfmin_db"],
+               "correlation_at_1khz": a["correlation"], "at_1khz": a, "rows": list(self.rows),
+               "points": list(self.points), "nf_vs_rs": self.nf_vs_rs, "notes": list(self.notes)}
+        return _json_safe(out)
+
+
+def extract_en_in(*, sweep: Sequence[tuple[Capture | Psd, float, float, GainSetup]], floor: Capture | None = None,
+                  band: Band = Band(20.0, 20_000.0), segment_length: int | None = None,
+                  curve_hz: Sequence[float] = (100.0, 1000.0, 10_000.0)) -> EniResult:
+    """en and in per one-third-octave band from captures at two or more source resistances.
+
+    Parameters
+    ----------
+    sweep : sequence of (capture, rs_ohm, temperature_k, gain setup)
+        Each capture with the input terminated in its Rs (0 = shorted) at its
+        temperature, and how its gain (through that Rs) is known.
+    """
+    if len(sweep) < 2:
+        raise ParameterError("en and in need captures at two or more source resistances (FILE@OHM ...)")
+    rs = np.array([s[1] for s in sweep], dtype=np.float64)
+    if np.unique(rs).size < 2:
+        raise ParameterError("the sweep's captures all have the same source resistance: vary Rs")
+    first = sweep[0][0]
+    fs = first.sample_rate_hz
+    for cap, *_ in sweep:
+        if isinstance(cap, Capture) and cap.sample_rate_hz != fs:
+            raise CaptureError(f"{cap.label} was recorded at {cap.sample_rate_hz:g} Hz but {first.label} at "
+                               f"{fs:g} Hz: record the sweep at one rate")
+    seg = default_segment_length(fs) if segment_length is None else int(segment_length)
+    p_floor = capture_psd(floor, segment_length=seg) if floor is not None else None
+    refs = [input_referred(cap, g, rs_ohm=r, floor=p_floor, segment_length=seg, band=band)
+            for cap, r, _t, g in sweep]
+    f = refs[0].frequency_hz
+    spot_band = Band(band.low_hz, min(band.high_hz, fs / 2 / 10 ** (1 / 20)))
+    bin_w = f[1] - f[0]
+    centres = [c for c in third_octave_centres_hz(spot_band) if c[1] * 0.2316 >= bin_w]
+    weights = [third_octave_weights(f, exact) for _l, exact in centres]
+    dens = np.array([[ref.band_mean(w)[0] for w in weights] for ref in refs])
+    var = np.array([[ref.band_mean(w)[1] ** 2 + (2 * ref.gain_rel_std * ref.band_mean(w)[0]) ** 2
+                     for w in weights] for ref in refs])
+    temps = np.array([s[2] for s in sweep])
+    fit = fit_en_in(rs, dens, var, temperature_k=temps, frequency_hz=[c[0] for c in centres])
+    at_1k = fit.at(1000.0)
+    rows = tuple(fit.at(c[0]) for c in centres)
+    points = tuple({"rs_ohm": float(r), "temperature_k": float(t), "label": ref.label, "gain_db": ref.gain_db,
+                    "input_density_at_1khz_v_per_rthz": math.sqrt(max(float(
+                        dens[i, int(np.argmin(np.abs(np.array([c[0] for c in centres]) - 1000.0)))]), 0.0))}
+                   for i, (ref, r, t) in enumerate(zip(refs, rs, temps)))
+    grid = np.geomspace(max(min(rs[rs > 0], default=10.0) / 10, 1.0), max(rs.max() * 10, 1e4), 120)
+    curves = {}
+    for fc in curve_hz:
+        v = fit.at(fc)
+        if v["en_v_per_rthz"] and v["in_a_per_rthz"] and math.isfinite(v["en_v_per_rthz"]):
+            nf = 10 * np.log10(noise_factor_vs_rs(grid, en_v_per_rthz=v["en_v_per_rthz"],
+                                                   in_a_per_rthz=v["in_a_per_rthz"],
+                                                   correlation=v["correlation"] or 0.0))
+            curves[f"{v['freq_hz']:g}"] = {"rs_ohm": grid.tolist(), "noise_figure_db": nf.tolist()}
+    notes = ["best SNR always comes at the lowest source impedance, not at Ropt: Ropt only minimises the "
+             "amplifier's noise relative to the source's own"]
+    if fit.correlation is None:
+        notes.append("two source resistances: en and in fitted as uncorrelated (three or more give the "
+                     "correlation too)")
+    return EniResult(fit, at_1k, points, rows, {"rs_ohm_grid": grid.tolist(), "curves": curves}, tuple(notes))

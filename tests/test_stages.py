@@ -1,0 +1,153 @@
+"""Measured stage budgets and en/in extraction on seeded synthetic captures (INVENTED DATA),
+and the bad inputs of the cascade, budget and eni commands."""
+
+import json
+import math
+
+import numpy as np
+import pytest
+import soundfile as sf
+
+from benchnf.analysis import GainSetup
+from benchnf.capture import Capture
+from benchnf.cli import ExitStatus, main
+from benchnf.errors import ParameterError
+from benchnf.noise.cascade import Chain, Stage, load_chain
+from benchnf.stages import extract_en_in, measured_budget
+
+K = 1.380649e-23
+FS = 48_000.0
+T = 290.0
+EN1, IN1, EN2, A1, A2 = 1.0e-9, 2e-12, 6e-9, 10.0, 10.0
+FLOOR = 20e-9
+VPFS = 2.0
+
+
+def _noise(rng, density, seconds=4.0):
+    return rng.normal(0, math.sqrt(density * FS / 2), int(seconds * FS))
+
+
+def _cap(x, cond=None):
+    return Capture.from_array(x / VPFS, sample_rate_hz=FS, volts_per_fs=VPFS, condition=cond)
+
+
+def _tone(rng, gain):
+    t = np.arange(int(2 * FS)) / FS
+    return _cap(1e-3 * math.sqrt(2) * gain * np.sin(2 * np.pi * 1000 * t) + rng.normal(0, 1e-6, t.size), "tone")
+
+
+def _setup(rng, rs, seconds=4.0):
+    src = 4 * K * T * rs
+    after1 = EN1 ** 2 + (IN1 * rs) ** 2 + src
+    after2 = after1 + EN2 ** 2 / A1 ** 2
+    taps = []
+    for name, density, gain in (("first", after1, A1), ("second", after2, A1 * A2)):
+        noise = _cap(_noise(rng, gain ** 2 * density, seconds) + _noise(rng, FLOOR ** 2, seconds), "tap")
+        taps.append((name, noise, GainSetup(tone=_tone(rng, gain), tone_input_vrms=1e-3)))
+    return taps, _cap(_noise(rng, FLOOR ** 2, seconds), "floor")
+
+
+def test_budget_recovers_what_each_stage_adds_and_flags_a_wrong_datasheet():
+    rng = np.random.default_rng(5)
+    rs = 100.0
+    taps, floor = _setup(rng, rs)
+    right = Chain((Stage("first", gain_db=20.0, en_v_per_rthz=EN1, in_a_per_rthz=IN1),
+                   Stage("second", gain_db=20.0, en_v_per_rthz=EN2)), source_ohm=rs, temperature_k=T)
+    r = measured_budget(taps=taps, rs_ohm=rs, temperature_k=T, floor=floor, chain=right)
+    assert r.taps[0].added_v2_per_hz == pytest.approx(EN1 ** 2 + (IN1 * rs) ** 2, rel=0.05)
+    assert r.taps[1].added_v2_per_hz == pytest.approx(EN2 ** 2 / A1 ** 2, rel=0.15)
+    assert not any(t.unexplained for t in r.taps)
+    optimistic = Chain((right.stages[0], Stage("second", gain_db=20.0, en_v_per_rthz=EN2 / 3)),
+                       source_ohm=rs, temperature_k=T)
+    r2 = measured_budget(taps=taps, rs_ohm=rs, temperature_k=T, floor=floor, chain=optimistic)
+    assert r2.taps[1].unexplained and "unexplained noise at stage 2" in r2.notes[0]
+
+
+def test_taps_that_do_not_increase_in_gain_are_refused():
+    rng = np.random.default_rng(6)
+    taps, floor = _setup(rng, 100.0, seconds=2.0)
+    with pytest.raises(ParameterError, match="not more than tap"):
+        measured_budget(taps=taps[::-1], rs_ohm=100.0, floor=floor)
+
+
+def test_en_in_recovered_from_an_rs_sweep():
+    rng = np.random.default_rng(7)
+    gain = 100.0
+    sweep = []
+    for rs in (0.0, 100.0, 1000.0, 5000.0):
+        e2 = EN1 ** 2 + (IN1 * rs) ** 2 + 4 * K * T * rs
+        cap = _cap(_noise(rng, gain ** 2 * e2, 6.0) + _noise(rng, FLOOR ** 2, 6.0))
+        sweep.append((cap, rs, T, GainSetup(gain_db=40.0)))
+    floor = _cap(_noise(rng, FLOOR ** 2, 6.0))
+    r = extract_en_in(sweep=sweep, floor=floor)
+    a = r.at_1khz
+    assert a["en_v_per_rthz"] == pytest.approx(EN1, abs=3 * a["en_std_v_per_rthz"] + 0.03 * EN1)
+    assert a["in_a_per_rthz"] == pytest.approx(IN1, abs=3 * a["in_std_a_per_rthz"] + 0.05 * IN1)
+    assert a["ropt_ohm"] == pytest.approx(EN1 / IN1, rel=0.15)
+    assert abs(a["correlation"]) < 0.3
+    assert any("lowest source impedance" in n for n in r.notes)
+
+
+def _wav(tmp_path, name, x):
+    p = tmp_path / name
+    sf.write(p, np.asarray(x) / VPFS, int(FS), subtype="FLOAT")
+    return str(p)
+
+
+def test_cli_cascade_json_contract(tmp_path, capsys):
+    chain = tmp_path / "c.toml"
+    chain.write_text('[[stage]]\nname = "lna"\ngain_db = 15.0\nnf_db = 2.0\n\n'
+                     '[[stage]]\nname = "rx"\ngain_db = 30.0\nte_k = 2610.0\n')
+    out = tmp_path / "c.json"
+    assert main(["cascade", str(chain), "--json", str(out), "--what-if", "lna", "nf_db=1.0"]) == 0
+    d = json.loads(out.read_text())
+    assert {"noise_figure_db", "noise_temperature_k", "gain_db", "stages"} <= set(d)
+    assert {"share_of_excess", "name"} <= set(d["stages"][0])
+    assert d["noise_figure_db"] == pytest.approx(2.7173, abs=1e-3)  # te 2610 K is NF 10.0 dB
+    assert d["what_if"]["noise_figure_db"] < d["noise_figure_db"]
+    assert "Where to spend" in capsys.readouterr().out
+
+
+@pytest.mark.parametrize(("toml", "pattern"), [
+    ('[[stage]]\nname = "a"\ngain_db = 10\n', "no noise data"),
+    ('[[stage]]\nname = "a"\nnf_db = 3\n[[stage]]\nname = "b"\nnf_db = 3\n', "has no gain"),
+    ('[[stage]]\nname = "a"\ngain_linear = 0\nnf_db = 3\n', "must be > 0"),
+    ('[[stage]]\nname = "a"\ngain_db = 10\nnf_db = 3\ncolour = "red"\n', "unknown keys"),
+    ('[[stage]]\nname = "a"\ngain_db = 10\nnf_db = -3\n', "must be >= 0 dB"),
+])
+def test_cli_cascade_bad_chain(tmp_path, capsys, toml, pattern):
+    chain = tmp_path / "c.toml"
+    chain.write_text(toml)
+    assert main(["cascade", str(chain)]) == ExitStatus.BAD_INPUT
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and pattern in err[0]
+
+
+def test_cli_eni_contract_and_bad_input(tmp_path, capsys):
+    rng = np.random.default_rng(8)
+    files = []
+    for rs in (0.0, 1000.0, 5000.0):
+        e2 = EN1 ** 2 + (IN1 * rs) ** 2 + 4 * K * T * rs
+        files.append(f"{_wav(tmp_path, f'r{rs:g}.wav', _noise(rng, 1e4 * e2, 3.0))}@{rs:g}")
+    out = tmp_path / "e.json"
+    base = ["eni", *files, "--gain-db", "40", "--volts-per-fs", str(VPFS), "--quiet"]
+    assert main(base + ["--json", str(out)]) == 0
+    d = json.loads(out.read_text())
+    for key in ("en_at_1khz_v_per_rthz", "in_at_1khz_a_per_rthz", "ropt_at_1khz_ohm", "nfmin_at_1khz_db", "rows"):
+        assert key in d
+    capsys.readouterr()
+    assert main(["eni", files[0], "--gain-db", "40", "--volts-per-fs", "2", "--quiet"]) == ExitStatus.BAD_INPUT
+    assert "two or more source resistances" in capsys.readouterr().err
+    # Sidecars that disagree on temperature, with one capture stating none.
+    (tmp_path / "r1000.json").write_text('{"temperature_k": 300}')
+    (tmp_path / "r5000.json").write_text('{"temperature_k": 350}')
+    assert main(base) == ExitStatus.BAD_INPUT
+    assert "state it for every capture" in capsys.readouterr().err
+    with pytest.raises(SystemExit):
+        main(["eni", "x.wav@-5", "--gain-db", "40"])
+
+
+def test_demo_chain_file_loads():
+    from pathlib import Path
+    chain = load_chain(Path(__file__).parents[1] / "captures_demo" / "head_amp_chain.toml")
+    assert [s.name for s in chain.stages] == ["input pair", "second stage", "output buffer"]
