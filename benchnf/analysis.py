@@ -151,6 +151,7 @@ class SpotValue:
     output_density_v_per_rthz: float | None
     floor_margin_db: float | None
     voltage_noise_v_per_rthz: float | None
+    input_density_expanded_db: float | None = None  # k=2, from the Welch statistics of this band
 
     def to_dict(self) -> dict[str, Any]:
         return dict(self.__dict__)
@@ -249,7 +250,7 @@ class AnalysisResult:
 
     def to_dict(self) -> dict[str, Any]:
         """JSON-ready dict (NaN becomes None), with ``schema_version``."""
-        out: dict[str, Any] = {"schema_version": SCHEMA_VERSION}
+        out: dict[str, Any] = {"schema_version": SCHEMA_VERSION, "kind": "analysis"}
         for key, value in self.__dict__.items():
             if key in ("spectra", "budgets"):
                 continue
@@ -748,6 +749,12 @@ def _spots(f, band, fs, p_term, p_floor, p_short, term_clean, floor_clean, short
         en_ok = (en_spot is not None and en_spot[i] > 0
                  and _resolved(w_s, short_clean, floor_clean, dof_measured=p_short.dof,
                                dof_floor=floor_dof, enbw_bins=enbw_bins))
+        m_band = float(np.dot(w_s, term_clean))
+        f_band = float(np.dot(w_s, floor_clean)) if floor_clean is not None else None
+        rel = dut_power_rel_std(
+            measured=m_band, measured_rel_std=band_relative_std(w_s, term_clean, dof=p_term.dof, enbw_bins=enbw_bins),
+            floor=f_band, floor_rel_std=(band_relative_std(w_s, floor_clean, dof=floor_dof, enbw_bins=enbw_bins)
+                                         if floor_clean is not None else None))
         spots.append(SpotValue(
             freq_hz=label,
             input_density_v_per_rthz=math.sqrt(e2_spot[i]) if ok else None,
@@ -755,6 +762,8 @@ def _spots(f, band, fs, p_term, p_floor, p_short, term_clean, floor_clean, short
             output_density_v_per_rthz=math.sqrt(out_spot[i]) if ok else None,
             floor_margin_db=m_db,
             voltage_noise_v_per_rthz=math.sqrt(en_spot[i]) if en_ok else None,
+            # A density's amplitude has half the relative uncertainty of its power: U = 2 * 8.686 * rel / 2 dB.
+            input_density_expanded_db=float(8.686 * rel) if ok and math.isfinite(rel) else None,
         ))
     if low_margin:
         notes.append("less than 3 dB above the analyzer floor at " +

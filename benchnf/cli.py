@@ -443,6 +443,107 @@ def run_eni(args: argparse.Namespace) -> int:
     return ExitStatus.OK
 
 
+def _read_results(path: Path) -> dict[str, Any]:
+    import json
+    try:
+        data = json.loads(Path(path).read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise BenchError(f"{path}: no such results file") from None
+    except (OSError, UnicodeDecodeError, ValueError) as err:
+        raise BenchError(f"{path} is not a readable results JSON ({err})") from err
+    if not isinstance(data, dict) or "schema_version" not in data:
+        raise BenchError(f"{path} is not a benchnf results JSON (no schema_version)")
+    return data
+
+
+def run_profile(args: argparse.Namespace) -> int:
+    from .check.profile import load_profile, profile_from_results
+    out = Path(args.output)
+    if out.exists():
+        raise BenchError(f"{out} exists already: give another -o name (nothing was overwritten)")
+    results = [_read_results(p) for p in args.results]
+    for p, r in zip(args.results, results):
+        if str(r.get("schema_version")) != "1" or r.get("kind") not in (None, "analysis"):
+            raise BenchError(f"{p} is not the results of 'benchnf analyze' (schema 1)")
+    prof = profile_from_results(results, margin_db=args.margin_db, name=args.name or "known good")
+    out.write_text(prof.to_toml(), encoding="utf-8")
+    load_profile(out)  # what was written must load
+    print(f"profile of {len(results)} known-good unit(s), {len(prof.limits)} limits, {len(prof.masks)} mask(s), "
+          f"{len(prof.hum)} hum limit(s), margin {args.margin_db:g} dB: written to {out}")
+    return ExitStatus.OK
+
+
+def _verdict_table(rows: list[tuple[str, str, str]]) -> str:
+    return "\n".join(f"  {a:24s} {b:10s} {c}" for a, b, c in rows)
+
+
+def run_check(args: argparse.Namespace) -> int:
+    from .check.limits import check_results
+    from .check.profile import load_profile
+    from .report.json_out import write_json
+    profile = load_profile(args.profile)
+    results = _read_results(args.results)
+    unit = args.unit or Path(args.results).stem
+    res = check_results(results, profile, unit=unit)
+    print(f"benchnf - {unit} against profile {profile.name!r}: {res.verdict}\n")
+    print(f"  {'limit':44s} {'measured':>11} {'limit':>16} {'margin':>10} {'U k=2':>7}  verdict")
+    for v in res.limits:
+        meas = "-" if v.measured is None else f"{v.measured:.4g}"
+        margin = "-" if v.margin is None else f"{v.margin:.3g} {v.unit}"
+        u = "-" if v.uncertainty is None else f"{v.uncertainty:.2f}"
+        print(f"  {v.name[:44]:44s} {meas:>11} {v.limit:>16} {margin:>10} {u:>7}  {v.verdict}")
+        if v.hint:
+            print(f"      suggestion: {v.hint}")
+    if args.json:
+        write_json(res.to_dict(), args.json)
+        print(f"\nJSON written to {args.json}")
+    if args.report:
+        from .report.html import write_unit_png, write_unit_report
+        folder = Path(args.report)
+        folder.mkdir(parents=True, exist_ok=True)
+        write_unit_report(folder / f"{unit}.html", serial=unit, verdict=res.verdict, check=res.to_dict(),
+                          results=results, profile=profile)
+        write_unit_png(results, res.to_dict(), folder / f"{unit}.png", profile)
+        print(f"report written to {folder / (unit + '.html')}")
+    return ExitStatus.CHECK_FAILED if res.failed else ExitStatus.OK
+
+
+def run_batch(args: argparse.Namespace) -> int:
+    from .check.batch import append_history, check_batch, find_units, write_junit, write_summary_csv
+    from .check.profile import load_profile
+    from .report.html import write_unit_png, write_unit_report
+    profile = load_profile(args.profile)
+    units = find_units(args.units)
+    out = Path(args.output)
+    out.mkdir(parents=True, exist_ok=True)
+    settings = {"calibration": str(args.calibration) if args.calibration else None,
+                "volts_per_fs": args.volts_per_fs, "floor": str(args.floor) if args.floor else None,
+                "tone_input_vrms": args.tone_input_vrms}
+    with _progress(len(units), quiet=args.quiet, label="checking") as tick:
+        outcomes = check_batch(Path(args.units), str(args.profile), settings=settings, workers=args.workers,
+                               progress=tick)
+    rows = []
+    for o in outcomes:
+        failed = [v["name"] for v in (o.check or {}).get("limits", []) if v["verdict"] != "PASS"]
+        rows.append((o.serial, o.verdict, o.error or ", ".join(failed)))
+        write_unit_report(out / f"{o.serial}.html", serial=o.serial, verdict=o.verdict, check=o.check,
+                          results=o.results, profile=profile, error=o.error)
+        if o.results:
+            write_unit_png(o.results, o.check, out / f"{o.serial}.png", profile)
+    write_summary_csv(outcomes, out / "summary.csv")
+    write_junit(outcomes, out / "junit.xml", profile=profile.name)
+    history = Path(args.history) if args.history else out / "history.csv"
+    append_history(outcomes, history, profile=profile.name)
+    counts = {k: sum(o.verdict == k for o in outcomes) for k in ("PASS", "MARGINAL", "FAIL", "ERROR")}
+    print(f"benchnf - {len(outcomes)} units against profile {profile.name!r}\n")
+    print(_verdict_table([("unit", "verdict", "limits not passed / error")] + rows))
+    print("\n  " + ", ".join(f"{v} {k.lower()}" for k, v in counts.items()))
+    print(f"\nreports, summary.csv and junit.xml in {out}/; history appended to {history}")
+    if counts["FAIL"]:
+        return ExitStatus.CHECK_FAILED
+    return ExitStatus.BAD_INPUT if counts["ERROR"] else ExitStatus.OK
+
+
 def run_demo(args: argparse.Namespace) -> int:
     from .demo import run_demo as demo
     demo(output=args.output, quiet=args.quiet)
@@ -679,6 +780,45 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--plot", type=Path, metavar="DIR")
     _common(p)
     p.set_defaults(run=run_eni)
+
+    p = sub.add_parser("profile", help="make a known-good profile from results JSON files",
+                       description="Limits from the results of one or more known-good units, with a margin "
+                                   "(and their spread where several are given).")
+    p.add_argument("results", type=Path, nargs="+", metavar="GOOD.json", help="results of 'benchnf analyze --json'")
+    p.add_argument("--margin-db", type=non_negative_pct, default=1.0, metavar="M", help="margin in dB (1)")
+    p.add_argument("--name", metavar="TEXT", help="the profile's name")
+    p.add_argument("-o", "--output", type=Path, required=True, metavar="PROFILE.toml",
+                   help="profile to write (never overwritten)")
+    _common(p)
+    p.set_defaults(run=run_profile)
+
+    p = sub.add_parser("check", help="check one unit's results against a profile (exit 0 pass, 1 fail)",
+                       description="Each limit PASS, MARGINAL (inside it by less than the uncertainty) or FAIL, "
+                                   "with the margin and a suggestion; exit status 0 pass, 1 fail, 2 bad input.")
+    p.add_argument("--profile", type=Path, required=True, metavar="PROFILE.toml")
+    p.add_argument("results", type=Path, metavar="RESULTS.json", help="results of 'benchnf analyze --json'")
+    p.add_argument("--unit", metavar="SERIAL", help="the unit's name (default: the file name)")
+    p.add_argument("--report", type=Path, metavar="DIR", help="write an HTML report and a PNG summary")
+    p.add_argument("--json", type=Path, metavar="OUT.json")
+    _common(p)
+    p.set_defaults(run=run_check)
+
+    p = sub.add_parser("batch", help="check a folder of units in parallel",
+                       description="One subfolder per unit (its name the serial): results.json, or captures "
+                                   "(terminated, tone, optional floor). Writes an HTML report per unit, "
+                                   "summary.csv, junit.xml and appends a history file.")
+    p.add_argument("units", type=Path, metavar="UNITS_DIR")
+    p.add_argument("--profile", type=Path, required=True, metavar="PROFILE.toml")
+    p.add_argument("-o", "--output", type=Path, default=Path("benchnf-check"), metavar="DIR",
+                   help="folder for the reports (default ./benchnf-check)")
+    p.add_argument("--floor", type=Path, metavar="FILE", help="analyzer floor for units without their own")
+    p.add_argument("--tone-input-vrms", type=positive_volts, metavar="V",
+                   help="tone level at the source, when the tone sidecars do not state it")
+    p.add_argument("--history", type=Path, metavar="FILE", help="history CSV to append to (default DIR/history.csv)")
+    p.add_argument("--workers", type=int, metavar="N", help="parallel processes (default: the cores)")
+    _calibration_options(p)
+    _common(p)
+    p.set_defaults(run=run_batch)
 
     p = sub.add_parser("demo", help="analyse the shipped demo captures",
                        description="Calibrate and analyse the demo captures (invented data) and "

@@ -87,13 +87,14 @@ def run_demo(*, output: Path = Path("benchnf-results"), quiet: bool = False) -> 
     ]
     lines += _stage_demos(src, out, cal, tone, terminated)
     lines += _yfactor_demos(src, out, truth)
+    lines += _check_demo(src, out, ref_cal_path=out / "calibration.json")
     for w in caught:
         if issubclass(w.category, BenchWarning):
             lines.append(f"warning: {w.message}")
     lines.append(f"Results written to {out.resolve()}/ (results.json, summary.txt, calibration.json, "
                  f"output_spectrum.png, input_density.png, noise_figure.png, budget.json, stage_budget.png, "
                  f"eni.json, en_in.png, nf_vs_rs.png, yfactor_vhf.json, yfactor_vhf.png, yfactor_bath.json, "
-                 f"yfactor_bath.png)")
+                 f"yfactor_bath.png, check/)")
     print("\n".join(lines))
     return out
 
@@ -130,6 +131,32 @@ def _stage_demos(src: Path, out: Path, cal, tone, terminated) -> list[str]:
     save_budget_plot(budget, out)
     save_eni_plots(eni, out)
     return ["", format_budget(budget), format_eni(eni)]
+
+
+def _check_demo(src: Path, out: Path, *, ref_cal_path: Path) -> list[str]:
+    """Three repaired units against the known-good profile: verdicts, reports, summary and JUnit XML."""
+    from .check.batch import append_history, check_batch, write_junit, write_summary_csv
+    from .check.profile import load_profile
+    from .report.html import write_unit_report
+    profile = load_profile(src / "known_good_profile.toml")
+    folder = out / "check"
+    folder.mkdir()
+    outcomes = check_batch(src / "units", str(src / "known_good_profile.toml"),
+                           settings={"calibration": str(ref_cal_path), "floor": str(src / "floor.flac")})
+    lines = [f"Known-good check of {len(outcomes)} repaired units (INVENTED DATA; reports in check/):"]
+    for o in outcomes:
+        write_unit_report(folder / f"{o.serial}.html", serial=o.serial, verdict=o.verdict, check=o.check,
+                          results=o.results, profile=profile, error=o.error)
+        failed = [v for v in (o.check or {}).get("limits", []) if v["verdict"] != "PASS"]
+        worst = min((v for v in failed if v["hint"]), key=lambda v: v["margin"] if v["margin"] is not None else -1e9,
+                    default=None)
+        hint = worst["hint"] if worst else ""
+        lines.append(f"  {o.serial}  {o.verdict:8s} " + (", ".join(v["name"] for v in failed) or "all limits passed")
+                     + (f"\n              suggestion: {hint}" if hint else ""))
+    write_summary_csv(outcomes, folder / "summary.csv")
+    write_junit(outcomes, folder / "junit.xml", profile=profile.name)
+    append_history(outcomes, folder / "history.csv", profile=profile.name)
+    return lines + [""]
 
 
 def _yfactor_demos(src: Path, out: Path, truth: dict) -> list[str]:

@@ -108,21 +108,25 @@ def hum(n: int, rng: np.random.Generator) -> np.ndarray:
 
 
 def dut_output_noise(rng: np.random.Generator, n: int, rs_ohm: float | None,
-                     n_stages: int = len(STAGES)) -> np.ndarray:
+                     n_stages: int = len(STAGES), *, en1_scale: float = 1.0, hum_scale: float = 1.0) -> np.ndarray:
     g = total_gain(n_stages)
 
     def density(f):
         e2 = amplifier_input_density(f, rs_ohm=rs_ohm or 0.0, include_source=rs_ohm is not None,
                                      n_stages=n_stages)
+        if en1_scale != 1.0:  # a degraded input device: more voltage noise at the first stage
+            en1, fc1 = STAGES[0][1], STAGES[0][2]
+            e2 = e2 + (en1_scale ** 2 - 1) * en1 ** 2 * (1 + fc1 / np.maximum(f, 1e-3))
         return e2 * g ** 2 * np.abs(response(f)) ** 2
 
-    hum_scale = g / total_gain()  # the hum enters at the output stage's supply; scale it with the tap
-    return coloured_noise(rng, n, density) + hum(n, rng) * hum_scale
+    tap_scale = g / total_gain()  # the hum enters at the output stage's supply; scale it with the tap
+    return coloured_noise(rng, n, density) + hum(n, rng) * tap_scale * hum_scale
 
 
 def write(name: str, volts: np.ndarray, meta: dict, force: bool) -> None:
     path = HERE / f"{name}.flac"
     side = HERE / f"{name}.json"
+    path.parent.mkdir(parents=True, exist_ok=True)
     if not force and (path.exists() or side.exists()):
         raise SystemExit(f"{path.name} exists: rerun with --force to rewrite the demo captures")
     fs_units = volts / VOLTS_PER_FS
@@ -226,8 +230,10 @@ def main() -> None:
 
     truth_data = ground_truth()
     truth_data["stage_budget"] = write_taps_and_sweep(args.force)
+    truth_data["units"] = write_units(args.force)
     truth_data["yfactor_vhf"] = write_vhf_scenario(args.force)
     truth_data["yfactor_audio"] = write_two_temperature_scenario(args.force)
+    write_known_good_profile(args.force)
     truth = HERE / "ground_truth.json"
     if truth.exists() and not args.force:
         raise SystemExit("ground_truth.json exists: rerun with --force")
@@ -286,6 +292,56 @@ def write_taps_and_sweep(force: bool) -> dict:
                                                                        include_source=False)[0])),
         "in_at_1khz_a_per_rthz": STAGES[0][3] * math.sqrt(1 + STAGES[0][4] / 1000.0),
     }
+
+
+# --- units for the known-good check (INVENTED DATA) -------------------------------------------
+UNITS = {"HA-0001": {"en1_scale": 1.0, "hum_scale": 1.0, "fault": "none (a good unit)"},
+         "HA-0002": {"en1_scale": 1.0, "hum_scale": 8.0, "fault": "raised ripple (a tired reservoir capacitor)"},
+         "HA-0003": {"en1_scale": 2.2, "hum_scale": 1.0, "fault": "noisy input stage (a degraded input device)"}}
+
+
+def write_units(force: bool) -> dict:
+    """Three repaired units, each with a terminated and a tone capture; the shared floor is floor.flac."""
+    import shutil
+    rng = np.random.default_rng(SEED + 2)
+    n, nt = int(5.0 * FS), int(2.0 * FS)
+    t = np.arange(nt) / FS
+    g = total_gain() * response(np.array([TONE_HZ]))[0]
+    root = HERE / "units"
+    if force and root.exists():
+        shutil.rmtree(root)
+    for serial, spec in UNITS.items():
+        folder = root / serial
+        folder.mkdir(parents=True, exist_ok=True)
+        kw = {"en1_scale": spec["en1_scale"], "hum_scale": spec["hum_scale"]}
+        term = dut_output_noise(rng, n, RS_OHM, **kw) + coloured_noise(rng, n, card_density)
+        tone = (TONE_EMF_VRMS * math.sqrt(2) * abs(g) * np.sin(2 * np.pi * TONE_HZ * t + np.angle(g))
+                + dut_output_noise(rng, nt, RS_OHM, **kw) + coloured_noise(rng, nt, card_density))
+        for name, x, meta in (("terminated", term, {"condition": "terminated", "rs_ohm": RS_OHM,
+                                                     "temperature_k": TEMPERATURE_K}),
+                              ("tone", tone, {"condition": "tone", "tone_input_vrms": TONE_EMF_VRMS})):
+            write(f"units/{serial}/{name}", x, {**meta, "serial": serial}, force)
+    return {"note": "INVENTED DATA", **{k: v["fault"] for k, v in UNITS.items()}}
+
+
+def write_known_good_profile(force: bool) -> None:
+    """The known-good profile, made by benchnf from the main demo unit (as 'benchnf profile' would)."""
+    import sys
+    sys.path.insert(0, str(HERE.parent))
+    from benchnf.analysis import GainSetup, analyze_gain_method
+    from benchnf.calibration import apply_calibration, calibrate_from_tone
+    from benchnf.check.profile import profile_from_results
+    from benchnf.io import open_capture
+    path = HERE / "known_good_profile.toml"
+    if path.exists() and not force:
+        return
+    cal = calibrate_from_tone(open_capture(HERE / "reference.flac"), vrms=REFERENCE_VRMS)
+    cap = lambda name: apply_calibration(open_capture(HERE / f"{name}.flac"), cal)  # noqa: E731
+    res = analyze_gain_method(terminated=cap("terminated"), floor=cap("floor"),
+                              gain=GainSetup(tone=cap("tone"), tone_input_vrms=TONE_EMF_VRMS),
+                              rs_ohm=RS_OHM, temperature_k=TEMPERATURE_K).to_dict()
+    prof = profile_from_results([res], margin_db=2.0, name="MC head amplifier, known good")
+    path.write_text("# Made by benchnf from the demo's main unit (INVENTED DATA), 2 dB margin.\n" + prof.to_toml())
 
 
 # --- Y-factor scenarios (INVENTED DATA) ------------------------------------------------------

@@ -1,0 +1,201 @@
+"""Checking a folder of units in parallel: one subfolder per unit, its name the serial number.
+
+A unit folder holds either a ``results.json`` (from ``benchnf analyze --json``)
+or captures: a terminated-input capture and a tone capture, found by their
+sidecar's ``condition`` or by their names (``terminated.*``, ``tone.*``,
+``floor.*``).  A unit whose captures are missing or bad is reported as an
+error; the others are still checked.
+"""
+
+from __future__ import annotations
+
+import csv
+import datetime as _dt
+import json
+import os
+from concurrent.futures import ProcessPoolExecutor
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Callable
+from xml.sax.saxutils import escape, quoteattr
+
+from ..errors import BenchError
+from .limits import check_results
+from .profile import Profile, load_profile
+
+__all__ = ["UnitOutcome", "find_units", "check_unit", "check_batch", "write_summary_csv", "write_junit",
+           "append_history"]
+
+_AUDIO = (".wav", ".flac", ".aif", ".aiff", ".w64", ".rf64", ".caf")
+
+
+@dataclass(frozen=True)
+class UnitOutcome:
+    """What happened to one unit."""
+
+    serial: str
+    verdict: str  # PASS, MARGINAL, FAIL or ERROR
+    error: str | None
+    check: dict[str, Any] | None
+    results: dict[str, Any] | None
+
+    def figure(self, key: str) -> Any:
+        return (self.results or {}).get(key)
+
+
+def find_units(folder: Path) -> list[Path]:
+    """Unit subfolders, sorted by name."""
+    folder = Path(folder)
+    if not folder.is_dir():
+        raise BenchError(f"{folder} is not a folder of units")
+    units = sorted(p for p in folder.iterdir() if p.is_dir() and not p.name.startswith("."))
+    if not units:
+        raise BenchError(f"{folder} holds no unit subfolders")
+    return units
+
+
+def _role_files(unit: Path) -> dict[str, Path]:
+    roles: dict[str, Path] = {}
+    for p in sorted(unit.iterdir()):
+        if p.suffix.lower() not in _AUDIO:
+            continue
+        cond = None
+        for side in (p.with_suffix(".json"), p.with_name(p.name + ".json")):
+            if side.is_file():
+                try:
+                    cond = json.loads(side.read_text()).get("condition")
+                except (OSError, ValueError):
+                    cond = None
+        role = cond or p.stem.lower()
+        if role in ("terminated", "tone", "floor", "shorted"):
+            roles.setdefault(role, p)
+    return roles
+
+
+def check_unit(unit: Path, profile_path: str, settings: dict[str, Any]) -> UnitOutcome:
+    """Analyse (if needed) and check one unit; never raises for the unit's own problems."""
+    serial = unit.name
+    try:
+        profile = load_profile(profile_path)
+        results_file = unit / "results.json"
+        if results_file.is_file():
+            results = json.loads(results_file.read_text(encoding="utf-8"))
+        else:
+            results = _analyse(unit, profile, settings)
+        check = check_results(results, profile, unit=serial)
+        return UnitOutcome(serial, check.verdict, None, check.to_dict(), results)
+    except BenchError as err:
+        return UnitOutcome(serial, "ERROR", str(err), None, None)
+    except (OSError, ValueError) as err:
+        return UnitOutcome(serial, "ERROR", f"{type(err).__name__}: {err}", None, None)
+
+
+def _analyse(unit: Path, profile: Profile, settings: dict[str, Any]) -> dict[str, Any]:
+    from ..analysis import GainSetup, analyze_gain_method
+    from ..calibration import Calibration, apply_calibration
+    from ..dsp.weighting import Band
+    from ..io import open_capture
+    roles = _role_files(unit)
+    missing = [r for r in ("terminated", "tone") if r not in roles]
+    if missing:
+        raise BenchError(f"unit {unit.name} lacks its {' and '.join(missing)} capture(s)")
+    cal = Calibration.load(settings["calibration"]) if settings.get("calibration") else None
+
+    def cap(path: Path | str, cond: str):
+        c = open_capture(path, condition=cond, volts_per_fs=settings.get("volts_per_fs"))
+        return apply_calibration(c, cal) if cal is not None and settings.get("volts_per_fs") is None else c
+
+    term = cap(roles["terminated"], "terminated")
+    tone = cap(roles["tone"], "tone")
+    floor_path = roles.get("floor") or settings.get("floor")
+    c = profile.conditions
+    rs = c.get("rs_ohm") or term.metadata.get("rs_ohm")
+    if rs is None:
+        raise BenchError(f"unit {unit.name}: no source resistance (profile conditions or sidecar rs_ohm)")
+    vin = tone.metadata.get("tone_input_vrms") or settings.get("tone_input_vrms")
+    result = analyze_gain_method(
+        terminated=term, floor=cap(floor_path, "floor") if floor_path else None,
+        gain=GainSetup(tone=tone, tone_input_vrms=vin), rs_ohm=float(rs),
+        temperature_k=float(term.metadata.get("temperature_k", c.get("temperature_k", 290.0))),
+        band=Band(*c.get("band_hz", (20.0, 20_000.0))), weighting=c.get("weighting", "none"))
+    return result.to_dict()
+
+
+def check_batch(folder: Path, profile_path: str, *, settings: dict[str, Any] | None = None,
+                workers: int | None = None, progress: Callable[[int], None] | None = None) -> list[UnitOutcome]:
+    """Check every unit of `folder` on the available cores; outcomes in unit order."""
+    load_profile(profile_path)  # a bad profile is refused before any work
+    units = find_units(folder)
+    settings = settings or {}
+    n = workers or min(len(units), os.cpu_count() or 1)
+    if n <= 1:
+        out = []
+        for u in units:
+            out.append(check_unit(u, profile_path, settings))
+            if progress:
+                progress(1)
+        return out
+    with ProcessPoolExecutor(max_workers=n) as pool:
+        futures = [pool.submit(check_unit, u, profile_path, settings) for u in units]
+        out = []
+        for fut in futures:
+            out.append(fut.result())
+            if progress:
+                progress(1)
+    return out
+
+
+_COLUMNS = ("serial", "verdict", "gain_db", "ein_dbu", "noise_figure_db", "nf_at_1khz_db", "flicker_corner_hz",
+            "failed_limits", "error")
+
+
+def _row(o: UnitOutcome) -> dict[str, Any]:
+    failed = [v["name"] for v in (o.check or {}).get("limits", []) if v["verdict"] != "PASS"]
+    return {"serial": o.serial, "verdict": o.verdict, **{k: o.figure(k) for k in _COLUMNS[2:7]},
+            "failed_limits": "; ".join(failed), "error": o.error or ""}
+
+
+def write_summary_csv(outcomes: list[UnitOutcome], path: Path) -> Path:
+    with open(path, "w", newline="", encoding="utf-8") as fh:
+        w = csv.DictWriter(fh, fieldnames=_COLUMNS)
+        w.writeheader()
+        for o in outcomes:
+            w.writerow(_row(o))
+    return path
+
+
+def write_junit(outcomes: list[UnitOutcome], path: Path, *, profile: str) -> Path:
+    """A JUnit-style XML: one test suite, one test case per unit (failures and errors marked)."""
+    failures = sum(o.verdict == "FAIL" for o in outcomes)
+    errors = sum(o.verdict == "ERROR" for o in outcomes)
+    lines = ['<?xml version="1.0" encoding="UTF-8"?>',
+             f'<testsuite name={quoteattr("benchnf check " + profile)} tests="{len(outcomes)}" '
+             f'failures="{failures}" errors="{errors}">']
+    for o in outcomes:
+        lines.append(f'  <testcase classname="benchnf.check" name={quoteattr(o.serial)}>')
+        if o.verdict == "FAIL":
+            failed = [v for v in o.check["limits"] if v["verdict"] == "FAIL"]
+            text = "; ".join(f"{v['name']}: {v['measured']} vs {v['limit']}" for v in failed)
+            lines.append(f'    <failure message={quoteattr(text)}>{escape(text)}</failure>')
+        elif o.verdict == "ERROR":
+            lines.append(f'    <error message={quoteattr(o.error or "")}>{escape(o.error or "")}</error>')
+        elif o.verdict == "MARGINAL":
+            lines.append("    <system-out>MARGINAL: inside the limits by less than the uncertainty</system-out>")
+        lines.append("  </testcase>")
+    lines.append("</testsuite>")
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    return path
+
+
+def append_history(outcomes: list[UnitOutcome], path: Path, *, profile: str) -> Path:
+    """Append one line per unit (time, profile, serial, verdict, key figures) so drift across units shows."""
+    new = not path.exists()
+    stamp = _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
+    with open(path, "a", newline="", encoding="utf-8") as fh:
+        w = csv.writer(fh)
+        if new:
+            w.writerow(["checked_at", "profile", *_COLUMNS[:7]])
+        for o in outcomes:
+            r = _row(o)
+            w.writerow([stamp, profile, *[r[k] for k in _COLUMNS[:7]]])
+    return path

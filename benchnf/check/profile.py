@@ -1,0 +1,299 @@
+"""Profiles: the limits of a known-good unit, in a TOML file of our own (docs/check.md).
+
+A profile holds the measurement conditions it applies to and its limits:
+scalar limits on any numeric figure of the results JSON (``min``, ``max`` or
+``target`` with ``tolerance``), an upper mask on a spot quantity against
+frequency (interpolated on log frequency), and hum limits per line family.
+Profiles are validated when loaded: unknown keys, unknown figures and
+impossible limits are refused.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from ..errors import ParameterError
+
+__all__ = ["PROFILE_SCHEMA", "ScalarLimit", "Mask", "HumLimit", "Profile", "load_profile", "profile_from_results",
+           "SCALAR_KEYS", "MASK_QUANTITIES"]
+
+PROFILE_SCHEMA = "benchnf.profile/1"
+
+#: Figures of the analysis JSON a scalar limit may name (numeric, top level).
+SCALAR_KEYS = ("gain_db", "ein_dbu", "ein_dbv", "ein_with_spurs_dbu", "noise_figure_db", "nf_at_1khz_db",
+               "input_density_at_1khz_v_per_rthz", "output_noise_vrms", "output_noise_dbu",
+               "voltage_noise_at_1khz_v_per_rthz", "flicker_corner_hz", "white_density_v_per_rthz", "snr_db",
+               "floor_margin_db")
+#: Spot quantities a mask may bound.
+MASK_QUANTITIES = ("input_density_v_per_rthz", "output_density_v_per_rthz", "noise_figure_db")
+#: Which uncertainty entry (expanded, dB) goes with which figure.
+UNCERTAINTY_OF = {"gain_db": "gain_db", "ein_dbu": "ein_db", "ein_dbv": "ein_db", "ein_with_spurs_dbu": "ein_db",
+                  "noise_figure_db": "noise_figure_db", "nf_at_1khz_db": "nf_at_1khz_db"}
+_TOP = {"schema", "name", "notes", "conditions", "limit", "mask", "hum"}
+_CONDITIONS = {"rs_ohm", "band_hz", "weighting", "sample_rate_hz", "gain_setting", "temperature_k"}
+_LIMIT = {"key", "min", "max", "target", "tolerance", "note"}
+_MASK = {"quantity", "points", "note"}
+_HUM = {"family", "max_output_vrms", "note"}
+
+
+def _finite(value: Any, what: str) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
+        raise ParameterError(f"{what} must be a finite number, not {value!r}")
+    return float(value)
+
+
+@dataclass(frozen=True)
+class ScalarLimit:
+    """A limit on one figure: min, max, or target +/- tolerance."""
+
+    key: str
+    min: float | None = None
+    max: float | None = None
+    note: str = ""
+
+    def __post_init__(self) -> None:
+        if self.key not in SCALAR_KEYS:
+            raise ParameterError(f"limit on {self.key!r}: not a figure benchnf reports (one of "
+                                 f"{', '.join(SCALAR_KEYS)})")
+        if self.min is None and self.max is None:
+            raise ParameterError(f"limit on {self.key!r} has neither min, max nor target")
+        if self.min is not None and self.max is not None and self.min > self.max:
+            raise ParameterError(f"limit on {self.key!r}: min {self.min:g} exceeds max {self.max:g}")
+
+    def to_toml(self) -> str:
+        lines = ["[[limit]]", f'key = "{self.key}"']
+        if self.min is not None and self.max is not None:
+            lines += [f"target = {(self.min + self.max) / 2!r}", f"tolerance = {(self.max - self.min) / 2!r}"]
+        else:
+            lines += [f"min = {self.min!r}"] if self.min is not None else [f"max = {self.max!r}"]
+        if self.note:
+            lines.append(f'note = "{self.note}"')
+        return "\n".join(lines)
+
+
+@dataclass(frozen=True)
+class Mask:
+    """An upper mask on a spot quantity, interpolated on log frequency (and log value for densities)."""
+
+    quantity: str
+    frequency_hz: tuple[float, ...]
+    limit: tuple[float, ...]
+    note: str = ""
+
+    def __post_init__(self) -> None:
+        if self.quantity not in MASK_QUANTITIES:
+            raise ParameterError(f"mask on {self.quantity!r}: one of {', '.join(MASK_QUANTITIES)}")
+        f = np.asarray(self.frequency_hz)
+        if f.size < 2 or np.any(f <= 0) or np.any(np.diff(f) <= 0):
+            raise ParameterError("mask points need at least two increasing frequencies above 0 Hz")
+        if self.quantity != "noise_figure_db" and np.any(np.asarray(self.limit) <= 0):
+            raise ParameterError(f"mask on {self.quantity}: limits must be > 0")
+
+    def at(self, frequency_hz: float) -> float | None:
+        """The mask's limit at a frequency (None outside its span)."""
+        f = np.log10(np.asarray(self.frequency_hz))
+        x = math.log10(frequency_hz)
+        if x < f[0] - 1e-9 or x > f[-1] + 1e-9:
+            return None
+        v = np.asarray(self.limit)
+        if self.quantity == "noise_figure_db":
+            return float(np.interp(x, f, v))
+        return float(10 ** np.interp(x, f, np.log10(v)))
+
+
+@dataclass(frozen=True)
+class HumLimit:
+    """Maximum RMS of one line family at the output (all its lines together)."""
+
+    family: str
+    max_output_vrms: float
+    note: str = ""
+
+    def __post_init__(self) -> None:
+        if self.family not in ("mains", "ripple", "unclassified", "all"):
+            raise ParameterError(f"hum family {self.family!r}: one of mains, ripple, unclassified, all")
+        if not self.max_output_vrms > 0:
+            raise ParameterError(f"hum limit for {self.family}: max_output_vrms must be > 0")
+
+
+@dataclass(frozen=True)
+class Profile:
+    """The conditions and limits of a known-good unit."""
+
+    name: str
+    conditions: dict[str, Any]
+    limits: tuple[ScalarLimit, ...] = ()
+    masks: tuple[Mask, ...] = ()
+    hum: tuple[HumLimit, ...] = ()
+    notes: str = ""
+    source: str = field(default="", compare=False)
+
+    def to_toml(self) -> str:
+        """The profile as TOML (round-trips through :func:`load_profile`)."""
+        c = self.conditions
+        lines = [f'schema = "{PROFILE_SCHEMA}"', f'name = "{self.name}"']
+        if self.notes:
+            lines.append(f'notes = "{self.notes}"')
+        lines += ["", "[conditions]"]
+        for key in sorted(c):
+            v = c[key]
+            lines.append(f"{key} = " + (f'"{v}"' if isinstance(v, str) else
+                                        ("[" + ", ".join(repr(float(x)) for x in v) + "]"
+                                         if isinstance(v, (list, tuple)) else repr(v))))
+        for lim in self.limits:
+            lines += ["", lim.to_toml()]
+        for m in self.masks:
+            pts = ", ".join(f"[{f!r}, {v!r}]" for f, v in zip(m.frequency_hz, m.limit))
+            lines += ["", "[[mask]]", f'quantity = "{m.quantity}"', f"points = [{pts}]"]
+        for h in self.hum:
+            lines += ["", "[[hum]]", f'family = "{h.family}"', f"max_output_vrms = {h.max_output_vrms!r}"]
+        return "\n".join(lines) + "\n"
+
+
+def _check_keys(table: dict, allowed: set, where: str) -> None:
+    unknown = set(table) - allowed
+    if unknown:
+        raise ParameterError(f"profile {where}: unknown keys {sorted(unknown)} (allowed: {sorted(allowed)})")
+
+
+def load_profile(path: str | Path) -> Profile:
+    """Read and validate a profile file."""
+    try:
+        import tomllib
+    except ModuleNotFoundError:  # Python 3.10
+        import tomli as tomllib  # type: ignore[no-redef]
+    path = Path(path)
+    try:
+        data = tomllib.loads(path.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise ParameterError(f"profile {path}: no such file") from None
+    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as err:
+        raise ParameterError(f"profile {path} is not valid TOML ({err})") from err
+    _check_keys(data, _TOP, str(path))
+    if data.get("schema") != PROFILE_SCHEMA:
+        raise ParameterError(f"profile {path}: schema {data.get('schema')!r} is not {PROFILE_SCHEMA!r}")
+    cond = data.get("conditions", {})
+    _check_keys(cond, _CONDITIONS, f"{path} [conditions]")
+    if "band_hz" in cond:
+        b = cond["band_hz"]
+        if not (isinstance(b, list) and len(b) == 2 and 0 <= _finite(b[0], "band") < _finite(b[1], "band")):
+            raise ParameterError(f"profile {path}: band_hz must be [low, high] with 0 <= low < high")
+    if "rs_ohm" in cond and not _finite(cond["rs_ohm"], "rs_ohm") > 0:
+        raise ParameterError(f"profile {path}: rs_ohm must be > 0")
+    limits = []
+    for i, lim in enumerate(data.get("limit", []), 1):
+        _check_keys(lim, _LIMIT, f"{path} limit {i}")
+        lo = _finite(lim["min"], "min") if "min" in lim else None
+        hi = _finite(lim["max"], "max") if "max" in lim else None
+        if "target" in lim:
+            if lo is not None or hi is not None:
+                raise ParameterError(f"profile {path} limit {i}: give target/tolerance or min/max, not both")
+            target = _finite(lim["target"], "target")
+            tol = _finite(lim.get("tolerance", -1), "tolerance")
+            if not tol >= 0:
+                raise ParameterError(f"profile {path} limit {i}: a target needs a tolerance >= 0")
+            lo, hi = target - tol, target + tol
+        try:
+            limits.append(ScalarLimit(str(lim.get("key")), lo, hi, str(lim.get("note", ""))))
+        except ParameterError as err:
+            raise ParameterError(f"profile {path}: {err}") from None
+    masks = []
+    for i, m in enumerate(data.get("mask", []) if isinstance(data.get("mask"), list) else [data.get("mask")]
+                          if data.get("mask") else [], 1):
+        _check_keys(m, _MASK, f"{path} mask {i}")
+        pts = m.get("points")
+        if not isinstance(pts, list) or not all(isinstance(p, list) and len(p) == 2 for p in pts):
+            raise ParameterError(f"profile {path} mask {i}: points must be [[frequency_hz, limit], ...]")
+        try:
+            masks.append(Mask(str(m.get("quantity", "input_density_v_per_rthz")),
+                              tuple(_finite(p[0], "mask frequency") for p in pts),
+                              tuple(_finite(p[1], "mask limit") for p in pts), str(m.get("note", ""))))
+        except ParameterError as err:
+            raise ParameterError(f"profile {path}: {err}") from None
+    hum = []
+    for i, h in enumerate(data.get("hum", []), 1):
+        _check_keys(h, _HUM, f"{path} hum {i}")
+        try:
+            hum.append(HumLimit(str(h.get("family")), _finite(h.get("max_output_vrms"), "max_output_vrms"),
+                                str(h.get("note", ""))))
+        except ParameterError as err:
+            raise ParameterError(f"profile {path}: {err}") from None
+    if not (limits or masks or hum):
+        raise ParameterError(f"profile {path} holds no limits")
+    return Profile(str(data.get("name", path.stem)), dict(cond), tuple(limits), tuple(masks), tuple(hum),
+                   str(data.get("notes", "")), str(path))
+
+
+def profile_from_results(results: list[dict[str, Any]], *, margin_db: float = 1.0, name: str = "known good",
+                         spread_k: float = 3.0) -> Profile:
+    """Make a profile from the results of one or more known-good units.
+
+    Each limit is the worst good value moved out by `margin_db` (and, where
+    several units are given, by `spread_k` standard deviations of their
+    spread): gain as target +/- tolerance, EIN and noise figures as maxima,
+    an upper mask on the input-referred spot density, hum per family, and the
+    1/f corner as a maximum.  The conditions are the units' own and must agree.
+    """
+    if not results:
+        raise ParameterError("give at least one known-good results JSON")
+    if not (math.isfinite(margin_db) and margin_db >= 0):
+        raise ParameterError(f"--margin-db {margin_db!r} must be >= 0")
+    keys = ("rs_ohm", "band_hz", "weighting", "sample_rate_hz")
+    cond = {k: results[0].get(k) for k in keys if results[0].get(k) is not None}
+    for r in results[1:]:
+        for k in keys:
+            if r.get(k) != results[0].get(k):
+                raise ParameterError(f"the known-good units were measured under different conditions "
+                                     f"({k}: {results[0].get(k)!r} and {r.get(k)!r}): make one profile per "
+                                     f"condition")
+
+    def values(key):
+        return np.array([r[key] for r in results if isinstance(r.get(key), (int, float))], dtype=float)
+
+    def spread(v):
+        return spread_k * float(np.std(v, ddof=1)) if v.size > 1 else 0.0
+
+    limits = []
+    g = values("gain_db")
+    if g.size:
+        tol = margin_db + spread(g)
+        limits.append(ScalarLimit("gain_db", float(g.mean()) - tol, float(g.mean()) + tol,
+                                  "known-good mean +/- margin"))
+    for key in ("ein_dbu", "noise_figure_db", "nf_at_1khz_db"):
+        v = values(key)
+        if v.size:
+            limits.append(ScalarLimit(key, None, float(v.max()) + margin_db + spread(v), "worst good + margin"))
+    v = values("flicker_corner_hz")
+    if v.size:
+        limits.append(ScalarLimit("flicker_corner_hz", None, float(v.max()) * 10 ** (margin_db / 10) * 1.5,
+                                  "worst good corner x 1.5 x margin"))
+    masks = []
+    # Each good spot value moved up by its own expanded uncertainty (the good unit's value is itself a
+    # measurement), then by the margin.
+    spots = [{s["freq_hz"]: (s["input_density_v_per_rthz"] * 10 ** ((s.get("input_density_expanded_db") or 0.0) / 20)
+                             if s.get("input_density_v_per_rthz") else None) for s in r.get("spot", [])}
+             for r in results]
+    freqs = sorted(set.intersection(*(set(k for k, v in s.items() if v) for s in spots))) if spots else []
+    if len(freqs) >= 2:
+        worst = [max(s[f] for s in spots) * 10 ** (margin_db / 20) for f in freqs]
+        masks.append(Mask("input_density_v_per_rthz", tuple(float(f) for f in freqs), tuple(worst),
+                          "worst good spot density + its uncertainty + margin"))
+    hum = []
+    noise = values("output_noise_vrms")
+    for family in ("mains", "ripple"):
+        levels = [math.sqrt(sum(sp["output_vrms"] ** 2 for sp in r.get("spurs", []) if sp["family"] == family))
+                  for r in results]
+        top = max(levels) if levels else 0.0
+        if top > 0:
+            hum.append(HumLimit(family, top * 10 ** (2 * margin_db / 20) * 2, "worst good x 2 + margin"))
+        elif noise.size:
+            # No such lines on the good units: allow none stronger than 20 dB below the broadband noise.
+            hum.append(HumLimit(family, float(noise.min()) * 0.1 * 10 ** (margin_db / 20),
+                                "good units had none: 20 dB below the output noise + margin"))
+    return Profile(name, cond, tuple(limits), tuple(masks), tuple(hum),
+                   f"made from {len(results)} known-good unit(s) with {margin_db:g} dB margin")

@@ -1,0 +1,135 @@
+"""A self-contained HTML report per unit (styles and figures inline: no network needed to view it)
+and a PNG summary.  Layout, colours and wording are benchnf's own."""
+
+from __future__ import annotations
+
+import base64
+import html
+import io
+import math
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from .._optional import require
+
+__all__ = ["unit_figure", "write_unit_report", "write_unit_png"]
+
+_TONE = {"PASS": "#2e7d4f", "MARGINAL": "#b07d12", "FAIL": "#b3261e", "ERROR": "#5f5f5f"}
+
+
+def unit_figure(results: dict[str, Any], check: dict[str, Any] | None, profile=None):
+    """A two-panel matplotlib figure: spot input density with the mask, and hum lines against limits."""
+    require("matplotlib", extra=None, purpose="plotting")
+    import matplotlib
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+    fig, (a, b) = plt.subplots(1, 2, figsize=(11, 4.2), layout="constrained",
+                               gridspec_kw={"width_ratios": [3, 2]})
+    spots = [s for s in results.get("spot", []) if s.get("input_density_v_per_rthz")]
+    f = [s["freq_hz"] for s in spots]
+    a.loglog(f, [s["input_density_v_per_rthz"] * 1e9 for s in spots], "o-", ms=4, color="#1f5a96",
+             label="this unit (1/3-octave)")
+    if profile is not None:
+        for m in profile.masks:
+            if m.quantity == "input_density_v_per_rthz":
+                ff = np.geomspace(m.frequency_hz[0], m.frequency_hz[-1], 200)
+                a.loglog(ff, [m.at(x) * 1e9 for x in ff], "--", color="#b3261e", label="profile mask")
+    a.set_xlabel("Frequency (Hz)")
+    a.set_ylabel("Input-referred noise (nV/\u221aHz)")
+    a.grid(True, which="both", alpha=0.3)
+    a.legend(fontsize=8)
+    a.set_title("Noise density against the mask", fontsize=10)
+    spurs = sorted(results.get("spurs", []), key=lambda s: s["freq_hz"])[:12]
+    if spurs:
+        colours = {"mains": "#1f5a96", "ripple": "#b07d12", "unclassified": "#5f5f5f"}
+        b.bar(range(len(spurs)), [s["output_vrms"] * 1e6 for s in spurs],
+              color=[colours.get(s["family"], "#5f5f5f") for s in spurs])
+        b.set_xticks(range(len(spurs)), [f"{s['freq_hz']:.0f}" for s in spurs], rotation=45, fontsize=8)
+        b.set_xlabel("Line frequency (Hz)")
+        b.set_ylabel("Output level (\u00b5V RMS)")
+        if profile is not None:
+            for h in profile.hum:
+                b.axhline(h.max_output_vrms * 1e6, ls=":", color="#b3261e", lw=1)
+                b.annotate(f"{h.family} limit", (len(spurs) - 0.5, h.max_output_vrms * 1e6), fontsize=7,
+                           ha="right", va="bottom", color="#b3261e")
+    else:
+        b.text(0.5, 0.5, "no hum or spur lines found", ha="center", va="center", transform=b.transAxes)
+    b.set_title("Hum and spur lines (blue mains, amber ripple)", fontsize=10)
+    verdict = (check or {}).get("verdict", "")
+    fig.suptitle(f"{(check or {}).get('unit', '')}  {verdict}", color=_TONE.get(verdict, "black"), fontsize=12)
+    return fig
+
+
+def _png_bytes(fig) -> bytes:
+    import matplotlib.pyplot as plt
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=100)
+    plt.close(fig)
+    return buf.getvalue()
+
+
+def write_unit_png(results, check, path: Path, profile=None) -> Path:
+    path.write_bytes(_png_bytes(unit_figure(results, check, profile)))
+    return path
+
+
+def _fmt(v: Any) -> str:
+    if v is None:
+        return "&ndash;"
+    if isinstance(v, float):
+        if not math.isfinite(v):
+            return "&ndash;"
+        return f"{v:.4g}"
+    return html.escape(str(v))
+
+
+def write_unit_report(path: Path, *, serial: str, verdict: str, check: dict[str, Any] | None,
+                      results: dict[str, Any] | None, profile=None, error: str | None = None) -> Path:
+    """Write one unit's report as a single HTML file."""
+    tone = _TONE.get(verdict, "#5f5f5f")
+    rows = []
+    for v in (check or {}).get("limits", []):
+        rows.append(f"<tr class='{v['verdict'].lower()}'><td>{html.escape(v['name'])}</td><td>{_fmt(v['measured'])}</td>"
+                    f"<td>{html.escape(v['limit'])}</td><td>{_fmt(v['margin'])} {html.escape(v['unit'])}</td>"
+                    f"<td>{_fmt(v['uncertainty'])}</td><td><b>{v['verdict']}</b></td>"
+                    f"<td>{html.escape(v['hint'] or '')}</td></tr>")
+    cond = (check or {}).get("conditions", {})
+    cond_rows = "".join(f"<tr><th>{html.escape(k)}</th><td>{_fmt(v)}</td></tr>" for k, v in cond.items())
+    figures = ""
+    if results:
+        png = base64.b64encode(_png_bytes(unit_figure(results, check, profile))).decode("ascii")
+        figures = f"<img alt='noise density against the mask, and hum lines' src='data:image/png;base64,{png}'>"
+        key = ["gain_db", "ein_dbu", "noise_figure_db", "nf_at_1khz_db", "flicker_corner_hz", "output_noise_vrms"]
+        figures += "<table class='figs'>" + "".join(
+            f"<tr><th>{k}</th><td>{_fmt(results.get(k))}</td></tr>" for k in key) + "</table>"
+    body_error = f"<p class='err'>{html.escape(error)}</p>" if error else ""
+    doc = f"""<!DOCTYPE html>
+<html lang="en"><head><meta charset="utf-8"><title>benchnf check: {html.escape(serial)}</title>
+<style>
+body {{ font-family: system-ui, sans-serif; margin: 2em auto; max-width: 70em; color: #1b1b1b; }}
+.verdict {{ display: inline-block; padding: .3em .9em; border-radius: .3em; color: white; background: {tone};
+           font-size: 1.6em; font-weight: 600; }}
+table {{ border-collapse: collapse; margin: 1em 0; }}
+th, td {{ border-bottom: 1px solid #ddd; padding: .35em .7em; text-align: left; vertical-align: top; }}
+tr.fail td {{ background: #fbe9e7; }} tr.marginal td {{ background: #fff5dc; }}
+img {{ max-width: 100%; border: 1px solid #eee; }} .err {{ color: #b3261e; font-weight: 600; }}
+footer {{ color: #777; font-size: .85em; margin-top: 2em; }}
+</style></head><body>
+<h1>Unit {html.escape(serial)}</h1>
+<p><span class="verdict">{verdict}</span> against profile <i>{html.escape((check or {}).get('profile', '-'))}</i></p>
+{body_error}
+<h2>Limits</h2>
+<table><tr><th>limit</th><th>measured</th><th>limit</th><th>margin</th><th>U (k=2, dB)</th><th>verdict</th>
+<th>suggestion</th></tr>{''.join(rows)}</table>
+<p>MARGINAL: within the expanded measurement uncertainty of the limit, on either side: neither a
+confident pass nor a proven failure. Measure longer, or check the setup, before deciding.</p>
+<h2>Figures</h2>{figures}
+<h2>Measurement conditions</h2><table>{cond_rows}</table>
+<footer>benchnf check report. Suggestions are general trade knowledge, not a diagnosis. Mains and valve
+equipment carry lethal voltages: follow local codes and licensed practice.</footer>
+</body></html>
+"""
+    path.write_text(doc, encoding="utf-8")
+    return path

@@ -1,0 +1,207 @@
+"""Profiles, checks, batches and reports, on seeded synthetic units with known faults (INVENTED DATA)."""
+
+import json
+import math
+import shutil
+import subprocess
+from pathlib import Path
+
+import numpy as np
+import pytest
+import soundfile as sf
+
+from benchnf.check.batch import check_batch
+from benchnf.check.limits import check_results
+from benchnf.check.profile import Mask, load_profile, profile_from_results
+from benchnf.cli import ExitStatus, main
+from benchnf.errors import ParameterError
+
+from synth import Bench
+
+DEMO = Path(__file__).parents[1] / "captures_demo"
+
+
+def _results(**over):
+    base = {"schema_version": "1", "kind": "analysis", "rs_ohm": 200.0, "band_hz": [20.0, 20000.0],
+            "weighting": "none", "sample_rate_hz": 48000.0, "temperature_k": 290.0, "gain_db": 40.0,
+            "ein_dbu": -125.0, "noise_figure_db": 3.0, "output_noise_vrms": 4e-5, "nf_at_1khz_db": 3.1, "flicker_corner_hz": 40.0,
+            "uncertainty": {"ein_db": 0.1, "noise_figure_db": 0.12, "gain_db": 0.1, "nf_at_1khz_db": 0.2},
+            "spot": [{"freq_hz": f, "input_density_v_per_rthz": 2e-9, "input_density_expanded_db": 0.3}
+                     for f in (100.0, 1000.0, 10000.0)],
+            "spurs": [{"freq_hz": 100.0, "output_vrms": 1e-6, "family": "ripple"}]}
+    base.update(over)
+    return base
+
+
+def _profile(tmp_path, body: str, name="p.toml"):
+    p = tmp_path / name
+    p.write_text('schema = "benchnf.profile/1"\nname = "t"\n[conditions]\nrs_ohm = 200.0\n'
+                 'band_hz = [20.0, 20000.0]\nweighting = "none"\n' + body)
+    return p
+
+
+def test_limits_exactly_at_the_boundary_and_the_marginal_zone(tmp_path):
+    prof = load_profile(_profile(tmp_path, '[[limit]]\nkey = "noise_figure_db"\nmax = 3.0\n'))
+    # Exactly at the limit: margin 0, inside the uncertainty zone: MARGINAL, not a confident pass.
+    assert check_results(_results(), prof).verdict == "MARGINAL"
+    assert check_results(_results(noise_figure_db=2.8), prof).verdict == "PASS"     # margin 0.2 > U 0.12
+    assert check_results(_results(noise_figure_db=2.95), prof).verdict == "MARGINAL"
+    assert check_results(_results(noise_figure_db=3.1), prof).verdict == "MARGINAL"  # over by less than U
+    assert check_results(_results(noise_figure_db=3.2), prof).verdict == "FAIL"
+    no_u = _results(noise_figure_db=3.0)
+    no_u["uncertainty"] = {}
+    assert check_results(no_u, prof).verdict == "PASS"  # sharp limit without an uncertainty: 3.0 <= 3.0
+    v = check_results(_results(noise_figure_db=3.3), prof).limits[0]
+    assert v.margin == pytest.approx(-0.3) and v.hint and "input stage" in v.hint
+
+
+def test_mask_is_interpolated_on_log_frequency():
+    m = Mask("input_density_v_per_rthz", (100.0, 10_000.0), (4e-9, 1e-9))
+    assert m.at(1000.0) == pytest.approx(2e-9, rel=1e-12)  # halfway in log f, geometric in value
+    assert m.at(50.0) is None and m.at(20_000.0) is None
+
+
+def test_mask_and_hum_checks(tmp_path):
+    prof = load_profile(_profile(tmp_path, '[[mask]]\nquantity = "input_density_v_per_rthz"\n'
+                                           'points = [[100, 3e-9], [10000, 3e-9]]\n'
+                                           '[[hum]]\nfamily = "ripple"\nmax_output_vrms = 2e-6\n'))
+    assert check_results(_results(), prof).verdict == "PASS"
+    spot = [{"freq_hz": 1000.0, "input_density_v_per_rthz": 4e-9, "input_density_expanded_db": 0.3}]
+    assert check_results(_results(spot=spot), prof).verdict == "FAIL"
+    hummy = _results(spurs=[{"freq_hz": 100.0, "output_vrms": 3e-6, "family": "ripple"}])
+    r = check_results(hummy, prof)
+    assert r.verdict == "FAIL" and "reservoir" in next(v.hint for v in r.limits if v.verdict == "FAIL")
+
+
+@pytest.mark.parametrize(("body", "pattern"), [
+    ('[[limit]]\nkey = "noise_figure_db"\nmin = 5\nmax = 3\n', "exceeds max"),
+    ('[[limit]]\nkey = "colour"\nmax = 3\n', "not a figure"),
+    ('[[limit]]\nkey = "gain_db"\ntarget = 40\n', "tolerance >= 0"),
+    ('[[limit]]\nkey = "gain_db"\nmax = 3\nwobble = 1\n', "unknown keys"),
+    ('[[mask]]\npoints = [[1000, 1e-9], [100, 1e-9]]\n', "increasing"),
+    ('[[hum]]\nfamily = "ripple"\nmax_output_vrms = -1\n', "must be > 0"),
+    ('', "holds no limits"),
+])
+def test_bad_profiles_are_refused(tmp_path, body, pattern):
+    with pytest.raises(ParameterError, match=pattern):
+        load_profile(_profile(tmp_path, body))
+
+
+def test_other_conditions_and_schema_are_refused(tmp_path):
+    prof = load_profile(_profile(tmp_path, '[[limit]]\nkey = "noise_figure_db"\nmax = 5\n'))
+    with pytest.raises(ParameterError, match="rs_ohm"):
+        check_results(_results(rs_ohm=150.0), prof)
+    with pytest.raises(ParameterError, match="band"):
+        check_results(_results(band_hz=[22.0, 22000.0]), prof)
+    with pytest.raises(ParameterError, match="schema_version"):
+        check_results(_results(schema_version="0"), prof)
+
+
+def test_profile_from_several_good_units_uses_their_spread():
+    goods = [_results(gain_db=g, ein_dbu=e) for g, e in ((40.0, -125.0), (40.2, -124.8), (39.9, -125.1))]
+    p = profile_from_results(goods, margin_db=1.0)
+    gain = next(x for x in p.limits if x.key == "gain_db")
+    spread = 3 * float(np.std([40.0, 40.2, 39.9], ddof=1))
+    assert gain.max - np.mean([40.0, 40.2, 39.9]) == pytest.approx(1.0 + spread)
+    ein = next(x for x in p.limits if x.key == "ein_dbu")
+    assert ein.max == pytest.approx(-124.8 + 1.0 + 3 * float(np.std([-125.0, -124.8, -125.1], ddof=1)))
+    with pytest.raises(ParameterError, match="different conditions"):
+        profile_from_results([_results(), _results(rs_ohm=150.0)])
+
+
+def _unit(folder: Path, bench: Bench, *, hum_vrms: float = 0.0):
+    folder.mkdir(parents=True)
+    caps = bench.captures()
+    x = caps["terminated"].read()
+    if hum_vrms:
+        t = np.arange(x.size) / bench.sample_rate_hz
+        x = x + hum_vrms * math.sqrt(2) * np.sin(2 * np.pi * 100 * t) / bench.volts_per_fs
+    sf.write(folder / "terminated.wav", x, int(bench.sample_rate_hz), subtype="FLOAT")
+    (folder / "terminated.json").write_text(json.dumps({"condition": "terminated", "rs_ohm": bench.rs_ohm}))
+    sf.write(folder / "tone.wav", caps["tone"].read(), int(bench.sample_rate_hz), subtype="FLOAT")
+    (folder / "tone.json").write_text(json.dumps({"condition": "tone", "tone_input_vrms": 1e-3}))
+    return caps["floor"].read()
+
+
+def test_batch_of_synthetic_units_with_known_faults(tmp_path, capsys):
+    units = tmp_path / "units"
+    floor = _unit(units / "U1-good", Bench(seed=1, seconds=3.0))
+    _unit(units / "U2-hum", Bench(seed=2, seconds=3.0), hum_vrms=30e-6)
+    _unit(units / "U3-noisy", Bench(seed=3, seconds=3.0, en_v_per_rthz=6e-9))
+    (units / "U4-empty").mkdir()
+    sf.write(tmp_path / "floor.wav", floor, 48000, subtype="FLOAT")
+    # Profile from the good unit's own analysis (as 'benchnf profile' does).
+    assert main(["analyze", "--terminated", str(units / "U1-good" / "terminated.wav"), "--floor",
+                 str(tmp_path / "floor.wav"), "--tone", str(units / "U1-good" / "tone.wav"), "--rs", "200",
+                 "--volts-per-fs", "2", "--json", str(tmp_path / "good.json"), "--quiet"]) == 0
+    assert main(["profile", str(tmp_path / "good.json"), "--margin-db", "1.5", "-o", str(tmp_path / "p.toml")]) == 0
+    assert main(["profile", str(tmp_path / "good.json"), "-o", str(tmp_path / "p.toml")]) == ExitStatus.BAD_INPUT
+    capsys.readouterr()
+    out = tmp_path / "out"
+    rc = main(["batch", str(units), "--profile", str(tmp_path / "p.toml"), "--floor", str(tmp_path / "floor.wav"),
+               "--volts-per-fs", "2", "-o", str(out), "--quiet"])
+    assert rc == ExitStatus.CHECK_FAILED
+    rows = {r.split(",")[0]: r.split(",")[1] for r in (out / "summary.csv").read_text().splitlines()[1:]}
+    assert rows == {"U1-good": "PASS", "U2-hum": "FAIL", "U3-noisy": "FAIL", "U4-empty": "ERROR"}
+    junit = (out / "junit.xml").read_text()
+    assert 'tests="4" failures="2" errors="1"' in junit
+    assert "lacks its terminated and tone" in junit
+    for serial in rows:
+        assert (out / f"{serial}.html").is_file()
+    main(["batch", str(units), "--profile", str(tmp_path / "p.toml"), "--floor", str(tmp_path / "floor.wav"),
+          "--volts-per-fs", "2", "-o", str(out), "--quiet", "--workers", "1"])
+    assert len((out / "history.csv").read_text().splitlines()) == 1 + 2 * 4  # appended, not rewritten
+
+
+def test_check_command_exit_status(tmp_path, capsys):
+    prof = _profile(tmp_path, '[[limit]]\nkey = "noise_figure_db"\nmax = 5.0\n')
+    good, bad = tmp_path / "g.json", tmp_path / "b.json"
+    good.write_text(json.dumps(_results()))
+    bad.write_text(json.dumps(_results(noise_figure_db=7.0)))
+    assert main(["check", "--profile", str(prof), str(good), "--report", str(tmp_path / "r")]) == ExitStatus.OK
+    assert main(["check", "--profile", str(prof), str(bad)]) == ExitStatus.CHECK_FAILED
+    other = tmp_path / "o.json"
+    other.write_text(json.dumps(_results(schema_version="7")))
+    assert main(["check", "--profile", str(prof), str(other)]) == ExitStatus.BAD_INPUT
+    assert "schema_version" in capsys.readouterr().err
+    assert (tmp_path / "r" / "g.html").is_file() and (tmp_path / "r" / "g.png").is_file()
+
+
+def test_demo_units_against_the_demo_profile(tmp_path):
+    out = check_batch(DEMO / "units", str(DEMO / "known_good_profile.toml"),
+                      settings={"volts_per_fs": 2.0, "floor": str(DEMO / "floor.flac")}, workers=1)
+    assert [o.verdict for o in out] == ["PASS", "FAIL", "FAIL"]
+    hum = [v["name"] for v in out[1].check["limits"] if v["verdict"] == "FAIL"]
+    assert any(n.startswith("hum ripple") for n in hum)
+    noisy = [v["name"] for v in out[2].check["limits"] if v["verdict"] == "FAIL"]
+    assert "noise_figure_db" in noisy
+
+
+def _chromium():
+    for name in ("chromium", "chromium-browser", "google-chrome"):
+        if shutil.which(name):
+            return shutil.which(name)
+    return None
+
+
+@pytest.mark.skipif(_chromium() is None, reason="headless Chromium (Debian package chromium) not installed")
+def test_html_report_renders_in_headless_chromium(tmp_path):
+    from benchnf.report.html import write_unit_report
+    from benchnf.check.profile import load_profile as lp
+    prof = lp(DEMO / "known_good_profile.toml")
+    res = json.loads(json.dumps(_results(rs_ohm=20.0)))
+    page = write_unit_report(tmp_path / "u.html", serial="HA-9999", verdict="FAIL",
+                             check={"unit": "HA-9999", "profile": prof.name, "verdict": "FAIL", "conditions": {},
+                                    "limits": [{"name": "noise_figure_db", "measured": 7.0, "limit": "max 5",
+                                                "margin": -2.0, "unit": "dB", "uncertainty": 0.1,
+                                                "verdict": "FAIL", "hint": "input stage"}]},
+                             results=res, profile=prof)
+    shot = tmp_path / "shot.png"
+    subprocess.run([_chromium(), "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+                    "--disable-background-networking", "--disable-component-update", "--disable-sync",
+                    f"--user-data-dir={tmp_path / 'profile'}", f"--screenshot={shot}", "--window-size=1200,1400",
+                    page.as_uri()], capture_output=True, timeout=120)
+    assert shot.is_file()
+    img = np.asarray(__import__("matplotlib.image", fromlist=["imread"]).imread(shot))
+    assert img.std() > 0.05  # not blank: text, a table, a figure
+    assert (np.abs(img[..., :3] - img[0, 0, :3]).sum(axis=-1) > 0.3).mean() > 0.01
