@@ -130,7 +130,8 @@ def _open(path: Path | None, *, condition: str | None, args: argparse.Namespace,
         return load_csv(path, rbw_hz=args.rbw_hz, detector=args.trace_detector,
                         reference_ohm=args.reference_ohm, enbw_ratio=args.enbw_ratio)
     cap = open_capture(path, channel=args.channel if channel is None else channel,
-                       condition=condition, volts_per_fs=args.volts_per_fs)
+                       condition=condition, volts_per_fs=args.volts_per_fs,
+                       accept_dropouts=getattr(args, "accept_dropouts", False))
     if args.volts_per_fs is None and cal is not None:
         cap = apply_calibration(cap, cal)
     return cap
@@ -544,6 +545,158 @@ def run_batch(args: argparse.Namespace) -> int:
     return ExitStatus.BAD_INPUT if counts["ERROR"] else ExitStatus.OK
 
 
+def run_devices(args: argparse.Namespace) -> int:
+    from .acquire.devices import list_devices
+    devices = list_devices()
+    print(f"  {'name':40s} {'host API':14s} {'in':>4} {'out':>4} {'native Hz':>10}")
+    for d in devices:
+        print(f"  {d.name[:40]:40s} {d.host_api[:14]:14s} {d.max_input_channels:4d} {d.max_output_channels:4d} "
+              f"{d.default_samplerate:10g}")
+    print("\nSelect a device by (part of) its name with --device, and --host-api when names repeat.")
+    return ExitStatus.OK
+
+
+def _say_rate_note(device: str | None, host_api: str | None, rate: float, *, warn: bool = True) -> None:
+    from .acquire.devices import find_device, rate_note
+    dev = find_device(device, host_api=host_api, kind="input")
+    note = rate_note(dev, rate)
+    print(f"recording from {dev.describe()}", file=sys.stderr)
+    if note and warn:
+        print(f"benchnf: warning: {note}", file=sys.stderr)
+
+
+def run_record(args: argparse.Namespace) -> int:
+    from .acquire.record import record_to_file
+    _say_rate_note(args.device, args.host_api, args.rate, warn=False)  # record_to_file's notes carry it
+    meta = {k: v for k, v in (("rs_ohm", args.rs), ("temperature_k", args.temperature_k),
+                              ("volts_per_fs", args.volts_per_fs)) if v is not None}
+    if args.calibration:
+        from .calibration import Calibration
+        cal = Calibration.load(args.calibration)
+        meta["volts_per_fs"] = cal.volts_per_fs
+        meta["calibration"] = str(args.calibration)
+    total = int(args.seconds * args.rate)
+    with _progress(total, quiet=args.quiet, label="recording") as tick:
+        try:
+            rep = record_to_file(args.output, seconds=args.seconds, sample_rate_hz=args.rate, channels=args.channels,
+                                 device=args.device, host_api=args.host_api, condition=args.condition,
+                                 metadata=meta, on_progress=tick)
+        except KeyboardInterrupt:
+            print(f"benchnf: interrupted; what was recorded is kept in {args.output} (its sidecar says so)",
+                  file=sys.stderr)
+            return ExitStatus.INTERRUPTED
+    print(f"{rep.frames} frames ({rep.frames / args.rate:.2f} s) written to {rep.path}, sidecar beside it; "
+          f"{rep.overflows} overflow(s), clock mismatch {rep.clock_mismatch_frames} frames")
+    for n in rep.notes:
+        print(f"benchnf: warning: {n}", file=sys.stderr)
+    if rep.dropouts:
+        print("benchnf: warning: the capture has dropouts: analysis will refuse it unless --accept-dropouts",
+              file=sys.stderr)
+    return ExitStatus.OK
+
+
+def run_playrec(args: argparse.Namespace) -> int:
+    import numpy as np
+    import soundfile as sf
+    from .acquire.record import SoundcardRecorder
+    from .acquire.signals import align_lag, make_signal
+    from .io.sidecar import sidecar_candidates, write_sidecar
+    out = Path(args.output)
+    for p in (out, *sidecar_candidates(out)):
+        if p.exists():
+            raise BenchError(f"{p} exists already: choose another name (nothing was overwritten)")
+    sig = make_signal(args.signal, sample_rate_hz=args.rate, seconds=args.seconds, level_dbfs=args.level_dbfs,
+                      frequency_hz=args.tone_hz)
+    pad = np.zeros(int(0.5 * args.rate), dtype=np.float32)  # room for the latency at the end
+    play = np.concatenate([sig, pad])
+    _say_rate_note(args.device, args.host_api, args.rate)
+    rec = SoundcardRecorder(args.device, host_api=args.host_api).playrec(
+        np.column_stack([play] * args.play_channels), sample_rate_hz=args.rate, channels=args.channels)
+    lag = align_lag(rec[:, args.reference_channel], sig)
+    lag = max(lag, 0)
+    aligned = rec[lag:lag + sig.size]
+    sf.write(str(out), aligned, int(args.rate), subtype="FLOAT")
+    write_sidecar(out, {"condition": "tone" if args.signal == "tone" else "tone", "signal": args.signal,
+                        "tone_hz": args.tone_hz if args.signal == "tone" else None, "level_dbfs": args.level_dbfs,
+                        "latency_frames": int(lag), "device": args.device, "sample_rate_hz": args.rate})
+    print(f"played a {args.signal} at {args.level_dbfs:g} dBFS and recorded {aligned.shape[0]} frames x "
+          f"{aligned.shape[1]} channel(s); latency {lag} frames ({1e3 * lag / args.rate:.1f} ms), aligned; "
+          f"written to {out}")
+    return ExitStatus.OK
+
+
+def run_measure(args: argparse.Namespace) -> int:
+    from .acquire.plan import load_plan, run_plan
+    from .acquire.record import record_to_file
+    from .demo import fresh_folder
+    plan = load_plan(args.plan)
+    base = Path(args.out_dir or plan.out_dir or Path(args.plan).with_suffix(""))
+    folder = fresh_folder(base)
+    print(f"benchnf - guided measurement {plan.name!r}; captures go to {folder}/")
+    print("CAUTION: mains and valve equipment carry lethal voltages; phantom power and speaker outputs can "
+          "destroy a sound-card input. Follow local codes and licensed practice.")
+
+    def record(path: Path, step) -> None:
+        meta = {k: v for k, v in (("rs_ohm", plan.analysis.get("rs_ohm")),
+                                  ("temperature_k", plan.analysis.get("temperature_k")),
+                                  ("tone_hz", step.tone_hz), ("tone_input_vrms", step.tone_input_vrms))
+                if v is not None}
+        if step.condition == "floor":
+            meta.pop("rs_ohm", None)
+        record_to_file(path, seconds=step.seconds, sample_rate_hz=plan.sample_rate_hz, channels=plan.channels,
+                       device=args.device or plan.device, host_api=plan.host_api, condition=step.condition,
+                       metadata=meta)
+
+    files = run_plan(plan, record=record, folder=folder, interactive=not args.yes)
+    if {"terminated", "tone"} <= set(files):
+        from .analysis import GainSetup, analyze_gain_method
+        from .dsp.weighting import Band
+        from .io import open_capture
+        from .report.json_out import write_json
+        from .report.text import format_summary
+        a = plan.analysis
+        vpfs = a.get("volts_per_fs")
+        if a.get("calibration"):
+            from .calibration import Calibration
+            vpfs = Calibration.load(a["calibration"]).volts_per_fs
+        if vpfs is None:
+            print("\nno calibration in the plan ([analysis] volts_per_fs or calibration): captures kept, not analysed")
+            return ExitStatus.OK
+        cap = lambda f, c: open_capture(f, condition=c, volts_per_fs=vpfs)  # noqa: E731
+        tone = cap(files["tone"], "tone")
+        result = analyze_gain_method(
+            terminated=cap(files["terminated"], "terminated"),
+            floor=cap(files["floor"], "floor") if "floor" in files else None,
+            shorted=cap(files["shorted"], "shorted") if "shorted" in files else None,
+            gain=GainSetup(tone=tone, tone_input_vrms=tone.metadata.get("tone_input_vrms")),
+            rs_ohm=float(a["rs_ohm"]), temperature_k=float(a.get("temperature_k", 290.0)),
+            band=Band(*a.get("band_hz", (20.0, 20_000.0))), weighting=a.get("weighting", "none"))
+        print()
+        print(format_summary(result), end="")
+        write_json(result.to_dict(), folder / "results.json")
+        print(f"\nresults written to {folder / 'results.json'}")
+    return ExitStatus.OK
+
+
+def run_live_cmd(args: argparse.Namespace) -> int:
+    from .acquire.live import run_live
+    from .dsp.weighting import Band
+    vpfs = args.volts_per_fs
+    if args.calibration:
+        from .calibration import Calibration
+        vpfs = Calibration.load(args.calibration).volts_per_fs
+    run_live(device=args.device, host_api=args.host_api, sample_rate_hz=args.rate, volts_per_fs=vpfs,
+             band=Band(*args.band), update_hz=args.updates_per_s, seconds=args.seconds, window=args.window)
+    return ExitStatus.OK
+
+
+def run_recover(args: argparse.Namespace) -> int:
+    from .acquire.record import recover_wav
+    frames = recover_wav(args.damaged, args.output)
+    print(f"{frames} frames rescued from {args.damaged} into {args.output}; the damaged file was not changed")
+    return ExitStatus.OK
+
+
 def run_demo(args: argparse.Namespace) -> int:
     from .demo import run_demo as demo
     demo(output=args.output, quiet=args.quiet)
@@ -639,6 +792,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--temperature-limit-k", type=non_negative_pct, default=2.0, metavar="K",
                    help="source resistor temperature known to +/- K (default 2)")
     p.add_argument("--explain", action="store_true", help="list every uncertainty contribution")
+    p.add_argument("--accept-dropouts", action="store_true",
+                   help="use captures whose sidecar records dropouts (refused otherwise)")
     p.add_argument("--rbw-hz", type=positive_hz, metavar="F",
                    help="instrument CSV traces: resolution bandwidth (else the file's '# rbw_hz')")
     p.add_argument("--trace-detector", choices=["rms", "sample", "log"],
@@ -819,6 +974,69 @@ def build_parser() -> argparse.ArgumentParser:
     _calibration_options(p)
     _common(p)
     p.set_defaults(run=run_batch)
+
+    p = sub.add_parser("devices", help="list audio devices (name, host API, channels, native rate)")
+    _common(p)
+    p.set_defaults(run=run_devices)
+
+    def device_options(q: argparse.ArgumentParser) -> None:
+        q.add_argument("--device", metavar="NAME", help="device name or part of it (default: the system's)")
+        q.add_argument("--host-api", metavar="API", help="host API, when names repeat (ALSA, WASAPI, Core Audio...)")
+        q.add_argument("--rate", type=positive_hz, default=48_000.0, metavar="HZ", help="sample rate (48000)")
+
+    p = sub.add_parser("record", help="record a capture to disk without losing a sample",
+                       description="Streams to a WAV (RF64 past 2 GiB) whose header is kept valid, checks "
+                                   "overflows and the clock, and writes a sidecar; never overwrites.")
+    device_options(p)
+    p.add_argument("--seconds", type=positive_hz, required=True, metavar="S")
+    p.add_argument("--channels", type=int, default=1, metavar="N")
+    p.add_argument("--condition", required=True, choices=["floor", "shorted", "terminated", "tone", "hot", "cold",
+                                                           "tap", "reference"])
+    p.add_argument("--rs", type=non_negative_hz, metavar="OHM", help="source resistance, for the sidecar")
+    p.add_argument("--temperature-k", type=kelvin, metavar="K", help="resistor temperature, for the sidecar")
+    _calibration_options(p)
+    p.add_argument("-o", "--output", type=Path, required=True, metavar="FILE.wav")
+    _common(p)
+    p.set_defaults(run=run_record)
+
+    p = sub.add_parser("playrec", help="play a tone, multitone, sweep or noise and record at once, aligned")
+    device_options(p)
+    p.add_argument("--signal", choices=["tone", "multitone", "sweep", "noise"], default="tone")
+    p.add_argument("--tone-hz", type=positive_hz, default=1000.0, metavar="F")
+    p.add_argument("--level-dbfs", type=finite_db, default=-20.0, metavar="L", help="RMS level, dBFS (AES17)")
+    p.add_argument("--seconds", type=positive_hz, default=3.0, metavar="S")
+    p.add_argument("--channels", type=int, default=2, metavar="N",
+                   help="input channels recorded (2: DUT input and output)")
+    p.add_argument("--play-channels", type=int, default=2, metavar="N")
+    p.add_argument("--reference-channel", type=channel_index, default=0, metavar="N",
+                   help="recorded channel used to find the latency (default 0)")
+    p.add_argument("-o", "--output", type=Path, required=True, metavar="FILE.wav")
+    _common(p)
+    p.set_defaults(run=run_playrec)
+
+    p = sub.add_parser("measure", help="run a guided measurement plan (TOML), interactively or scripted")
+    p.add_argument("plan", type=Path, metavar="PLAN.toml")
+    p.add_argument("--yes", action="store_true", help="no questions: record every step once (scripted setups)")
+    p.add_argument("--device", metavar="NAME", help="override the plan's device")
+    p.add_argument("--out-dir", type=Path, metavar="DIR", help="folder for the captures (a new one if taken)")
+    _common(p)
+    p.set_defaults(run=run_measure)
+
+    p = sub.add_parser("live", help="live spectrum and integrated noise while adjusting the bench")
+    device_options(p)
+    p.add_argument("--band", type=non_negative_hz, nargs=2, default=[20.0, 20_000.0], metavar=("LO", "HI"))
+    p.add_argument("--updates-per-s", type=positive_hz, default=5.0, metavar="N")
+    p.add_argument("--seconds", type=positive_hz, metavar="S", help="stop after S seconds (default: Ctrl-C)")
+    p.add_argument("--window", action="store_true", help="also show a matplotlib window")
+    _calibration_options(p)
+    _common(p)
+    p.set_defaults(run=run_live_cmd)
+
+    p = sub.add_parser("recover", help="rescue the samples of a WAV left with a stale header by a crash")
+    p.add_argument("damaged", type=Path, metavar="DAMAGED.wav")
+    p.add_argument("-o", "--output", type=Path, required=True, metavar="NEW.wav")
+    _common(p)
+    p.set_defaults(run=run_recover)
 
     p = sub.add_parser("demo", help="analyse the shipped demo captures",
                        description="Calibrate and analyse the demo captures (invented data) and "

@@ -14,6 +14,7 @@ __all__ = [
     "ParameterError",
     "MeasurementError",
     "MissingDependencyError",
+    "AcquisitionError",
     "BenchWarning",
     "ClippingWarning",
     "FloorMarginWarning",
@@ -43,6 +44,10 @@ class MeasurementError(BenchError, ValueError):
 
 class MissingDependencyError(BenchError, ImportError):
     """An optional library is not installed."""
+
+
+class AcquisitionError(BenchError, RuntimeError):
+    """A sound device could not be found, opened or read; or a recording is not fit."""
 
 
 class BenchWarning(UserWarning):

@@ -185,7 +185,7 @@ def _family(freq_hz: float, fundamental: float | None, bin_width_hz: float) -> t
     if fundamental is None:
         return "unclassified", None
     h = _harmonic_of(freq_hz, fundamental, bin_width_hz)
-    if h is None or h > 60:
+    if h is None or h > 40:
         return "unclassified", None
     return ("ripple" if h % 2 == 0 else "mains"), h
 
@@ -195,7 +195,7 @@ def classify_mains(lines: list[tuple[float, float]], *, bin_width_hz: float) -> 
     best, best_power = None, 0.0
     for f0 in MAINS_CANDIDATES_HZ:
         power = sum(p for f, p in lines if _harmonic_of(f, f0, bin_width_hz) is not None
-                    and f <= 60 * f0)
+                    and f <= 40 * f0)
         if power > best_power:
             best, best_power = f0, power
     return best

@@ -50,7 +50,7 @@ def _wav_data_shortfall(path: Path) -> int | None:
 
 
 def open_capture(path: str | Path, *, channel: int | None = None, condition: str | None = None,
-                 volts_per_fs: float | None = None) -> Capture:
+                 volts_per_fs: float | None = None, accept_dropouts: bool = False) -> Capture:
     """Open an audio capture file for block-wise reading.
 
     Parameters
@@ -63,6 +63,8 @@ def open_capture(path: str | Path, *, channel: int | None = None, condition: str
         The role the caller gives it; must agree with the sidecar's, if any.
     volts_per_fs : float, optional
         Calibration; overrides the sidecar's ``volts_per_fs``.
+    accept_dropouts : bool
+        Use a capture whose sidecar records dropouts (refused otherwise).
 
     Returns
     -------
@@ -89,6 +91,10 @@ def open_capture(path: str | Path, *, channel: int | None = None, condition: str
         raise CaptureError(f"{path} is truncated: its header promises {missing} more bytes of "
                            f"samples than the file holds; copy it again or record it again")
     meta = read_sidecar(path)
+    if meta.get("dropouts") and not accept_dropouts:
+        raise CaptureError(f"{path.name} was recorded with dropouts ({meta.get('input_overflows', 0)} overflows, "
+                           f"{meta.get('clock_mismatch_frames', 0)} frames off the clock): record it again, or "
+                           f"give --accept-dropouts to use it anyway")
     side_condition = meta.get("condition")
     if condition is not None and side_condition is not None and side_condition != condition:
         raise CaptureError(f"{path.name} is given as a {condition!r} capture but its sidecar says "

@@ -1,0 +1,1 @@
+"""Acquisition with a sound card through sounddevice (PortAudio), imported only when used."""

@@ -1,0 +1,140 @@
+"""Live view while adjusting the bench: a running spectrum and its integrated noise, refreshed often.
+
+:class:`LiveAnalyzer` holds the computation (no device): feed it blocks, ask
+for a snapshot.  :func:`run_live` connects it to a sound card and prints one
+refreshed line several times a second (and, optionally, a matplotlib window).
+Typing ``r`` and Enter resets the averaging.
+"""
+
+from __future__ import annotations
+
+import math
+import queue
+import sys
+import threading
+import time
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..dsp.integrate import band_bin_weights
+from ..dsp.spectrum import WelchAccumulator
+from ..dsp.spurs import find_lines
+from ..dsp.weighting import Band
+from ..units import fs_to_dbfs, vrms_to_dbu
+
+__all__ = ["LiveSnapshot", "LiveAnalyzer", "run_live"]
+
+
+@dataclass(frozen=True)
+class LiveSnapshot:
+    seconds_averaged: float
+    band_rms: float
+    unit: str
+    strongest_line_hz: float | None
+    strongest_line_rms: float | None
+    frequency_hz: np.ndarray
+    density: np.ndarray
+
+    def line(self) -> str:
+        level = (f"{vrms_to_dbu(self.band_rms):7.2f} dBu ({self.band_rms * 1e6:8.3f} uV)" if self.unit == "V"
+                 else f"{fs_to_dbfs(self.band_rms):7.2f} dBFS")
+        hum = (f"strongest line {self.strongest_line_hz:7.1f} Hz at "
+               f"{20 * math.log10(self.strongest_line_rms / self.band_rms):+6.1f} dB re band"
+               if self.strongest_line_hz else "no lines")
+        return f"[{self.seconds_averaged:6.1f} s] band noise {level}; {hum}"
+
+
+class LiveAnalyzer:
+    """Accumulating Welch spectrum with band level and hum, resettable."""
+
+    def __init__(self, *, sample_rate_hz: float, segment_length: int = 8192, band: Band = Band(20.0, 20_000.0),
+                 volts_per_fs: float | None = None) -> None:
+        self.sample_rate_hz, self.segment_length, self.band = sample_rate_hz, segment_length, band
+        self.volts_per_fs = volts_per_fs
+        self.reset()
+
+    def reset(self) -> None:
+        self._acc = WelchAccumulator(sample_rate_hz=self.sample_rate_hz, segment_length=self.segment_length)
+        self._frames = 0
+
+    def feed(self, block: np.ndarray) -> None:
+        self._acc.update(block)
+        self._frames += block.size
+
+    def snapshot(self) -> LiveSnapshot | None:
+        if self._acc.n_averages < 1:
+            return None
+        scale = self.volts_per_fs or 1.0
+        psd = self._acc.result(unit="V" if self.volts_per_fs else "FS", scale=scale)
+        w = band_bin_weights(psd.frequency_hz, self.band)
+        search = find_lines(psd) if psd.n_averages >= 4 else None
+        lines = search.lines if search else ()
+        rms = math.sqrt(float(np.dot(w, psd.psd_per_hz)))
+        top = lines[0] if lines else None
+        return LiveSnapshot(self._frames / self.sample_rate_hz, rms, psd.unit, top.freq_hz if top else None,
+                            top.vrms if top else None, psd.frequency_hz, psd.psd_per_hz)
+
+
+def run_live(*, device: str | None, host_api: str | None, sample_rate_hz: float, volts_per_fs: float | None,
+             band: Band, update_hz: float = 5.0, seconds: float | None = None, window: bool = False,
+             out=sys.stdout) -> int:
+    """Run the live view until Ctrl-C (or `seconds`); returns the number of updates shown."""
+    from .devices import find_device, sounddevice
+    sd = sounddevice()
+    dev = find_device(device, host_api=host_api, kind="input")
+    analyzer = LiveAnalyzer(sample_rate_hz=sample_rate_hz, band=band, volts_per_fs=volts_per_fs)
+    q: queue.Queue = queue.Queue()
+    reset = threading.Event()
+
+    def keys():
+        for line in sys.stdin:
+            if line.strip().lower() == "r":
+                reset.set()
+
+    if sys.stdin is not None and sys.stdin.isatty():
+        threading.Thread(target=keys, daemon=True).start()
+    fig = ax = curve = None
+    if window:
+        from .._optional import require
+        plt = require("matplotlib.pyplot", extra=None, purpose="the live window")
+        plt.ion()
+        fig, ax = plt.subplots(figsize=(8, 4.5))
+        ax.set(xscale="log", yscale="log", xlabel="Frequency (Hz)",
+               ylabel="Density (" + ("V" if volts_per_fs else "FS") + "/\u221aHz)")
+    updates = 0
+    t0 = time.monotonic()
+    with sd.InputStream(samplerate=sample_rate_hz, channels=1, dtype="float32", device=dev.index,
+                        callback=lambda indata, frames, t, status: q.put(indata[:, 0].copy())):
+        print(f"live view of {dev.describe()} at {sample_rate_hz:g} Hz; type r + Enter to reset, Ctrl-C to stop",
+              file=out)
+        next_update = time.monotonic()
+        try:
+            while seconds is None or time.monotonic() - t0 < seconds:
+                try:
+                    analyzer.feed(q.get(timeout=0.5).astype(np.float64))
+                except queue.Empty:
+                    continue
+                if reset.is_set():
+                    analyzer.reset()
+                    reset.clear()
+                if time.monotonic() >= next_update:
+                    snap = analyzer.snapshot()
+                    next_update += 1.0 / update_hz
+                    if snap is None:
+                        continue
+                    updates += 1
+                    print("\r" + snap.line(), end="", file=out, flush=True)
+                    if window and fig is not None:
+                        if curve is None:
+                            (curve,) = ax.plot(snap.frequency_hz[1:], np.sqrt(snap.density[1:]))
+                        else:
+                            curve.set_ydata(np.sqrt(snap.density[1:]))
+                            ax.relim()
+                            ax.autoscale_view()
+                        fig.canvas.draw_idle()
+                        fig.canvas.flush_events()
+        except KeyboardInterrupt:
+            pass
+    print(file=out)
+    return updates

@@ -1,0 +1,207 @@
+"""Guided measurement: a plan file of our own (TOML), steps recorded and checked at once, then analysed.
+
+```toml
+name = "mic preamp at 150 ohm"
+device = "USB Audio"          # name substring (and optionally host_api = "ALSA")
+sample_rate_hz = 48000
+out_dir = "run1"              # optional; default a new folder next to the plan
+
+[analysis]
+rs_ohm = 150
+temperature_k = 296
+volts_per_fs = 1.55           # or calibration = "cal.json"
+
+[[step]]
+condition = "floor"
+seconds = 10
+prompt = "Terminate the sound-card input with a 50 ohm plug."
+
+[[step]]
+condition = "terminated"
+seconds = 10
+prompt = "Connect the DUT output; terminate the DUT input in 150 ohm."
+cautions = ["phantom"]        # extra cautions: phantom, speaker, valve, mains
+
+[[step]]
+condition = "tone"
+seconds = 3
+tone_hz = 1000
+tone_input_vrms = 0.001       # the tone's RMS at the source (set on the generator)
+```
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from ..errors import ParameterError
+
+__all__ = ["PlanStep", "Plan", "load_plan", "CAUTIONS", "run_plan", "check_capture"]
+
+CAUTIONS = {
+    "phantom": "Switch 48 V phantom power OFF before connecting, and never hot-plug with it on: it can destroy "
+               "the sound-card input.",
+    "speaker": "Speaker outputs need an attenuator before the sound card; on bridged amplifiers both terminals "
+               "are live - neither may go to the card's ground.",
+    "valve": "Valve equipment holds hundreds of volts in its capacitors long after switch-off: discharge and "
+             "measure before touching.",
+    "mains": "Mains-powered equipment under test carries lethal voltages: follow local codes and licensed "
+             "practice; never defeat the safety earth.",
+}
+_DEFAULT_CAUTIONS = {"terminated": ["phantom"], "shorted": ["phantom"], "tone": ["phantom"]}
+_STEP_KEYS = {"condition", "seconds", "prompt", "tone_hz", "tone_input_vrms", "rs_ohm", "temperature_k",
+              "cautions", "name", "channels"}
+_TOP_KEYS = {"name", "device", "host_api", "sample_rate_hz", "channels", "out_dir", "analysis", "step"}
+_ANALYSIS_KEYS = {"rs_ohm", "temperature_k", "volts_per_fs", "calibration", "band_hz", "weighting"}
+
+
+@dataclass(frozen=True)
+class PlanStep:
+    condition: str
+    seconds: float
+    prompt: str = ""
+    tone_hz: float | None = None
+    tone_input_vrms: float | None = None
+    cautions: tuple[str, ...] = ()
+    name: str = ""
+
+    @property
+    def file_stem(self) -> str:
+        return self.name or self.condition
+
+
+@dataclass(frozen=True)
+class Plan:
+    name: str
+    steps: tuple[PlanStep, ...]
+    device: str | None = None
+    host_api: str | None = None
+    sample_rate_hz: float = 48_000.0
+    channels: int = 1
+    out_dir: str | None = None
+    analysis: dict[str, Any] = field(default_factory=dict)
+
+
+def load_plan(path: str | Path) -> Plan:
+    """Read and validate a plan file."""
+    try:
+        import tomllib
+    except ModuleNotFoundError:  # Python 3.10
+        import tomli as tomllib  # type: ignore[no-redef]
+    from ..capture import CONDITIONS
+    path = Path(path)
+    try:
+        data = tomllib.loads(path.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise ParameterError(f"plan {path}: no such file") from None
+    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as err:
+        raise ParameterError(f"plan {path} is not valid TOML ({err})") from err
+    if set(data) - _TOP_KEYS:
+        raise ParameterError(f"plan {path}: unknown keys {sorted(set(data) - _TOP_KEYS)}")
+    if set(data.get("analysis", {})) - _ANALYSIS_KEYS:
+        raise ParameterError(f"plan {path} [analysis]: unknown keys {sorted(set(data['analysis']) - _ANALYSIS_KEYS)}")
+    steps = []
+    names = set()
+    for i, st in enumerate(data.get("step", []), 1):
+        if set(st) - _STEP_KEYS:
+            raise ParameterError(f"plan {path} step {i}: unknown keys {sorted(set(st) - _STEP_KEYS)}")
+        cond = st.get("condition")
+        if cond not in CONDITIONS:
+            raise ParameterError(f"plan {path} step {i}: condition {cond!r} is not one of {', '.join(CONDITIONS)}")
+        sec = st.get("seconds")
+        if not isinstance(sec, (int, float)) or not sec > 0:
+            raise ParameterError(f"plan {path} step {i}: seconds must be > 0")
+        cautions = tuple(st.get("cautions", _DEFAULT_CAUTIONS.get(cond, [])))
+        if set(cautions) - set(CAUTIONS):
+            raise ParameterError(f"plan {path} step {i}: cautions must be among {', '.join(CAUTIONS)}")
+        step = PlanStep(cond, float(sec), str(st.get("prompt", "")), st.get("tone_hz"), st.get("tone_input_vrms"),
+                        cautions, str(st.get("name", "")))
+        if step.file_stem in names:
+            raise ParameterError(f"plan {path} step {i}: a second step named {step.file_stem!r}; give it a name")
+        names.add(step.file_stem)
+        steps.append(step)
+    if not steps:
+        raise ParameterError(f"plan {path} has no [[step]]")
+    return Plan(str(data.get("name", path.stem)), tuple(steps), data.get("device"), data.get("host_api"),
+                float(data.get("sample_rate_hz", 48_000.0)), int(data.get("channels", 1)), data.get("out_dir"),
+                dict(data.get("analysis", {})))
+
+
+def check_capture(path: Path, *, step: PlanStep, floor_path: Path | None) -> list[str]:
+    """Problems found in a fresh capture: clipping, level, dropouts, floor margin, hum."""
+    from ..capture import SampleStats
+    from ..dsp.spectrum import welch_psd
+    from ..dsp.spurs import find_lines
+    from ..io import open_capture
+    from ..units import fs_to_dbfs
+    problems = []
+    cap = open_capture(path, accept_dropouts=True)
+    if cap.metadata.get("dropouts"):
+        problems.append(f"dropouts: {cap.metadata.get('input_overflows', 0)} overflows, "
+                        f"{cap.metadata.get('clock_mismatch_frames', 0)} frames off the clock")
+    stats = SampleStats(label=path.name)
+    for b in cap.blocks():
+        stats.update(b)
+    level = float(fs_to_dbfs(stats.rms_fs)) if stats.rms_fs > 0 else -math.inf
+    if stats.n_clipped:
+        problems.append(f"clipped: {stats.n_clipped} samples at full scale - lower the gain")
+    if stats.peak_fs == 0:
+        problems.append("silent: every sample is zero - check the connection and the channel")
+    elif step.condition != "tone" and level > -20:
+        problems.append(f"noise at {level:.1f} dBFS: keep noise 12-15 dB or more below full scale")
+    psd = welch_psd(cap.blocks(), sample_rate_hz=cap.sample_rate_hz)
+    if step.condition in ("terminated", "shorted") and floor_path is not None:
+        fl = welch_psd(open_capture(floor_path, accept_dropouts=True).blocks(), sample_rate_hz=cap.sample_rate_hz)
+        sel = (psd.frequency_hz > 20) & (psd.frequency_hz < 20_000)
+        margin = 10 * math.log10(float(np.sum(psd.psd_per_hz[sel])) / float(np.sum(fl.psd_per_hz[sel])))
+        if margin < 3:
+            problems.append(f"only {margin:.1f} dB above the analyzer floor: raise the DUT gain or add a "
+                            f"low-noise preamplifier")
+    if step.condition in ("terminated", "shorted", "floor"):
+        lines = [ln for ln in find_lines(psd).lines if ln.family in ("mains", "ripple")]
+        if lines:
+            problems.append(f"hum: {len(lines)} mains-family lines (strongest {lines[0].freq_hz:.0f} Hz) - "
+                            f"check grounding and leads (never lift a safety earth)")
+    return problems
+
+
+def run_plan(plan: Plan, *, record: Callable[[Path, PlanStep], Any], folder: Path, interactive: bool,
+             ask: Callable[[str], str] = input, say: Callable[[str], None] = print) -> dict[str, Path]:
+    """Walk the steps: tell the user what to connect, show cautions, record, check, offer a redo."""
+    folder.mkdir(parents=True, exist_ok=True)
+    files: dict[str, Path] = {}
+    floor = None
+    for i, step in enumerate(plan.steps, 1):
+        say(f"\nStep {i}/{len(plan.steps)}: {step.condition}" + (f" ({step.name})" if step.name else ""))
+        if step.prompt:
+            say(f"  {step.prompt}")
+        for c in step.cautions:
+            say(f"  CAUTION: {CAUTIONS[c]}")
+        attempt = 0
+        while True:
+            attempt += 1
+            if interactive:
+                ask("  Press Enter to record (Ctrl-C stops the plan) ")
+            path = folder / (f"{step.file_stem}.wav" if attempt == 1 else f"{step.file_stem}-take{attempt}.wav")
+            record(path, step)
+            problems = check_capture(path, step=step, floor_path=floor)
+            if problems:
+                for p in problems:
+                    say(f"  check: {p}")
+            else:
+                say(f"  recorded {path.name}: no problems found")
+            if not interactive:
+                break
+            answer = ask("  Enter to keep it, r to record it again: ").strip().lower()
+            if answer != "r":
+                break
+        files[step.file_stem] = path
+        if step.condition == "floor":
+            floor = path
+    return files
