@@ -143,10 +143,23 @@ def run_calibrate(args: argparse.Namespace) -> int:
     from .io import open_capture
     from .report.json_out import check_output_path
     out = Path(args.output)
-    check_output_path(out, [Path(args.reference)])
+    if args.reference is None and args.device is None:
+        raise BenchError("give a reference capture (REF) or record one live with --device NAME")
+    if args.reference is not None:
+        check_output_path(out, [Path(args.reference)])
     if out.exists():
         raise BenchError(f"{out} exists already: give another -o name (nothing was overwritten)")
-    ref = open_capture(args.reference, channel=args.channel, condition=None)
+    if args.reference is None:
+        from .acquire.record import SoundcardRecorder
+        from .capture import Capture
+        rec = SoundcardRecorder(args.device, host_api=args.host_api)
+        print(f"recording {args.seconds:g} s of the reference tone from {rec.input.describe()}", file=sys.stderr)
+        ch = args.channel or 0
+        x = rec.record(int(args.seconds * args.rate), sample_rate_hz=args.rate, channels=ch + 1)
+        ref = Capture.from_array(x, sample_rate_hz=args.rate, channel=ch,
+                                 metadata={"device": rec.input.name, "notes": f"live, {rec.input.host_api}"})
+    else:
+        ref = open_capture(args.reference, channel=args.channel, condition=None)
     band = tuple(args.meter_band) if args.meter_band else None
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", BenchWarning)
@@ -690,6 +703,39 @@ def run_live_cmd(args: argparse.Namespace) -> int:
     return ExitStatus.OK
 
 
+def run_calibrate_output(args: argparse.Namespace) -> int:
+    import json
+    import numpy as np
+    from .acquire.record import SoundcardRecorder
+    from .acquire.signals import make_signal
+    from .calibration import Calibration
+    from .dsp.tones import fit_sine
+    out = Path(args.output)
+    if out.exists():
+        raise BenchError(f"{out} exists already: give another -o name (nothing was overwritten)")
+    cal = Calibration.load(args.calibration)
+    sig = make_signal("tone", sample_rate_hz=cal.sample_rate_hz, seconds=args.seconds, level_dbfs=args.level_dbfs,
+                      frequency_hz=args.tone_hz)
+    from .acquire.signals import align_lag
+    rec = SoundcardRecorder(args.device, host_api=args.host_api)
+    play = np.concatenate([sig, np.zeros(int(0.5 * cal.sample_rate_hz), dtype=np.float32)])
+    x = rec.playrec(np.column_stack([play, play]), sample_rate_hz=cal.sample_rate_hz, channels=cal.channel + 1)
+    lag = max(align_lag(x[:, cal.channel], sig), 0)
+    edge = int(0.1 * cal.sample_rate_hz)  # leave the ends, where the tone starts and stops
+    part = x[lag + edge:lag + sig.size - edge, cal.channel].astype(np.float64)
+    fit = fit_sine(part, sample_rate_hz=cal.sample_rate_hz, frequency_hz=args.tone_hz)
+    played_peak_fs = 10 ** (args.level_dbfs / 20)
+    vpfs_out = fit.amplitude * cal.volts_per_fs / played_peak_fs
+    data = {"schema": "benchnf.output-calibration/1", "output_volts_per_fs": vpfs_out,
+            "tone_hz": args.tone_hz, "level_dbfs": args.level_dbfs, "input_calibration": str(args.calibration),
+            "device": rec.input.name, "sample_rate_hz": cal.sample_rate_hz}
+    with open(out, "x", encoding="utf-8") as fh:
+        json.dump(data, fh, indent=2)
+    print(f"the output gives {vpfs_out:.6g} V per full scale (a {args.level_dbfs:g} dBFS tone reads "
+          f"{fit.rms * cal.volts_per_fs:.6g} V RMS on the calibrated input); written to {out}")
+    return ExitStatus.OK
+
+
 def run_recover(args: argparse.Namespace) -> int:
     from .acquire.record import recover_wav
     frames = recover_wav(args.damaged, args.output)
@@ -815,9 +861,14 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("calibrate", help="volts per full scale from a reference tone",
                        description="Compute volts per full scale from a capture of a sine whose "
                                    "RMS voltage was read on a meter.")
-    p.add_argument("reference", type=Path, metavar="REF", help="capture of the reference tone")
+    p.add_argument("reference", type=Path, nargs="?", metavar="REF",
+                   help="capture of the reference tone (or record it live with --device)")
     p.add_argument("--vrms", type=positive_volts, required=True, metavar="V",
                    help="the tone's RMS voltage as read on the meter")
+    p.add_argument("--device", metavar="NAME", help="record the reference tone live from this input")
+    p.add_argument("--host-api", metavar="API")
+    p.add_argument("--rate", type=positive_hz, default=48_000.0, metavar="HZ", help="live sample rate (48000)")
+    p.add_argument("--seconds", type=positive_hz, default=3.0, metavar="S", help="live recording length (3)")
     p.add_argument("--channel", type=channel_index, metavar="N", help="channel (default 0)")
     p.add_argument("--tone-hz", type=positive_hz, metavar="F", help="stated tone frequency")
     p.add_argument("--meter-band", type=positive_hz, nargs=2, metavar=("LO", "HI"),
@@ -1031,6 +1082,19 @@ def build_parser() -> argparse.ArgumentParser:
     _calibration_options(p)
     _common(p)
     p.set_defaults(run=run_live_cmd)
+
+    p = sub.add_parser("calibrate-output", help="volts per full scale of an output, through a calibrated input",
+                       description="Plays a tone on the output into the calibrated input (loop the output to the "
+                                   "input, through an attenuator if needed) and measures it.")
+    p.add_argument("--calibration", type=Path, required=True, metavar="CAL.json", help="the input's calibration")
+    p.add_argument("--device", metavar="NAME")
+    p.add_argument("--host-api", metavar="API")
+    p.add_argument("--tone-hz", type=positive_hz, default=400.0, metavar="F")
+    p.add_argument("--level-dbfs", type=finite_db, default=-10.0, metavar="L")
+    p.add_argument("--seconds", type=positive_hz, default=2.0, metavar="S")
+    p.add_argument("-o", "--output", type=Path, required=True, metavar="OUT_CAL.json")
+    _common(p)
+    p.set_defaults(run=run_calibrate_output)
 
     p = sub.add_parser("recover", help="rescue the samples of a WAV left with a stale header by a crash")
     p.add_argument("damaged", type=Path, metavar="DAMAGED.wav")

@@ -67,8 +67,13 @@ class SoundcardRecorder:
 
     def record(self, n_frames: int, *, sample_rate_hz: float, channels: int = 1) -> NDArray[np.float32]:
         try:
-            return self._sd.rec(int(n_frames), samplerate=sample_rate_hz, channels=channels, dtype="float32",
-                                device=self.input.index, blocking=True)
+            # A stream of its own, not sounddevice's shared default stream (which other code may be using).
+            with self._sd.InputStream(samplerate=sample_rate_hz, channels=channels, dtype="float32",
+                                      device=self.input.index) as stream:
+                data, overflowed = stream.read(int(n_frames))
+            if overflowed:
+                raise AcquisitionError(f"input overflow while recording from {self.input.describe()}: record again")
+            return data
         except self._sd.PortAudioError as err:
             raise AcquisitionError(f"{n_frames} frames at {sample_rate_hz:g} Hz from {self.input.describe()} "
                                    f"failed: {err}") from err
