@@ -7,7 +7,11 @@ import os
 import time
 from pathlib import Path
 
-import numpy as np
+# As the benchnf command does (benchnf.cli._one_blas_thread): one BLAS thread, set before numpy loads.
+for _var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
+    os.environ.setdefault(_var, "1")
+
+import numpy as np  # noqa: E402
 
 
 def pin_one_core() -> None:

@@ -13,9 +13,9 @@ import tempfile
 import time
 from pathlib import Path
 
-import numpy as np
+from _common import pin_one_core, write_noise_wav  # first: BLAS threads before numpy loads
 
-from _common import pin_one_core, write_noise_wav
+import numpy as np  # noqa: E402
 
 
 def main() -> None:

@@ -6,11 +6,12 @@ Run: python benchmarks/bench_spectrum.py
 
 from __future__ import annotations
 
-import numpy as np
-from scipy import signal
+from _common import best_of, pin_one_core  # first: it sets the BLAS thread count before numpy loads
 
-from _common import best_of, pin_one_core
-from benchnf.dsp.spectrum import WelchAccumulator
+import numpy as np  # noqa: E402
+from scipy import signal  # noqa: E402
+
+from benchnf.dsp.spectrum import WelchAccumulator  # noqa: E402
 
 
 def main() -> None:
