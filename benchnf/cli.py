@@ -763,6 +763,13 @@ def _calibration_options(p: argparse.ArgumentParser) -> None:
                    help="a calibration file written by 'benchnf calibrate'")
 
 
+def _output_options(p: argparse.ArgumentParser, *, plot: bool = True) -> None:
+    p.add_argument("--json", type=Path, metavar="OUT.json", help="write the results as JSON")
+    if plot:
+        p.add_argument("--plot", type=Path, metavar="DIR", help="write PNG plots into DIR")
+    _common(p)
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="benchnf",
@@ -853,9 +860,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--channel", type=channel_index, metavar="N",
                    help="channel of the noise and tone captures (default: sidecar, else 0)")
     _calibration_options(p)
-    p.add_argument("--json", type=Path, metavar="OUT.json", help="write the results as JSON")
-    p.add_argument("--plot", type=Path, metavar="DIR", help="write PNG plots into DIR")
-    _common(p)
+    _output_options(p)
     p.set_defaults(run=run_analyze)
 
     p = sub.add_parser("calibrate", help="volts per full scale from a reference tone",
@@ -923,9 +928,7 @@ def build_parser() -> argparse.ArgumentParser:
                    help="IQ: fraction of each half-span excluded at the edges (default 0.1)")
     p.add_argument("--channel", type=channel_index, default=0, metavar="N", help="channel of audio captures")
     p.add_argument("--explain", action="store_true", help="list every uncertainty contribution")
-    p.add_argument("--json", type=Path, metavar="OUT.json", help="write the results as JSON")
-    p.add_argument("--plot", type=Path, metavar="DIR", help="write PNG plots into DIR")
-    _common(p)
+    _output_options(p)
     p.set_defaults(run=run_yfactor)
 
     p = sub.add_parser("cascade", help="predict a chain's noise figure (Friis) and where to spend",
@@ -959,9 +962,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--segment", type=segment_samples, metavar="N")
     p.add_argument("--channel", type=channel_index, metavar="N")
     _calibration_options(p)
-    p.add_argument("--json", type=Path, metavar="OUT.json")
-    p.add_argument("--plot", type=Path, metavar="DIR")
-    _common(p)
+    _output_options(p)
     p.set_defaults(run=run_budget)
 
     p = sub.add_parser("eni", help="amplifier en and in from a source-resistance sweep, NF against Rs",
@@ -982,9 +983,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--segment", type=segment_samples, metavar="N")
     p.add_argument("--channel", type=channel_index, metavar="N")
     _calibration_options(p)
-    p.add_argument("--json", type=Path, metavar="OUT.json")
-    p.add_argument("--plot", type=Path, metavar="DIR")
-    _common(p)
+    _output_options(p)
     p.set_defaults(run=run_eni)
 
     p = sub.add_parser("profile", help="make a known-good profile from results JSON files",

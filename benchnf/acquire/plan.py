@@ -90,27 +90,16 @@ class Plan:
 
 def load_plan(path: str | Path) -> Plan:
     """Read and validate a plan file."""
-    try:
-        import tomllib
-    except ModuleNotFoundError:  # Python 3.10
-        import tomli as tomllib  # type: ignore[no-redef]
     from ..capture import CONDITIONS
+    from ..io.toml_file import check_keys, read_toml
     path = Path(path)
-    try:
-        data = tomllib.loads(path.read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise ParameterError(f"plan {path}: no such file") from None
-    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as err:
-        raise ParameterError(f"plan {path} is not valid TOML ({err})") from err
-    if set(data) - _TOP_KEYS:
-        raise ParameterError(f"plan {path}: unknown keys {sorted(set(data) - _TOP_KEYS)}")
-    if set(data.get("analysis", {})) - _ANALYSIS_KEYS:
-        raise ParameterError(f"plan {path} [analysis]: unknown keys {sorted(set(data['analysis']) - _ANALYSIS_KEYS)}")
+    data = read_toml(path, "plan")
+    check_keys(data, _TOP_KEYS, f"plan {path}")
+    check_keys(data.get("analysis", {}), _ANALYSIS_KEYS, f"plan {path} [analysis]")
     steps = []
     names = set()
     for i, st in enumerate(data.get("step", []), 1):
-        if set(st) - _STEP_KEYS:
-            raise ParameterError(f"plan {path} step {i}: unknown keys {sorted(set(st) - _STEP_KEYS)}")
+        check_keys(st, _STEP_KEYS, f"plan {path} step {i}")
         cond = st.get("condition")
         if cond not in CONDITIONS:
             raise ParameterError(f"plan {path} step {i}: condition {cond!r} is not one of {', '.join(CONDITIONS)}")

@@ -156,24 +156,15 @@ class Profile:
 
 
 def _check_keys(table: dict, allowed: set, where: str) -> None:
-    unknown = set(table) - allowed
-    if unknown:
-        raise ParameterError(f"profile {where}: unknown keys {sorted(unknown)} (allowed: {sorted(allowed)})")
+    from ..io.toml_file import check_keys
+    check_keys(table, allowed, f"profile {where}")
 
 
 def load_profile(path: str | Path) -> Profile:
     """Read and validate a profile file."""
-    try:
-        import tomllib
-    except ModuleNotFoundError:  # Python 3.10
-        import tomli as tomllib  # type: ignore[no-redef]
+    from ..io.toml_file import read_toml
     path = Path(path)
-    try:
-        data = tomllib.loads(path.read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise ParameterError(f"profile {path}: no such file") from None
-    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as err:
-        raise ParameterError(f"profile {path} is not valid TOML ({err})") from err
+    data = read_toml(path, "profile")
     _check_keys(data, _TOP, str(path))
     if data.get("schema") != PROFILE_SCHEMA:
         raise ParameterError(f"profile {path}: schema {data.get('schema')!r} is not {PROFILE_SCHEMA!r}")

@@ -154,29 +154,16 @@ class Chain:
 
 def load_chain(path: str | Path) -> Chain:
     """Read a chain file (TOML, docs/cascade.md): ``[[stage]]`` tables in order."""
-    try:
-        import tomllib
-    except ModuleNotFoundError:  # Python 3.10
-        import tomli as tomllib  # type: ignore[no-redef]
+    from ..io.toml_file import check_keys, read_toml
     path = Path(path)
-    try:
-        data = tomllib.loads(path.read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise ParameterError(f"chain file {path}: no such file") from None
-    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as err:
-        raise ParameterError(f"chain file {path} is not valid TOML ({err})") from err
-    unknown = set(data) - _CHAIN_KEYS
-    if unknown:
-        raise ParameterError(f"chain file {path}: unknown top-level keys {sorted(unknown)} "
-                             f"(allowed: {sorted(_CHAIN_KEYS)})")
+    data = read_toml(path, "chain file")
+    check_keys(data, _CHAIN_KEYS, f"chain file {path}")
     raw = data.get("stage")
     if not isinstance(raw, list) or not raw:
         raise ParameterError(f"chain file {path} has no [[stage]] tables")
     stages = []
     for i, st in enumerate(raw, 1):
-        unknown = set(st) - _STAGE_KEYS
-        if unknown:
-            raise ParameterError(f"chain file {path}, stage {i}: unknown keys {sorted(unknown)}")
+        check_keys(st, _STAGE_KEYS, f"chain file {path}, stage {i}")
         st = dict(st)
         st.pop("notes", None)
         if "gain_linear" in st:

@@ -193,17 +193,9 @@ def load_enr_table(path: str | Path) -> EnrTable:
     if not path.is_file():
         raise ParameterError(f"ENR table {path}: no such file")
     if path.suffix.lower() == ".toml":
-        try:
-            import tomllib
-        except ModuleNotFoundError:  # Python 3.10
-            import tomli as tomllib  # type: ignore[no-redef]
-        try:
-            data = tomllib.loads(path.read_text(encoding="utf-8"))
-        except (tomllib.TOMLDecodeError, UnicodeDecodeError) as err:
-            raise ParameterError(f"ENR table {path} is not valid TOML ({err})") from err
-        unknown = set(data) - {"points", "cold_k", "enr_uncertainty_db", "name"}
-        if unknown:
-            raise ParameterError(f"ENR table {path}: unknown keys {sorted(unknown)}")
+        from ..io.toml_file import check_keys, read_toml
+        data = read_toml(path, "ENR table")
+        check_keys(data, {"points", "cold_k", "enr_uncertainty_db", "name"}, f"ENR table {path}")
         pts = data.get("points")
         if not isinstance(pts, list) or not all(isinstance(p, list) and len(p) == 2 for p in pts):
             raise ParameterError(f"ENR table {path}: 'points' must be a list of [frequency_hz, enr_db]")

@@ -1,0 +1,32 @@
+"""Reading the small TOML files of our own formats (chains, profiles, plans, ENR tables) with tomllib."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+from ..errors import ParameterError
+
+__all__ = ["read_toml", "check_keys"]
+
+
+def read_toml(path: str | Path, what: str) -> dict[str, Any]:
+    """Parse `path` as TOML, or raise a ParameterError naming `what` it was meant to be."""
+    try:
+        import tomllib
+    except ModuleNotFoundError:  # Python 3.10
+        import tomli as tomllib  # type: ignore[no-redef]
+    path = Path(path)
+    try:
+        return tomllib.loads(path.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise ParameterError(f"{what} {path}: no such file") from None
+    except (OSError, tomllib.TOMLDecodeError, UnicodeDecodeError) as err:
+        raise ParameterError(f"{what} {path} is not valid TOML ({err})") from err
+
+
+def check_keys(table: dict[str, Any], allowed: set[str], where: str) -> None:
+    """Refuse keys outside `allowed` (a typo must not become a silent no-op)."""
+    unknown = set(table) - allowed
+    if unknown:
+        raise ParameterError(f"{where}: unknown keys {sorted(unknown)} (allowed: {sorted(allowed)})")
