@@ -18,6 +18,7 @@ from typing import Any, Union
 import numpy as np
 from numpy.typing import NDArray
 
+from ._json import json_safe
 from .capture import Capture, SampleStats
 from .dsp.integrate import band_bin_weights
 from .dsp.spectrum import Psd, WelchAccumulator, default_segment_length, pool_psds
@@ -261,19 +262,7 @@ class AnalysisResult:
             elif isinstance(value, tuple):
                 value = list(value)
             out[key] = value
-        return _json_safe(out)
-
-
-def _json_safe(value: Any) -> Any:
-    if isinstance(value, dict):
-        return {k: _json_safe(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_json_safe(v) for v in value]
-    if isinstance(value, (float, np.floating)):
-        return float(value) if math.isfinite(value) else None
-    if isinstance(value, np.integer):
-        return int(value)
-    return value
+        return json_safe(out)
 
 
 # ----------------------------------------------------------------------------------------

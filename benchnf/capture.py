@@ -32,9 +32,6 @@ CLIP_LEVEL_FS = 0.99996
 
 DEFAULT_BLOCK_FRAMES = 1 << 16
 
-BlockReader = Callable[[int], Iterator[NDArray[np.float64]]]
-
-
 def check_condition(condition: str | None) -> str | None:
     """Return `condition` if it is one of :data:`CONDITIONS` (or None), else raise."""
     if condition is not None and condition not in CONDITIONS:

@@ -18,7 +18,8 @@ from typing import Any
 import numpy as np
 from numpy.typing import NDArray
 
-from .analysis import GainSetup, _json_safe, capture_psd, measure_gain
+from ._json import json_safe
+from .analysis import GainSetup, capture_psd, measure_gain
 from .capture import Capture
 from .dsp.integrate import band_bin_weights
 from .dsp.spectrum import Psd, default_segment_length
@@ -111,7 +112,7 @@ class BudgetResult:
     def to_dict(self) -> dict[str, Any]:
         out = {"schema_version": SCHEMA_VERSION, "kind": "budget", **{
             k: ([t.to_dict() for t in v] if k == "taps" else v) for k, v in self.__dict__.items()}}
-        return _json_safe(out)
+        return json_safe(out)
 
 
 def measured_budget(*, taps: Sequence[tuple[str, Capture, GainSetup]], rs_ohm: float,
@@ -221,7 +222,7 @@ class EniResult:
                "ropt_at_1khz_ohm": a["ropt_ohm"], "nfmin_at_1khz_db": a["nfmin_db"],
                "correlation_at_1khz": a["correlation"], "at_1khz": a, "rows": list(self.rows),
                "points": list(self.points), "nf_vs_rs": self.nf_vs_rs, "notes": list(self.notes)}
-        return _json_safe(out)
+        return json_safe(out)
 
 
 def extract_en_in(*, sweep: Sequence[tuple[Capture | Psd, float, float, GainSetup]], floor: Capture | None = None,
@@ -255,9 +256,9 @@ def extract_en_in(*, sweep: Sequence[tuple[Capture | Psd, float, float, GainSetu
     bin_w = f[1] - f[0]
     centres = [c for c in third_octave_centres_hz(spot_band) if c[1] * 0.2316 >= bin_w]
     weights = [third_octave_weights(f, exact) for _l, exact in centres]
-    dens = np.array([[ref.band_mean(w)[0] for w in weights] for ref in refs])
-    var = np.array([[ref.band_mean(w)[1] ** 2 + (2 * ref.gain_rel_std * ref.band_mean(w)[0]) ** 2
-                     for w in weights] for ref in refs])
+    means = [[ref.band_mean(w) for w in weights] for ref in refs]  # (mean, std) per Rs and band
+    dens = np.array([[m for m, _s in row] for row in means])
+    var = np.array([[s ** 2 + (2 * ref.gain_rel_std * m) ** 2 for m, s in row] for row, ref in zip(means, refs)])
     temps = np.array([s[2] for s in sweep])
     fit = fit_en_in(rs, dens, var, temperature_k=temps, frequency_hz=[c[0] for c in centres])
     at_1k = fit.at(1000.0)

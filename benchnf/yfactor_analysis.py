@@ -158,7 +158,7 @@ class YFactorResult:
     budgets: dict[str, Budget] = field(repr=False, compare=False)
 
     def to_dict(self) -> dict[str, Any]:
-        from .analysis import _json_safe
+        from ._json import json_safe
         out: dict[str, Any] = {"schema_version": SCHEMA_VERSION, "kind": "yfactor"}
         for key, value in self.__dict__.items():
             if key == "budgets":
@@ -168,7 +168,7 @@ class YFactorResult:
             elif isinstance(value, tuple):
                 value = list(value)
             out[key] = value
-        return _json_safe(out)
+        return json_safe(out)
 
 
 # ----------------------------------------------------------------------------------------

@@ -119,7 +119,7 @@ def format_summary(r: AnalysisResult, *, max_spots: int | None = None, max_spurs
             for c in budget.contributions:
                 lines.append(f"    {c.u_db:8.4f}  {c.name} ({c.note})")
     else:
-        lines += ["", f"Uncertainties are expanded (k=2) per the GUM; --explain lists each budget."]
+        lines += ["", "Uncertainties are expanded (k=2) per the GUM; --explain lists each budget."]
     if r.notes:
         lines += ["", "Notes"] + [f"  * {n}" for n in r.notes]
     return "\n".join(lines) + "\n"
