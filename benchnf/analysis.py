@@ -37,7 +37,7 @@ __all__ = ["GainSetup", "GainEstimate", "SpotValue", "SpurValue", "RepeatSummary
 
 SCHEMA_VERSION = "1"
 DETECTORS = ("rms", "qp")
-_MAX_TONE_FRAMES = 1 << 18  # 2.7 s at 96 kHz: ample for a tone level, cheap to fit
+_MAX_TONE_FRAMES = 1 << 17  # 1.4 s at 96 kHz, 2.7 s at 48 kHz: ample for a tone level, cheap to fit
 _MAX_QP_SECONDS = 30.0
 
 Progress = Callable[[int], None]
