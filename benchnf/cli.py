@@ -196,7 +196,7 @@ def run_analyze(args: argparse.Namespace) -> int:
     from .analysis import analyze_gain_method
     from .dsp.weighting import BAND_PRESETS, Band
     from .noise.uncertainty import StatedUncertainty
-    from .report.json_out import check_output_path, write_json
+    from .report.json_out import check_output_path
     from .report.text import format_summary
     from .units import dbu_to_vrms
 
@@ -237,13 +237,8 @@ def run_analyze(args: argparse.Namespace) -> int:
                                      reference_output_vrms=reference, progress=tick)
     _print_warnings(caught)
     print(format_summary(result, explain=args.explain), end="")
-    if args.json:
-        write_json(result.to_dict(), args.json)
-        print(f"\nJSON written to {args.json}")
-    if args.plot:
-        from .report.plots import save_plots
-        paths = save_plots(result, args.plot)
-        print(f"plots written to {Path(args.plot)}/: " + ", ".join(p.name for p in paths))
+    from .report.plots import save_plots
+    _write_outputs(args, result.to_dict(), lambda folder: save_plots(result, folder))
     return ExitStatus.OK
 
 
@@ -267,7 +262,7 @@ def _open_rf(path: Path | None, args: argparse.Namespace):
 def run_yfactor(args: argparse.Namespace) -> int:
     from .dsp.weighting import Band
     from .noise.yfactor import EnrTable, load_enr_table
-    from .report.json_out import check_output_path, write_json
+    from .report.json_out import check_output_path
     from .report.yfactor_text import format_yfactor
     from .yfactor_analysis import HotColdSource, Loss, analyze_yfactor
 
@@ -306,13 +301,8 @@ def run_yfactor(args: argparse.Namespace) -> int:
             loss_after=Loss(*args.loss_after) if args.loss_after else None,
             dc_exclude_hz=args.dc_exclude_hz, edge_fraction=args.edge_fraction, progress=tick)
     print(format_yfactor(result, explain=args.explain), end="")
-    if args.json:
-        write_json(result.to_dict(), args.json)
-        print(f"\nJSON written to {args.json}")
-    if args.plot:
-        from .report.plots import save_yfactor_plots
-        paths = save_yfactor_plots(result, args.plot)
-        print(f"plots written to {Path(args.plot)}/: " + ", ".join(p.name for p in paths))
+    from .report.plots import save_yfactor_plots
+    _write_outputs(args, result.to_dict(), lambda folder: save_yfactor_plots(result, folder))
     return ExitStatus.OK
 
 
@@ -373,7 +363,6 @@ def _gain_for(args: argparse.Namespace, cal, tone_path: Path | None):
 def run_budget(args: argparse.Namespace) -> int:
     from .dsp.weighting import Band
     from .noise.cascade import load_chain
-    from .report.json_out import write_json
     from .report.stages_text import format_budget
     from .stages import measured_budget
     chain = load_chain(args.chain) if args.chain else None
@@ -391,13 +380,8 @@ def run_budget(args: argparse.Namespace) -> int:
                              floor=_open(args.floor, condition="floor", args=args, cal=cal), chain=chain,
                              band=Band(*args.band), segment_length=args.segment)
     print(format_budget(result), end="")
-    if args.json:
-        write_json(result.to_dict(), args.json)
-        print(f"\nJSON written to {args.json}")
-    if args.plot:
-        from .report.plots import save_budget_plot
-        paths = save_budget_plot(result, args.plot)
-        print(f"plots written to {Path(args.plot)}/: " + ", ".join(p.name for p in paths))
+    from .report.plots import save_budget_plot
+    _write_outputs(args, result.to_dict(), lambda folder: save_budget_plot(result, folder))
     return ExitStatus.OK
 
 
@@ -416,7 +400,7 @@ def _sweep_item(text: str) -> tuple[Path, float, Path | None]:
 
 def run_eni(args: argparse.Namespace) -> int:
     from .dsp.weighting import Band
-    from .report.json_out import check_output_path, write_json
+    from .report.json_out import check_output_path
     from .report.stages_text import format_eni
     from .stages import extract_en_in
     if args.json:
@@ -447,13 +431,8 @@ def run_eni(args: argparse.Namespace) -> int:
                                                                         cal=cal),
                            band=Band(*args.band), segment_length=args.segment)
     print(format_eni(result), end="")
-    if args.json:
-        write_json(result.to_dict(), args.json)
-        print(f"\nJSON written to {args.json}")
-    if args.plot:
-        from .report.plots import save_eni_plots
-        paths = save_eni_plots(result, args.plot)
-        print(f"plots written to {Path(args.plot)}/: " + ", ".join(p.name for p in paths))
+    from .report.plots import save_eni_plots
+    _write_outputs(args, result.to_dict(), lambda folder: save_eni_plots(result, folder))
     return ExitStatus.OK
 
 
@@ -761,6 +740,17 @@ def _calibration_options(p: argparse.ArgumentParser) -> None:
                    help="volts that a sample value of 1.0 represents at the analyzer input")
     g.add_argument("--calibration", type=Path, metavar="CAL.json",
                    help="a calibration file written by 'benchnf calibrate'")
+
+
+def _write_outputs(args: argparse.Namespace, data: dict[str, Any], save_plots=None) -> None:
+    """--json and --plot, the same way for every command."""
+    from .report.json_out import write_json
+    if getattr(args, "json", None):
+        write_json(data, args.json)
+        print(f"\nJSON written to {args.json}")
+    if getattr(args, "plot", None) and save_plots is not None:
+        paths = save_plots(args.plot)
+        print(f"plots written to {Path(args.plot)}/: " + ", ".join(p.name for p in paths))
 
 
 def _output_options(p: argparse.ArgumentParser, *, plot: bool = True) -> None:

@@ -349,26 +349,6 @@ class WelchAccumulator:
     def _segment_means(self, frames: NDArray[np.float64]) -> NDArray[np.float64]:
         """Mean of each segment.
 
-        When the hop divides N (50 % overlap and the like), the segments are made of
-        whole hop-blocks, so the block sums are taken once and added up, instead of
-        summing every sample once per segment it belongs to.
-        """
-        n, hop, m = self.segment_length, self.hop, frames.shape[0]
-        if n % hop:
-            return frames.mean(axis=-1)
-        r = n // hop
-        # The segments are a strided view of one contiguous stretch of the buffer.
-        stretch = np.lib.stride_tricks.as_strided(frames, shape=(m + r - 1, hop),
-                                                  strides=(frames.strides[0], frames.strides[1]))
-        block_sums = stretch.sum(axis=1)
-        sums = block_sums[:m].copy()
-        for j in range(1, r):
-            sums += block_sums[j:j + m]
-        return sums / n
-
-    def _segment_means(self, frames: NDArray[np.float64]) -> NDArray[np.float64]:
-        """Mean of each segment.
-
         When the hop divides N (50 % overlap and the like) the segments are made of whole
         hop-blocks: each block is summed once and the sums added up, instead of summing every
         sample once per segment it belongs to.
