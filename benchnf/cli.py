@@ -16,7 +16,7 @@ from enum import IntEnum
 from pathlib import Path
 from typing import Any, Iterator
 
-from .errors import BenchError, BenchWarning, MissingDependencyError
+from .errors import BenchError, BenchWarning, DeviceNotFoundError, MissingDependencyError
 
 __all__ = ["main", "build_parser", "ExitStatus"]
 
@@ -1124,5 +1124,5 @@ def main(argv: Sequence[str] | None = None) -> int:
         if args.traceback:
             raise
         print(f"benchnf: error: {err}", file=sys.stderr)
-        return (ExitStatus.MISSING_DEPENDENCY if isinstance(err, MissingDependencyError)
+        return (ExitStatus.MISSING_DEPENDENCY if isinstance(err, (MissingDependencyError, DeviceNotFoundError))
                 else ExitStatus.BAD_INPUT)

@@ -15,6 +15,7 @@ __all__ = [
     "MeasurementError",
     "MissingDependencyError",
     "AcquisitionError",
+    "DeviceNotFoundError",
     "BenchWarning",
     "ClippingWarning",
     "FloorMarginWarning",
@@ -48,6 +49,10 @@ class MissingDependencyError(BenchError, ImportError):
 
 class AcquisitionError(BenchError, RuntimeError):
     """A sound device could not be found, opened or read; or a recording is not fit."""
+
+
+class DeviceNotFoundError(AcquisitionError):
+    """No audio device matches (exit status 3, like a missing dependency)."""
 
 
 class BenchWarning(UserWarning):

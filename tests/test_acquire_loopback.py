@@ -239,3 +239,17 @@ def test_live_view_updates_several_times_a_second(tmp_path):
                  update_hz=5, seconds=4.0, out=buf)
     assert n >= 8  # about 5 per second once the stream is up and the first segment is in (the rate: benchmarks)
     assert "band noise" in buf.getvalue()
+
+
+def test_no_matching_device_gives_exit_3(tmp_path, capsys):
+    rc = main(["record", "--device", "no-such-card-xyz", "--seconds", "1", "--condition", "floor",
+               "-o", str(tmp_path / "x.wav")])
+    assert rc == ExitStatus.MISSING_DEPENDENCY
+    assert "no input device matches 'no-such-card-xyz'" in capsys.readouterr().err
+    assert not (tmp_path / "x.wav").exists()
+
+
+def test_impossible_channel_count_is_refused(tmp_path, capsys):
+    rc = main(["record", "--device", DEVICE, "--seconds", "1", "--channels", "99", "--condition", "floor",
+               "-o", str(tmp_path / "x.wav")])
+    assert rc == ExitStatus.BAD_INPUT and "input channels" in capsys.readouterr().err

@@ -5,7 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from .._optional import require
-from ..errors import AcquisitionError
+from ..errors import AcquisitionError, DeviceNotFoundError
 
 __all__ = ["DeviceInfo", "sounddevice", "list_devices", "find_device", "rate_note"]
 
@@ -56,7 +56,7 @@ def find_device(name: str | None, *, host_api: str | None = None, kind: str = "i
             return match[0]
         if usable:
             return usable[0]
-        raise AcquisitionError(f"no {kind} device found: connect one, or check 'benchnf devices'")
+        raise DeviceNotFoundError(f"no {kind} device found: connect one, or check 'benchnf devices'")
     exact = [d for d in usable if d.name.lower() == name.lower()]
     if exact:
         return exact[0]
@@ -64,7 +64,7 @@ def find_device(name: str | None, *, host_api: str | None = None, kind: str = "i
     if len(subs) == 1:
         return subs[0]
     if not subs:
-        raise AcquisitionError(f"no {kind} device matches {name!r}" + (f" on {host_api}" if host_api else "") +
+        raise DeviceNotFoundError(f"no {kind} device matches {name!r}" + (f" on {host_api}" if host_api else "") +
                                "; 'benchnf devices' lists them")
     raise AcquisitionError(f"{len(subs)} devices match {name!r}: " + "; ".join(d.describe() for d in subs) +
                            " - give more of the name or --host-api")
