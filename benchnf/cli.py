@@ -753,6 +753,17 @@ def _write_outputs(args: argparse.Namespace, data: dict[str, Any], save_plots=No
         print(f"plots written to {Path(args.plot)}/: " + ", ".join(p.name for p in paths))
 
 
+def _sweep_options(p: argparse.ArgumentParser, *, band_default: tuple[float, float], band_help: str) -> None:
+    """Options shared by the commands that refer several captures to the input (budget, eni)."""
+    p.add_argument("--floor", type=Path, metavar="FILE", help="analyzer floor")
+    p.add_argument("--band", type=non_negative_hz, nargs=2, default=list(band_default), metavar=("LO", "HI"),
+                   help=band_help)
+    p.add_argument("--segment", type=segment_samples, metavar="N")
+    p.add_argument("--channel", type=channel_index, metavar="N")
+    _calibration_options(p)
+    _output_options(p)
+
+
 def _output_options(p: argparse.ArgumentParser, *, plot: bool = True) -> None:
     p.add_argument("--json", type=Path, metavar="OUT.json", help="write the results as JSON")
     if plot:
@@ -946,13 +957,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--gain-db", type=finite_db, help=argparse.SUPPRESS)
     p.add_argument("--rs", type=positive_ohm, metavar="OHM", help="source resistance (default: sidecar)")
     p.add_argument("--temperature-k", type=kelvin, metavar="K", help="resistor temperature (default: sidecar, 290)")
-    p.add_argument("--floor", type=Path, metavar="FILE", help="analyzer floor")
-    p.add_argument("--band", type=non_negative_hz, nargs=2, default=[400.0, 20_000.0], metavar=("LO", "HI"),
-                   help="band of the band-mean densities (default 400 20000 Hz)")
-    p.add_argument("--segment", type=segment_samples, metavar="N")
-    p.add_argument("--channel", type=channel_index, metavar="N")
-    _calibration_options(p)
-    _output_options(p)
+    _sweep_options(p, band_default=(400.0, 20_000.0),
+                   band_help="band of the band-mean densities (default 400 20000 Hz)")
     p.set_defaults(run=run_budget)
 
     p = sub.add_parser("eni", help="amplifier en and in from a source-resistance sweep, NF against Rs",
@@ -968,12 +974,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--zin-ohm", type=positive_ohm, metavar="OHM",
                    help="DUT input impedance, when tone levels were taken at the DUT terminals")
     p.add_argument("--temperature-k", type=kelvin, metavar="K", help="resistor temperature for every capture")
-    p.add_argument("--floor", type=Path, metavar="FILE", help="analyzer floor")
-    p.add_argument("--band", type=non_negative_hz, nargs=2, default=[20.0, 20_000.0], metavar=("LO", "HI"))
-    p.add_argument("--segment", type=segment_samples, metavar="N")
-    p.add_argument("--channel", type=channel_index, metavar="N")
-    _calibration_options(p)
-    _output_options(p)
+    _sweep_options(p, band_default=(20.0, 20_000.0),
+                   band_help="band of the one-third-octave rows (default 20 20000 Hz)")
     p.set_defaults(run=run_eni)
 
     p = sub.add_parser("profile", help="make a known-good profile from results JSON files",
