@@ -19,6 +19,8 @@ __all__ = ["SineFit", "fit_sine", "locate_tone"]
 
 _MIN_TONE_SNR_DB = 20.0
 _FREQUENCY_FIT_SAMPLES = 1 << 16
+#: Squaring a condition number of 1e4 still leaves about 8 good digits in the solution.
+_NORMAL_EQUATIONS_MAX_COND = 1e4
 
 
 @dataclass(frozen=True)
@@ -114,9 +116,30 @@ def locate_tone(samples: ArrayLike, *, sample_rate_hz: float, expected_hz: float
     return found
 
 
-def _design(t: NDArray[np.float64], omega: float) -> NDArray[np.float64]:
-    phase = omega * t
-    return np.column_stack((np.cos(phase), np.sin(phase), np.ones_like(t)))
+def _fill_design(rows: NDArray[np.float64], t: NDArray[np.float64], omega: float) -> None:
+    """Rows cos(w t), sin(w t), 1 of the three-parameter design, written into `rows` (3, n)."""
+    np.multiply(t, omega, out=rows[2])
+    np.sin(rows[2], out=rows[1])
+    np.cos(rows[2], out=rows[0])
+    rows[2] = 1.0
+
+
+def _solve_normal(rows: NDArray[np.float64], x: NDArray[np.float64]) -> NDArray[np.float64]:
+    """Least-squares coefficients c minimising ``|x - c @ rows|`` by the normal equations.
+
+    The Gram matrix is equilibrated (unit diagonal) before solving.  The columns of a sine fit
+    over many periods are nearly orthogonal (centred time makes the frequency column so too),
+    so its condition number stays near 1 and the normal equations lose nothing against QR, at
+    a fraction of the cost; IEEE Std 1057 states the fits in this form.  A record too short for
+    that (about a period or less) is solved by :func:`numpy.linalg.lstsq` instead.
+    """
+    gram = rows @ rows.T
+    scale = np.sqrt(np.diag(gram))
+    scale[scale == 0] = 1.0
+    unit = gram / np.outer(scale, scale)
+    if np.linalg.cond(unit) > _NORMAL_EQUATIONS_MAX_COND:  # under a period or so: QR-based instead
+        return np.linalg.lstsq(rows.T, x, rcond=None)[0]
+    return np.linalg.solve(unit, (rows @ x) / scale) / scale
 
 
 def fit_sine(samples: ArrayLike, *, sample_rate_hz: float, frequency_hz: float | None = None,
@@ -179,21 +202,25 @@ def fit_sine(samples: ArrayLike, *, sample_rate_hz: float, frequency_hz: float |
         half = min(x.size, _FREQUENCY_FIT_SAMPLES) // 2
         mid = slice(x.size // 2 - half, x.size // 2 + half)
         xs, ts = x[mid], t_mid[mid]
-        coef, *_ = np.linalg.lstsq(_design(ts, omega), xs, rcond=None)
+        rows = np.empty((4, ts.size))
+        _fill_design(rows[:3], ts, omega)
+        coef = _solve_normal(rows[:3], xs)
         for _ in range(max_iterations):
             a, b, _c = coef
-            phase = omega * ts
-            cos_p, sin_p = np.cos(phase), np.sin(phase)
-            design = np.column_stack((cos_p, sin_p, np.ones_like(ts), ts * (-a * sin_p + b * cos_p)))
-            sol, *_ = np.linalg.lstsq(design, xs, rcond=None)
+            _fill_design(rows[:3], ts, omega)
+            np.multiply(rows[0], b, out=rows[3])  # t (-A sin + B cos): d model / d omega
+            rows[3] -= a * rows[1]
+            rows[3] *= ts
+            sol = _solve_normal(rows, xs)
             step = float(sol[3])
             coef = sol[:3]
             omega += step
             if abs(step) < 1e-12 * omega:
                 break
-    coef, *_ = np.linalg.lstsq(_design(t_mid, omega), x, rcond=None)
-    design = _design(t_mid, omega)
-    residual = x - design @ coef
+    design = np.empty((3, x.size))
+    _fill_design(design, t_mid, omega)
+    coef = _solve_normal(design, x)
+    residual = x - coef @ design
     a, b, c = (float(v) for v in coef)
     amplitude = math.hypot(a, b)
     residual_rms = float(np.sqrt(np.mean(residual ** 2)))
