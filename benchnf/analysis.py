@@ -279,9 +279,9 @@ def capture_psd(capture: NoiseInput, *, segment_length: int, progress: Progress 
     vpfs = capture.volts_per_fs_or_raise(purpose)
     stats = SampleStats(label=capture.label)
     acc = WelchAccumulator(sample_rate_hz=capture.sample_rate_hz, segment_length=segment_length)
-    for block in capture.blocks():
+    for block in capture.blocks(into=acc.reserve):  # decoded straight into the accumulator
         stats.update(block)
-        acc.update(block)
+        acc.commit(block.size)
         if progress is not None:
             progress(block.size)
     stats.check_noise()

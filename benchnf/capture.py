@@ -20,7 +20,7 @@ from numpy.typing import ArrayLike, NDArray
 
 from .errors import CalibrationError, CaptureError, ParameterError
 
-__all__ = ["CONDITIONS", "Capture", "SampleStats", "CLIP_LEVEL_FS"]
+__all__ = ["CONDITIONS", "Capture", "SampleStats", "CLIP_LEVEL_FS", "BlockSink", "deliver"]
 
 #: Measurement conditions a capture can be made under (see docs/method.md).
 CONDITIONS = ("floor", "shorted", "terminated", "tone", "hot", "cold", "tap", "reference")
@@ -31,6 +31,19 @@ CONDITIONS = ("floor", "shorted", "terminated", "tone", "hot", "cold", "tap", "r
 CLIP_LEVEL_FS = 0.99996
 
 DEFAULT_BLOCK_FRAMES = 1 << 16
+
+#: Gives a writable float64 array of the requested length for the next block (see Capture.blocks).
+BlockSink = Callable[[int], NDArray[np.float64]]
+
+
+def deliver(values: NDArray[np.float64], into: BlockSink | None) -> NDArray[np.float64]:
+    """`values` written into the array `into` gives (or `values` itself without a sink)."""
+    if into is None:
+        return values
+    out = into(values.shape[0])
+    out[...] = values
+    return out
+
 
 def check_condition(condition: str | None) -> str | None:
     """Return `condition` if it is one of :data:`CONDITIONS` (or None), else raise."""
@@ -72,7 +85,7 @@ class Capture:
     condition: str | None = None
     metadata: Mapping[str, Any] = field(default_factory=dict)
     path: Path | None = None
-    _reader: Callable[[int, int], Iterator[NDArray[np.float64]]] | None = field(
+    _reader: Callable[[int, int, BlockSink | None], Iterator[NDArray[np.float64]]] | None = field(
         default=None, repr=False, compare=False)
 
     def __post_init__(self) -> None:
@@ -102,9 +115,9 @@ class Capture:
         data = data.copy()
         data.setflags(write=False)
 
-        def reader(block_frames: int, ch: int) -> Iterator[NDArray[np.float64]]:
+        def reader(block_frames: int, ch: int, into: BlockSink | None) -> Iterator[NDArray[np.float64]]:
             for start in range(0, data.shape[0], block_frames):
-                yield data[start:start + block_frames, ch]
+                yield deliver(data[start:start + block_frames, ch], into)
 
         return cls(float(sample_rate_hz), int(data.shape[0]), int(channel), int(data.shape[1]),
                    volts_per_fs, condition, dict(metadata or {}), None, reader)
@@ -126,16 +139,22 @@ class Capture:
             return self.path.name
         return f"{self.condition or 'array'} capture"
 
-    def blocks(self, block_frames: int = DEFAULT_BLOCK_FRAMES, *,
-               channel: int | None = None) -> Iterator[NDArray[np.float64]]:
-        """Yield the samples of one channel (default: this capture's) in float64 blocks."""
+    def blocks(self, block_frames: int = DEFAULT_BLOCK_FRAMES, *, channel: int | None = None,
+               into: BlockSink | None = None) -> Iterator[NDArray[np.float64]]:
+        """Yield the samples of one channel (default: this capture's) in float64 blocks.
+
+        With `into`, each block is written into the array ``into(n)`` returns (e.g.
+        :meth:`benchnf.dsp.spectrum.WelchAccumulator.reserve`) and that array is yielded, so
+        a file's samples are decoded straight to where they are used; without it, each
+        block is a new array (or a read-only view of the capture's own array).
+        """
         if self._reader is None:
             raise CaptureError(f"{self.label} has no samples attached")
         ch = self.channel if channel is None else channel
         if not 0 <= ch < self.n_channels:
             raise ParameterError(f"channel {ch} does not exist in {self.label} "
                                  f"({self.n_channels} channel(s), numbered from 0)")
-        return self._reader(int(block_frames), ch)
+        return self._reader(int(block_frames), ch, into)
 
     def read(self, *, channel: int | None = None, max_frames: int | None = None) -> NDArray[np.float64]:
         """Return the samples of one channel as one array (at most `max_frames`)."""
@@ -169,7 +188,6 @@ class SampleStats:
 
     label: str = "capture"
     n: int = 0
-    sum_fs: float = 0.0
     sum_sq_fs2: float = 0.0
     peak_fs: float = 0.0
     n_clipped: int = 0
@@ -179,17 +197,16 @@ class SampleStats:
         """Add one block of samples."""
         if block.size == 0:
             return
-        total = float(block.sum())
-        if not math.isfinite(total):  # a NaN or infinity anywhere makes the sum non-finite
+        energy = float(np.dot(block, block))
+        if not math.isfinite(energy):  # a NaN or infinity anywhere makes the sum of squares so
             finite = np.isfinite(block)
             self.n_nonfinite += int(block.size - np.count_nonzero(finite))
             block = block[finite]
             if block.size == 0:
                 return
-            total = float(block.sum())
+            energy = float(np.dot(block, block))
         self.n += block.size
-        self.sum_fs += total
-        self.sum_sq_fs2 += float(np.dot(block, block))
+        self.sum_sq_fs2 += energy
         peak = max(float(block.max()), -float(block.min()))
         self.peak_fs = max(self.peak_fs, peak)
         if peak >= CLIP_LEVEL_FS:

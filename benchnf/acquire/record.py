@@ -243,46 +243,39 @@ def record_to_file(path: str | Path, *, seconds: float, sample_rate_hz: float, c
     return report
 
 
-def recover_wav(damaged: str | Path, output: str | Path) -> int:
+def recover_wav(damaged: str | Path, output: str | Path, *, block_frames: int = 1 << 16) -> int:
     """Rescue the samples of a WAV whose header is stale (a recorder killed before closing it).
 
-    Reads the format chunk and everything after the start of the data chunk up
-    to the end of the file, and writes a new, valid file.  The damaged file is
-    not changed.  Returns the number of frames rescued.
+    Reads the format chunk, then every whole frame from the start of the data chunk to the
+    end of the file, block by block, and writes them to a new, valid file in the same
+    encoding (RF64 beyond 2 GiB).  The damaged file is not changed.  Returns the number of
+    frames rescued.
     """
-    import struct
-
     import soundfile as sf
+
+    from ..io.wav_pcm import decode_samples, libsndfile_subtype, read_wav_layout
     damaged, output = Path(damaged), Path(output)
     if output.exists():
         raise CaptureError(f"{output} exists already: choose another name")
-    raw = damaged.read_bytes()
-    if raw[:4] not in (b"RIFF", b"RF64") or raw[8:12] != b"WAVE":
-        raise CaptureError(f"{damaged} is not a WAV file: nothing to recover")
-    pos, fmt, data_at = 12, None, None
-    while pos + 8 <= len(raw):
-        cid, size = struct.unpack("<4sI", raw[pos:pos + 8])
-        if cid == b"fmt ":
-            fmt = struct.unpack("<HHIIHH", raw[pos + 8:pos + 24])
-        if cid == b"data":
-            data_at = pos + 8
-            break
-        pos += 8 + size + (size & 1)
-    if fmt is None or data_at is None:
-        raise CaptureError(f"{damaged}: no format or data chunk found; the file cannot be recovered")
-    tag, channels, rate, _bps, align, bits = fmt
-    body = raw[data_at:]
-    frames = len(body) // align
-    kinds = {(3, 32): "<f4", (1, 16): "<i2", (1, 32): "<i4", (0xFFFE, 32): "<f4"}
-    if (tag, bits) == (1, 24):
-        b = np.frombuffer(body[: frames * align], dtype=np.uint8).reshape(-1, 3)
-        ints = (b[:, 0].astype(np.int32) | (b[:, 1].astype(np.int32) << 8) | (b[:, 2].astype(np.int32) << 16))
-        ints = np.where(ints >= 2 ** 23, ints - 2 ** 24, ints)
-        data = (ints / 2 ** 23).reshape(frames, channels)
-    elif (tag, bits) in kinds:
-        arr = np.frombuffer(body[: frames * align], dtype=kinds[(tag, bits)]).reshape(frames, channels)
-        data = arr.astype(np.float64) / (2 ** (bits - 1) if arr.dtype.kind == "i" else 1.0)
-    else:
-        raise CaptureError(f"{damaged}: sample format {tag}/{bits}-bit is not one benchnf can recover")
-    sf.write(str(output), data, rate, subtype="FLOAT")
+    layout = read_wav_layout(damaged)
+    if layout is None:
+        raise CaptureError(f"{damaged} is not a WAV file with a format and a data chunk: "
+                           f"nothing to recover")
+    subtype = libsndfile_subtype(layout)
+    if subtype is None:
+        raise CaptureError(f"{damaged}: sample format {layout.format_tag}/{layout.bits}-bit is not one "
+                           f"benchnf can recover")
+    frames = (layout.file_bytes - layout.data_offset) // layout.block_align
+    raw = bytearray(block_frames * layout.block_align + 1)
+    view = memoryview(raw)
+    with open(damaged, "rb") as src, sf.SoundFile(
+            str(output), "w", samplerate=layout.sample_rate, channels=layout.channels, subtype=subtype,
+            format="RF64" if frames * layout.block_align > 2 ** 31 else "WAV") as dst:
+        src.seek(layout.data_offset)
+        left = frames
+        while left > 0:
+            k = min(block_frames, left)
+            src.readinto(view[:k * layout.block_align])
+            dst.write(decode_samples(view, layout, k, native=True))
+            left -= k
     return frames

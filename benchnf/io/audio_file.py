@@ -8,9 +8,10 @@ from pathlib import Path
 import numpy as np
 from numpy.typing import NDArray
 
-from ..capture import Capture
+from ..capture import BlockSink, Capture, deliver
 from ..errors import CaptureError
 from .sidecar import read_sidecar
+from .wav_pcm import WavLayout, iter_channel_blocks, libsndfile_subtype, read_wav_layout
 
 __all__ = ["open_capture", "AUDIO_SUFFIXES"]
 
@@ -23,30 +24,15 @@ def _soundfile():
     return require("soundfile", extra=None, purpose="reading audio captures")
 
 
-def _wav_data_shortfall(path: Path) -> int | None:
-    """Bytes missing from a RIFF/WAVE file's data chunk (0 if complete; None if not a RIFF WAV).
-
-    libsndfile quietly shortens a truncated WAV to what is there, so the header
-    is read here: a data chunk that declares more bytes than the file holds is
-    a truncated recording.  A size of 0 or 0xFFFFFFFF (left by a recorder that
-    was stopped before it could finish the header) is not judged.
-    """
-    import struct
-    size = path.stat().st_size
-    with open(path, "rb") as fh:
-        head = fh.read(12)
-        if len(head) < 12 or head[:4] != b"RIFF" or head[8:12] != b"WAVE":
-            return None
-        pos = 12
-        while pos + 8 <= size:
-            fh.seek(pos)
-            chunk_id, chunk_size = struct.unpack("<4sI", fh.read(8))
-            if chunk_id == b"data":
-                if chunk_size in (0, 0xFFFFFFFF):
-                    return 0
-                return max(0, pos + 8 + chunk_size - size)
-            pos += 8 + chunk_size + (chunk_size & 1)
-    return 0
+def _direct_layout(info, layout: WavLayout | None) -> WavLayout | None:
+    """The layout if numpy can read the samples directly and libsndfile agrees with the header."""
+    if layout is None or layout.declared_bytes is None or libsndfile_subtype(layout) != info.subtype:
+        return None
+    if (layout.channels, layout.sample_rate) != (info.channels, info.samplerate):
+        return None
+    if layout.declared_bytes // layout.block_align != info.frames:
+        return None
+    return layout
 
 
 def open_capture(path: str | Path, *, channel: int | None = None, condition: str | None = None,
@@ -86,7 +72,9 @@ def open_capture(path: str | Path, *, channel: int | None = None, condition: str
                            f"or AIFF file") from err
     if info.frames <= 0:
         raise CaptureError(f"{path} holds no samples: record it again")
-    missing = _wav_data_shortfall(path)
+    # libsndfile quietly shortens a truncated WAV to what is there, so its header is judged here.
+    layout = read_wav_layout(path)
+    missing = layout.shortfall_bytes if layout is not None else 0
     if missing:
         raise CaptureError(f"{path} is truncated: its header promises {missing} more bytes of "
                            f"samples than the file holds; copy it again or record it again")
@@ -108,7 +96,16 @@ def open_capture(path: str | Path, *, channel: int | None = None, condition: str
         volts_per_fs = meta.get("volts_per_fs")
     n_frames = int(info.frames)
 
-    def reader(block_frames: int, ch: int) -> Iterator[NDArray[np.float64]]:
+    direct = _direct_layout(info, layout)
+
+    def direct_reader(block_frames: int, ch: int, into: BlockSink | None) -> Iterator[NDArray[np.float64]]:
+        try:
+            yield from iter_channel_blocks(path, direct, n_frames, ch, block_frames, into)
+        except EOFError as err:
+            raise CaptureError(f"{path} is truncated: its header promises {n_frames} frames but "
+                               f"only {err} could be read; record it again") from err
+
+    def reader(block_frames: int, ch: int, into: BlockSink | None) -> Iterator[NDArray[np.float64]]:
         got = 0
         try:
             with sf.SoundFile(str(path)) as fh:
@@ -117,7 +114,7 @@ def open_capture(path: str | Path, *, channel: int | None = None, condition: str
                     if data.shape[0] == 0:
                         break
                     got += data.shape[0]
-                    yield np.ascontiguousarray(data[:, ch])
+                    yield deliver(np.ascontiguousarray(data[:, ch]), into)
         except RuntimeError as err:
             raise CaptureError(f"{path} could not be read to the end ({err}): the file is "
                                f"damaged; record it again") from err
@@ -126,4 +123,5 @@ def open_capture(path: str | Path, *, channel: int | None = None, condition: str
                                f"only {got} could be read; record it again")
 
     return Capture(float(info.samplerate), n_frames, channel, int(info.channels), volts_per_fs,
-                   condition or side_condition, meta, path, reader)
+                   condition or side_condition, meta, path,
+                   reader if direct is None else direct_reader)
