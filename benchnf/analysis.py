@@ -728,22 +728,24 @@ def _spots(f, band, fs, p_term, p_floor, p_short, term_clean, floor_clean, short
     enbw_bins = p_term.enbw_hz / p_term.bin_width_hz
     floor_dof = p_floor.dof if p_floor is not None else None
     spots, low_margin = [], []
-    for i, ((label, _exact), w_s) in enumerate(zip(centres, spot_w)):
-        ok = e2_spot[i] > 0 and _resolved(w_s, term_clean, floor_clean, dof_measured=p_term.dof,
+    for i, ((label, _exact), w_full) in enumerate(zip(centres, spot_w)):
+        span = _nonzero_span(w_full)  # a band's few bins: the rest weigh nothing
+        w_s, term_s = w_full[span], term_clean[span]
+        floor_s = floor_clean[span] if floor_clean is not None else None
+        ok = e2_spot[i] > 0 and _resolved(w_s, term_s, floor_s, dof_measured=p_term.dof,
                                           dof_floor=floor_dof, enbw_bins=enbw_bins)
-        m_db = (float(power_db(np.dot(w_s, term_clean) / np.dot(w_s, floor_clean)))
-                if floor_clean is not None else None)
+        m_band = float(np.dot(w_s, term_s))
+        f_band = float(np.dot(w_s, floor_s)) if floor_s is not None else None
+        m_db = float(power_db(m_band / f_band)) if f_band is not None else None
         if m_db is not None and m_db < 3.0:
             low_margin.append(label)
         en_ok = (en_spot is not None and en_spot[i] > 0
-                 and _resolved(w_s, short_clean, floor_clean, dof_measured=p_short.dof,
+                 and _resolved(w_s, short_clean[span], floor_s, dof_measured=p_short.dof,
                                dof_floor=floor_dof, enbw_bins=enbw_bins))
-        m_band = float(np.dot(w_s, term_clean))
-        f_band = float(np.dot(w_s, floor_clean)) if floor_clean is not None else None
         rel = dut_power_rel_std(
-            measured=m_band, measured_rel_std=band_relative_std(w_s, term_clean, dof=p_term.dof, enbw_bins=enbw_bins),
-            floor=f_band, floor_rel_std=(band_relative_std(w_s, floor_clean, dof=floor_dof, enbw_bins=enbw_bins)
-                                         if floor_clean is not None else None))
+            measured=m_band, measured_rel_std=band_relative_std(w_s, term_s, dof=p_term.dof, enbw_bins=enbw_bins),
+            floor=f_band, floor_rel_std=(band_relative_std(w_s, floor_s, dof=floor_dof, enbw_bins=enbw_bins)
+                                         if floor_s is not None else None))
         spots.append(SpotValue(
             freq_hz=label,
             input_density_v_per_rthz=math.sqrt(e2_spot[i]) if ok else None,
@@ -760,6 +762,12 @@ def _spots(f, band, fs, p_term, p_floor, p_short, term_clean, floor_clean, short
     if not any(s.input_density_v_per_rthz for s in spots):
         notes.append("no spot frequency is resolved above the floor")
     return spots
+
+
+def _nonzero_span(weights: NDArray[np.float64]) -> slice:
+    """The slice from the first to the last non-zero weight."""
+    nz = np.flatnonzero(weights)
+    return slice(int(nz[0]), int(nz[-1]) + 1) if nz.size else slice(0, 0)
 
 
 def _flicker(f, en_diff, e2_diff, s_term, p_term, band, range_hz, free_slope, notes):

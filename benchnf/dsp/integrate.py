@@ -31,14 +31,22 @@ def band_bin_weights(frequency_hz: ArrayLike, band: Band, *, weighting: str = "n
     weighting : str
         Weighting name (see :data:`benchnf.dsp.weighting.WEIGHTINGS`).
     """
-    f = np.asarray(frequency_hz, dtype=np.float64)
-    df = float(f[1] - f[0])
+    f_all = np.asarray(frequency_hz, dtype=np.float64)
+    df = float(f_all[1] - f_all[0])
+    out = np.zeros(f_all.shape)
+    # Only the bins that can touch the band are computed (a third-octave band is a few of many).
+    first = max(0, int(np.floor((band.low_hz - f_all[0]) / df)) - 1)
+    last = min(f_all.size, int(np.ceil((band.high_hz - f_all[0]) / df)) + 2)
+    if first >= last:
+        return out
+    f = f_all[first:last]
     lo_edge = np.maximum(f - df / 2, 0.0)
     hi_edge = f + df / 2
     inside = np.clip(np.minimum(hi_edge, band.high_hz) - np.maximum(lo_edge, band.low_hz), 0.0, None)
     with np.errstate(divide="ignore", invalid="ignore"):
         gain = np.where(inside > 0, weighting_power_gain(weighting, np.where(f > 0, f, df / 4)), 0.0)
-    return inside * gain
+    out[first:last] = inside * gain
+    return out
 
 
 def band_integral(frequency_hz: ArrayLike, density: ArrayLike, band: Band, *,
