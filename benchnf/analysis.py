@@ -21,7 +21,7 @@ from numpy.typing import NDArray
 from ._json import json_safe
 from .capture import Capture, SampleStats
 from .dsp.integrate import band_bin_weights
-from .dsp.spectrum import Psd, WelchAccumulator, default_segment_length, pool_psds
+from .dsp.spectrum import Psd, default_segment_length, pool_psds
 from .dsp.spurs import LineSearch, find_lines, hum_hints
 from .dsp.weighting import Band, weighting_power_gain
 from .errors import BenchWarning, CaptureError, MeasurementError, ParameterError
@@ -30,6 +30,7 @@ from .noise.gain_method import (band_noise_factor, check_source, spot_means, spo
                                 third_octave_centres_hz, third_octave_weights)
 from .noise.uncertainty import (Budget, StatedUncertainty, dut_power_rel_std, ein_budget, gain_budget,
                                 nf_budget)
+from .streaming import stream_spectrum
 from .units import BOLTZMANN_J_PER_K, T0_K, power_db, thermal_density_v2_per_hz, vrms_to_dbu, vrms_to_dbv
 
 __all__ = ["GainSetup", "GainEstimate", "SpotValue", "SpurValue", "RepeatSummary", "AnalysisResult",
@@ -277,13 +278,7 @@ def capture_psd(capture: NoiseInput, *, segment_length: int, progress: Progress 
             raise CaptureError("a spectrum given directly must be in volts")
         return capture
     vpfs = capture.volts_per_fs_or_raise(purpose)
-    stats = SampleStats(label=capture.label)
-    acc = WelchAccumulator(sample_rate_hz=capture.sample_rate_hz, segment_length=segment_length)
-    for block in capture.blocks(into=acc.reserve):  # decoded straight into the accumulator
-        stats.update(block)
-        acc.commit(block.size)
-        if progress is not None:
-            progress(block.size)
+    acc, stats = stream_spectrum(capture, segment_length=segment_length, progress=progress)
     stats.check_noise()
     if acc.n_averages < 2:
         raise CaptureError(f"{capture.label} lasts {capture.duration_s:.3g} s, too short for a "

@@ -19,9 +19,9 @@ from typing import Any, Union
 import numpy as np
 from numpy.typing import NDArray
 
-from .capture import Capture, SampleStats
+from .capture import Capture
 from .dsp.integrate import band_bin_weights
-from .dsp.spectrum import Psd, WelchAccumulator, default_segment_length, pool_psds, welch_iq_psd
+from .dsp.spectrum import Psd, default_segment_length, pool_psds, welch_iq_psd
 from .dsp.weighting import Band
 from .errors import CaptureError, MeasurementError, ParameterError
 from .io.sigmf_iq import IqCapture
@@ -30,6 +30,7 @@ from .noise.uncertainty import Budget, propagate
 from .noise.yfactor import (EnrTable, check_temperature, hot_temperature_from_enr, join_output_loss,
                             loss_noise_factor, noise_temperature_from_factor, noise_temperature_from_y,
                             remove_input_loss)
+from .streaming import stream_spectrum
 from .units import T0_K, fs_to_dbfs, power_db
 
 __all__ = ["HotColdSource", "Loss", "YRow", "YFactorResult", "analyze_yfactor", "SCHEMA_VERSION"]
@@ -189,13 +190,7 @@ def _spectrum(src: Source, seg: int, progress: Callable[[int], None] | None) -> 
             raise CaptureError(f"{src.label} is silent (every sample is zero)")
         # IQ full scale: |z| = 1, so a full-scale complex sine has power 1 (0 dBFS).
         return psd, float(10 * math.log10(power[0] / power[1]))
-    stats = SampleStats(label=src.label)
-    acc = WelchAccumulator(sample_rate_hz=src.sample_rate_hz, segment_length=seg)
-    for block in src.blocks():
-        stats.update(block)
-        acc.update(block)
-        if progress is not None:
-            progress(block.size)
+    acc, stats = stream_spectrum(src, segment_length=seg, progress=progress)
     stats.check_noise()
     return acc.result(), float(fs_to_dbfs(stats.rms_fs))
 

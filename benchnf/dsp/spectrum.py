@@ -354,42 +354,40 @@ class WelchAccumulator:
         step = buf.itemsize
         frames = np.lib.stride_tricks.as_strided(buf, shape=(n_seg, n), strides=(hop * step, step),
                                                  writeable=False)
+        means = self._segment_means(buf, n_seg)
         for start in range(0, n_seg, self._batch):
-            self._accumulate(frames[start:start + self._batch])
+            self._accumulate(frames[start:start + self._batch], means[start:start + self._batch])
         consumed = n_seg * hop
         self._n_tail = size - consumed
         buf[: self._n_tail] = buf[consumed:].copy()
 
-    def _accumulate(self, frames: NDArray[np.float64]) -> None:
+    def _accumulate(self, frames: NDArray[np.float64], means: NDArray[np.float64]) -> None:
         m = frames.shape[0]
         np.multiply(frames, self.window, out=self._fft.input(m))
         spectra = self._fft.execute(m)
         pairs = spectra.view(np.float64)
         self._sum_sq += np.einsum("ij,ij->j", pairs, pairs)
-        means = self._segment_means(frames)
         detrended = spectra[:, self._support] - np.multiply.outer(means, self._window_fft_support)
-        self._sum_sq_support += np.einsum("ij,ij->j", detrended.real, detrended.real)
-        self._sum_sq_support += np.einsum("ij,ij->j", detrended.imag, detrended.imag)
+        self._sum_sq_support += np.einsum("ij,ij->j", detrended, detrended.conj()).real
         self._count += m
 
-    def _segment_means(self, frames: NDArray[np.float64]) -> NDArray[np.float64]:
-        """Mean of each segment.
+    def _segment_means(self, buf: NDArray[np.float64], n_seg: int) -> NDArray[np.float64]:
+        """Mean of each of the `n_seg` segments that start every hop samples from ``buf[0]``.
 
         When the hop divides N (50 % overlap and the like) the segments are made of whole
         hop-blocks: each block is summed once and the sums added up, instead of summing every
         sample once per segment it belongs to.
         """
-        n, hop, m = self.segment_length, self.hop, frames.shape[0]
+        n, hop = self.segment_length, self.hop
         if n % hop:
-            return frames.mean(axis=-1)
+            step = buf.itemsize
+            return np.lib.stride_tricks.as_strided(buf, shape=(n_seg, n), strides=(hop * step, step)
+                                                   ).mean(axis=-1)
         r = n // hop
-        # The segments are a strided view of one contiguous stretch of the buffer: view it as blocks.
-        blocks = np.lib.stride_tricks.as_strided(frames, shape=(m + r - 1, hop),
-                                                 strides=(frames.strides[0], frames.strides[1]))
-        block_sums = blocks.sum(axis=1)
-        sums = block_sums[:m].copy()
+        block_sums = buf[:(n_seg + r - 1) * hop].reshape(-1, hop).sum(axis=1)
+        sums = block_sums[:n_seg].copy()
         for j in range(1, r):
-            sums += block_sums[j:j + m]
+            sums += block_sums[j:j + n_seg]
         return sums / n
 
     def _detrended_power_sum(self) -> NDArray[np.float64]:
