@@ -198,7 +198,7 @@ class SampleStats:
         if block.size == 0:
             return
         energy = float(np.dot(block, block))
-        if not math.isfinite(energy):  # a NaN or infinity anywhere makes the sum of squares so
+        if not math.isfinite(energy):  # a NaN or infinity anywhere makes the sum of squares non-finite
             finite = np.isfinite(block)
             self.n_nonfinite += int(block.size - np.count_nonzero(finite))
             block = block[finite]
