@@ -613,6 +613,13 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
     if at_1k is not None and at_1k.noise_figure_db is not None:
         budgets["nf_at_1khz_db"] = _spot_nf_budget(f, 1000.0, p_term, p_floor, term_clean, floor_clean,
                                                    g, gain, stated, rs_ohm, temperature_k)
+    nf_band_db = float(power_db(noise_factor)) if noise_factor > 0 else None
+    if nf_band_db is not None and nf_band_db + budgets["noise_figure_db"].expanded_db < 0.0:
+        notes.append(f"the band noise figure ({nf_band_db:.2f} dB) is below 0 dB beyond its uncertainty: "
+                     f"less noise than {rs_ohm:g} ohm makes by itself at {temperature_k:.1f} K, which no "
+                     f"amplifier can give; check the gain (the tone's stated level and where it was "
+                     f"read), the calibration, --rs and --temperature-k, and that the input was "
+                     f"terminated in Rs")
     uncertainty = {"coverage_factor": 2.0, "stated": stated.describe(),
                    **{k: b.expanded_db for k, b in budgets.items()},
                    "budgets": {k: b.to_dict() for k, b in budgets.items()}}
@@ -668,7 +675,7 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
         ein_with_spurs_dbu=float(vrms_to_dbu(ein_spurs * ein_reported / ein)),
         thermal_ein_dbu=float(vrms_to_dbu(thermal)),
         noise_factor=noise_factor,
-        noise_figure_db=float(power_db(noise_factor)) if noise_factor > 0 else math.nan,
+        noise_figure_db=nf_band_db if nf_band_db is not None else math.nan,
         nf_at_1khz_db=at_1k.noise_figure_db if at_1k else None,
         input_density_at_1khz_v_per_rthz=at_1k.input_density_v_per_rthz if at_1k else None,
         output_noise_vrms=out_noise,

@@ -33,6 +33,19 @@ def test_recovers_gain_nf_ein_and_voltage_noise_well_above_the_floor():
     assert r.floor_corrected and r.floor_margin_db > 20
 
 
+def test_a_noise_figure_below_0_db_is_called_impossible():
+    # A tone level stated ten times too low makes the gain read 20 dB high and the input noise
+    # 20 dB low: less than the source resistor's thermal noise (IEEE F >= 1; common practice).
+    b = Bench(floor_v_per_rthz=5e-9)
+    c = b.captures()
+    wrong = analyze_gain_method(terminated=c["terminated"], floor=c["floor"],
+                                gain=GainSetup(tone=c["tone"], tone_input_vrms=c["tone_input_vrms"] / 10),
+                                rs_ohm=b.rs_ohm, temperature_k=b.temperature_k)
+    assert wrong.noise_figure_db < 0
+    assert any("below 0 dB beyond its uncertainty" in n for n in wrong.notes)
+    assert not any("below 0 dB" in n for n in _analyze(b).notes)
+
+
 def test_five_db_above_the_floor_correction_matters_by_more_than_1_db():
     # Set the floor so that the terminated reading stands 5 dB above it.
     b0 = Bench()
