@@ -278,7 +278,7 @@ def capture_psd(capture: NoiseInput, *, segment_length: int, progress: Progress 
             raise CaptureError("a spectrum given directly must be in volts")
         return capture
     vpfs = capture.volts_per_fs_or_raise(purpose)
-    acc, stats = stream_spectrum(capture, segment_length=segment_length, progress=progress)
+    acc, stats = stream_spectrum(capture, segment_length=segment_length, progress=progress, energy=False)
     stats.check_noise()
     if acc.n_averages < 2:
         raise CaptureError(f"{capture.label} lasts {capture.duration_s:.3g} s, too short for a "

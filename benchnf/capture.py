@@ -183,10 +183,12 @@ class SampleStats:
 
     Feed every block with :meth:`update`; then :meth:`check_noise` or
     :meth:`check_tone` raise a :class:`CaptureError` for a capture that is
-    clipped, silent or not finite.
+    clipped, silent or not finite.  With ``energy=False`` the sum of squares
+    (for :attr:`rms_fs`) is not kept, which saves a pass over the samples.
     """
 
     label: str = "capture"
+    energy: bool = True
     n: int = 0
     sum_sq_fs2: float = 0.0
     peak_fs: float = 0.0
@@ -197,24 +199,26 @@ class SampleStats:
         """Add one block of samples."""
         if block.size == 0:
             return
-        energy = float(np.dot(block, block))
-        if not math.isfinite(energy):  # a NaN or infinity anywhere makes the sum of squares non-finite
+        peak = max(float(block.max()), -float(block.min()))
+        if not math.isfinite(peak):  # a NaN carries through max and min; an infinity is its own peak
             finite = np.isfinite(block)
             self.n_nonfinite += int(block.size - np.count_nonzero(finite))
             block = block[finite]
             if block.size == 0:
                 return
-            energy = float(np.dot(block, block))
+            peak = max(float(block.max()), -float(block.min()))
         self.n += block.size
-        self.sum_sq_fs2 += energy
-        peak = max(float(block.max()), -float(block.min()))
+        if self.energy:
+            self.sum_sq_fs2 += float(np.dot(block, block))
         self.peak_fs = max(self.peak_fs, peak)
         if peak >= CLIP_LEVEL_FS:
             self.n_clipped += int(np.count_nonzero(np.abs(block) >= CLIP_LEVEL_FS))
 
     @property
     def rms_fs(self) -> float:
-        """RMS of the samples (mean included) in full-scale units."""
+        """RMS of the samples (mean included) in full-scale units; NaN unless `energy` was kept."""
+        if not self.energy:
+            return math.nan
         return math.sqrt(self.sum_sq_fs2 / self.n) if self.n else 0.0
 
     def _check_common(self) -> None:

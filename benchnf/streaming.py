@@ -16,13 +16,16 @@ __all__ = ["stream_spectrum"]
 
 
 def stream_spectrum(capture: Capture, *, segment_length: int, window: str = "hann",
-                    progress: Callable[[int], None] | None = None) -> tuple[WelchAccumulator, SampleStats]:
+                    progress: Callable[[int], None] | None = None,
+                    energy: bool = True) -> tuple[WelchAccumulator, SampleStats]:
     """Welch accumulator and sample statistics of a whole capture, filled in one pass.
 
     Both are returned unchecked, so that the caller can judge the samples (e.g.
     :meth:`SampleStats.check_noise`) before taking :meth:`WelchAccumulator.result`.
+    `energy` keeps the statistics' sum of squares (its RMS level); a caller that needs no
+    level saves a pass over the samples without it.
     """
-    stats = SampleStats(label=capture.label)
+    stats = SampleStats(label=capture.label, energy=energy)
     acc = WelchAccumulator(sample_rate_hz=capture.sample_rate_hz, segment_length=segment_length,
                            window=window)
     for block in capture.blocks(into=acc.reserve):

@@ -87,6 +87,22 @@ def test_sample_stats_counts_clipping_at_16_and_24_bit_rails():
         stats.check_noise()
 
 
+@pytest.mark.parametrize("energy", [True, False])
+@pytest.mark.parametrize("bad", [np.nan, np.inf, -np.inf])
+def test_sample_stats_find_damaged_samples_with_or_without_the_energy(bad, energy):
+    stats = SampleStats(label="x", energy=energy)
+    block = np.full(1000, 0.25)
+    block[[3, 500]] = bad
+    stats.update(block)
+    stats.update(np.full(10, -0.5))
+    assert (stats.n_nonfinite, stats.n, stats.peak_fs) == (2, 1008, 0.5)
+    # RMS of 998 samples at 0.25 and 10 at -0.5 (arithmetic); NaN when the energy is not kept.
+    expected = math.sqrt((998 * 0.0625 + 10 * 0.25) / 1008)
+    assert stats.rms_fs == pytest.approx(expected, rel=1e-15) if energy else math.isnan(stats.rms_fs)
+    with pytest.raises(CaptureError, match="NaN or infinite"):
+        stats.check_noise()
+
+
 def _tone_file(tmp_path, f_hz, vpfs=1.7, vrms=0.3, name="ref.wav"):
     t = np.arange(96_000) / 48_000.0
     x = vrms * math.sqrt(2) / vpfs * np.sin(2 * np.pi * f_hz * t)
