@@ -108,6 +108,8 @@ def test_decode_checks_the_buffer_and_the_output():
         decode_samples(raw, layout, 4)
     with pytest.raises(ValueError, match="1-D float64"):
         decode_samples(raw, layout, 3, out=np.zeros(2))
+    with pytest.raises(ValueError, match="native values"):
+        decode_samples(raw, layout, 3, out=np.zeros(3), native=True)
 
 
 @pytest.mark.parametrize("subtype", SUBTYPES)

@@ -172,6 +172,8 @@ def decode_samples(raw: bytes | bytearray | memoryview, layout: WavLayout, n_fra
     if len(buf) < need:
         raise ValueError(f"{len(buf)} bytes hold fewer than {n_frames} frames")
     if native:
+        if out is not None:
+            raise ValueError("out receives full-scale float64 samples; native values come back new")
         out = np.empty(count, dtype="<i4" if layout.bits == 24 else dtype)
     elif out is None:
         out = np.empty(count)
