@@ -62,16 +62,9 @@ class Calibration:
         return {"schema": CALIBRATION_SCHEMA, **asdict(self)}
 
     def save(self, path: str | Path) -> Path:
-        """Write to `path`; refuse to overwrite an existing file."""
-        path = Path(path)
-        try:
-            with open(path, "x", encoding="utf-8") as fh:
-                json.dump(self.to_dict(), fh, indent=2)
-                fh.write("\n")
-        except FileExistsError as err:
-            raise CalibrationError(f"{path} exists already: give another -o name (nothing was "
-                                   f"overwritten)") from err
-        return path
+        """Write to `path` through the one writer; refuse to overwrite an existing file."""
+        from .write import Writer
+        return Writer().json(path, self.to_dict())
 
     @classmethod
     def load(cls, path: str | Path) -> "Calibration":

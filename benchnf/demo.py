@@ -7,8 +7,9 @@ import warnings
 from pathlib import Path
 
 from .errors import BenchError, BenchWarning
+from .write import Writer
 
-__all__ = ["demo_folder", "run_demo", "fresh_folder"]
+__all__ = ["demo_folder", "run_demo"]
 
 
 def demo_folder() -> Path:
@@ -20,17 +21,7 @@ def demo_folder() -> Path:
     return folder
 
 
-def fresh_folder(wanted: Path) -> Path:
-    """`wanted` if it does not exist, else ``wanted-2``, ``wanted-3``, ...: never reuse one."""
-    candidate, n = wanted, 1
-    while candidate.exists():
-        n += 1
-        candidate = wanted.with_name(f"{wanted.name}-{n}")
-    candidate.mkdir(parents=True)
-    return candidate
-
-
-def run_demo(*, output: Path = Path("benchnf-results"), quiet: bool = False) -> Path:
+def run_demo(*, output: Path = Path("benchnf-results"), quiet: bool = False, writer: Writer | None = None) -> Path:
     """Calibrate from the demo reference tone, analyse, write JSON, summary and plots.
 
     Returns the results folder.
@@ -39,11 +30,11 @@ def run_demo(*, output: Path = Path("benchnf-results"), quiet: bool = False) -> 
     from .calibration import apply_calibration, calibrate_from_tone
     from .dsp.weighting import Band
     from .io import open_capture
-    from .report.json_out import write_json
-    from .report.plots import save_plots
+    from .report.plots import analysis_figures
     from .report.text import format_summary
 
     src = demo_folder()
+    writer = writer or Writer()
     ref = open_capture(src / "reference.flac", condition="reference")
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", BenchWarning)
@@ -61,12 +52,12 @@ def run_demo(*, output: Path = Path("benchnf-results"), quiet: bool = False) -> 
             rs_ohm=float(terminated.metadata["rs_ohm"]),
             temperature_k=float(terminated.metadata["temperature_k"]),
             band=Band(20.0, 20_000.0), weighting="none")
-    out = fresh_folder(Path(output))
-    cal.save(out / "calibration.json")
-    write_json(result.to_dict(), out / "results.json")
+    out = writer.fresh_folder(Path(output))
+    writer.json(out / "calibration.json", cal.to_dict())
+    writer.json(out / "results.json", result.to_dict())
     summary = format_summary(result)
-    (out / "summary.txt").write_text(summary, encoding="utf-8")
-    save_plots(result, out)
+    writer.text(out / "summary.txt", summary)
+    _figures(writer, out, analysis_figures(result))
     truth = json.loads((src / "ground_truth.json").read_text())
     lines = [
         "benchnf demo: a three-stage moving-coil head amplifier (INVENTED DATA), 20 ohm source",
@@ -85,9 +76,9 @@ def run_demo(*, output: Path = Path("benchnf-results"), quiet: bool = False) -> 
         f"{truth['voltage_noise_corner_hz']:7.1f} Hz",
         "",
     ]
-    lines += _stage_demos(src, out, cal, tone, terminated)
-    lines += _yfactor_demos(src, out, truth)
-    lines += _check_demo(src, out, ref_cal_path=out / "calibration.json")
+    lines += _stage_demos(src, out, cal, tone, terminated, writer)
+    lines += _yfactor_demos(src, out, truth, writer)
+    lines += _check_demo(src, out, writer, ref_cal_path=out / "calibration.json")
     for w in caught:
         if issubclass(w.category, BenchWarning):
             lines.append(f"warning: {w.message}")
@@ -99,14 +90,18 @@ def run_demo(*, output: Path = Path("benchnf-results"), quiet: bool = False) -> 
     return out
 
 
-def _stage_demos(src: Path, out: Path, cal, tone, terminated) -> list[str]:
+def _figures(writer: Writer, out: Path, figures: list) -> None:
+    for name, fig in figures:
+        writer.figure(out / name, fig)
+
+
+def _stage_demos(src: Path, out: Path, cal, tone, terminated, writer: Writer) -> list[str]:
     """The head amplifier's measured stage budget against its part data, and en/in from an Rs sweep."""
     from .analysis import GainSetup
     from .calibration import apply_calibration
     from .io import open_capture
     from .noise.cascade import load_chain
-    from .report.json_out import write_json
-    from .report.plots import save_budget_plot, save_eni_plots
+    from .report.plots import budget_figures, eni_figures
     from .report.stages_text import format_budget, format_eni
     from .stages import extract_en_in, measured_budget
 
@@ -126,46 +121,43 @@ def _stage_demos(src: Path, out: Path, cal, tone, terminated) -> list[str]:
     sweep = [(c, float(c.metadata["rs_ohm"]), float(c.metadata.get("temperature_k", 296.15)), gain(tone))
              for c in (cap("shorted"), terminated, cap("rs_100"), cap("rs_1000"))]
     eni = extract_en_in(sweep=sweep, floor=floor)
-    write_json(budget.to_dict(), out / "budget.json")
-    write_json(eni.to_dict(), out / "eni.json")
-    save_budget_plot(budget, out)
-    save_eni_plots(eni, out)
+    writer.json(out / "budget.json", budget.to_dict())
+    writer.json(out / "eni.json", eni.to_dict())
+    _figures(writer, out, budget_figures(budget) + eni_figures(eni))
     return ["", format_budget(budget), format_eni(eni)]
 
 
-def _check_demo(src: Path, out: Path, *, ref_cal_path: Path) -> list[str]:
+def _check_demo(src: Path, out: Path, writer: Writer, *, ref_cal_path: Path) -> list[str]:
     """Three repaired units against the known-good profile: verdicts, reports, summary and JUnit XML."""
-    from .check.batch import append_history, check_batch, write_junit, write_summary_csv
+    from .check.batch import HISTORY_HEADER, check_batch, history_lines, junit_xml, summary_csv
     from .check.profile import load_profile
-    from .report.html import write_unit_report
+    from .report.html import unit_report_html
     profile = load_profile(src / "known_good_profile.toml")
-    folder = out / "check"
-    folder.mkdir()
+    folder = writer.folder(out / "check")
     outcomes = check_batch(src / "units", str(src / "known_good_profile.toml"),
                            settings={"calibration": str(ref_cal_path), "floor": str(src / "floor.flac")})
     lines = [f"Known-good check of {len(outcomes)} repaired units (INVENTED DATA; reports in check/):"]
     for o in outcomes:
-        write_unit_report(folder / f"{o.serial}.html", serial=o.serial, verdict=o.verdict, check=o.check,
-                          results=o.results, profile=profile, error=o.error)
+        writer.text(folder / f"{o.serial}.html", unit_report_html(
+            serial=o.serial, verdict=o.verdict, check=o.check, results=o.results, profile=profile, error=o.error))
         failed = [v for v in (o.check or {}).get("limits", []) if v["verdict"] != "PASS"]
         worst = min((v for v in failed if v["hint"]), key=lambda v: v["margin"] if v["margin"] is not None else -1e9,
                     default=None)
         hint = worst["hint"] if worst else ""
         lines.append(f"  {o.serial}  {o.verdict:8s} " + (", ".join(v["name"] for v in failed) or "all limits passed")
                      + (f"\n              suggestion: {hint}" if hint else ""))
-    write_summary_csv(outcomes, folder / "summary.csv")
-    write_junit(outcomes, folder / "junit.xml", profile=profile.name)
-    append_history(outcomes, folder / "history.csv", profile=profile.name)
+    writer.text(folder / "summary.csv", summary_csv(outcomes))
+    writer.text(folder / "junit.xml", junit_xml(outcomes, profile=profile.name))
+    writer.append_lines(folder / "history.csv", HISTORY_HEADER, history_lines(outcomes, profile=profile.name))
     return lines + [""]
 
 
-def _yfactor_demos(src: Path, out: Path, truth: dict) -> list[str]:
+def _yfactor_demos(src: Path, out: Path, truth: dict, writer: Writer) -> list[str]:
     """The two Y-factor scenarios: VHF preamp with a noise diode (SigMF), audio preamp in hot/cold baths."""
     from .io import open_capture
     from .io.sigmf_iq import open_sigmf
     from .noise.yfactor import load_enr_table
-    from .report.json_out import write_json
-    from .report.plots import save_yfactor_plots
+    from .report.plots import yfactor_figures
     from .report.yfactor_text import format_yfactor
     from .yfactor_analysis import HotColdSource, analyze_yfactor
 
@@ -178,9 +170,9 @@ def _yfactor_demos(src: Path, out: Path, truth: dict) -> list[str]:
                            floor=open_capture(src / "bath_floor.flac"),
                            source=HotColdSource(t_hot_k=a["t_hot_k"], t_cold_k=a["t_cold_k"]), n_rows=6)
     for name, res in (("vhf", vhf), ("bath", bath)):
-        write_json(res.to_dict(), out / f"yfactor_{name}.json")
-        (out / f"yfactor_{name}.txt").write_text(format_yfactor(res), encoding="utf-8")
-        save_yfactor_plots(res, out, name=f"yfactor_{name}.png")
+        writer.json(out / f"yfactor_{name}.json", res.to_dict())
+        writer.text(out / f"yfactor_{name}.txt", format_yfactor(res))
+        _figures(writer, out, yfactor_figures(res, name=f"yfactor_{name}.png"))
     v = truth["yfactor_vhf"]
     return [
         "Y-factor demos (INVENTED DATA; full tables in yfactor_vhf.txt and yfactor_bath.txt):",

@@ -14,6 +14,7 @@ __all__ = [
     "ParameterError",
     "MeasurementError",
     "MissingDependencyError",
+    "OutputError",
     "AcquisitionError",
     "DeviceNotFoundError",
     "BenchWarning",
@@ -41,6 +42,10 @@ class ParameterError(BenchError, ValueError):
 
 class MeasurementError(BenchError, ValueError):
     """The captures do not support the result asked for (no tone, no margin over the floor...)."""
+
+
+class OutputError(BenchError, OSError):
+    """An output cannot be written where asked (exists, is an input, no folder, no space, no permission)."""
 
 
 class MissingDependencyError(BenchError, ImportError):

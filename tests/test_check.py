@@ -148,8 +148,13 @@ def test_batch_of_synthetic_units_with_known_faults(tmp_path, capsys):
     assert "lacks its terminated and tone" in junit
     for serial in rows:
         assert (out / f"{serial}.html").is_file()
-    main(["batch", str(units), "--profile", str(tmp_path / "p.toml"), "--floor", str(tmp_path / "floor.wav"),
-          "--volts-per-fs", "2", "-o", str(out), "--quiet", "--workers", "1"])
+    again = ["batch", str(units), "--profile", str(tmp_path / "p.toml"), "--floor", str(tmp_path / "floor.wav"),
+             "--volts-per-fs", "2", "-o", str(out), "--quiet", "--workers", "1"]
+    before = (out / "summary.csv").read_bytes()
+    assert main(again) == ExitStatus.BAD_INPUT  # the reports exist: refused before any unit is analysed
+    assert (out / "summary.csv").read_bytes() == before
+    assert len((out / "history.csv").read_text().splitlines()) == 1 + 4
+    assert main([*again, "--overwrite"]) == ExitStatus.CHECK_FAILED
     assert len((out / "history.csv").read_text().splitlines()) == 1 + 2 * 4  # appended, not rewritten
 
 
@@ -186,16 +191,17 @@ def _chromium():
 
 @pytest.mark.skipif(_chromium() is None, reason="headless Chromium (Debian package chromium) not installed")
 def test_html_report_renders_in_headless_chromium(tmp_path):
-    from benchnf.report.html import write_unit_report
     from benchnf.check.profile import load_profile as lp
+    from benchnf.report.html import unit_report_html
     prof = lp(DEMO / "known_good_profile.toml")
     res = json.loads(json.dumps(_results(rs_ohm=20.0)))
-    page = write_unit_report(tmp_path / "u.html", serial="HA-9999", verdict="FAIL",
+    page = tmp_path / "u.html"
+    page.write_text(unit_report_html(serial="HA-9999", verdict="FAIL",
                              check={"unit": "HA-9999", "profile": prof.name, "verdict": "FAIL", "conditions": {},
                                     "limits": [{"name": "noise_figure_db", "measured": 7.0, "limit": "max 5",
                                                 "margin": -2.0, "unit": "dB", "uncertainty": 0.1,
                                                 "verdict": "FAIL", "hint": "input stage"}]},
-                             results=res, profile=prof)
+                             results=res, profile=prof))
     shot = tmp_path / "shot.png"
     subprocess.run([_chromium(), "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
                     "--disable-background-networking", "--disable-component-update", "--disable-sync",

@@ -10,7 +10,7 @@ import soundfile as sf
 
 from benchnf.calibration import Calibration, apply_calibration, calibrate_from_tone
 from benchnf.capture import Capture, SampleStats
-from benchnf.errors import CalibrationError, CalibrationWarning, CaptureError
+from benchnf.errors import CalibrationError, CalibrationWarning, CaptureError, OutputError
 from benchnf.io import open_capture, read_sidecar, write_sidecar
 
 
@@ -41,7 +41,7 @@ def test_sidecar_supplies_metadata_and_must_agree(tmp_path):
     assert cap.metadata["volts_per_fs"] == 1.5
     with pytest.raises(CaptureError, match="given as a 'terminated' capture but its sidecar says"):
         open_capture(p, condition="terminated")
-    with pytest.raises(CaptureError, match="exists already"):
+    with pytest.raises(OutputError, match="exists already"):
         write_sidecar(p, {"condition": "floor"})
     (tmp_path / "two.flac.json").write_text("{}")
     with pytest.raises(CaptureError, match="has two sidecars"):
@@ -117,7 +117,7 @@ def test_calibration_recovers_volts_per_fs_and_round_trips(tmp_path):
     assert cal.volts_per_fs == pytest.approx(1.7, rel=1e-5)
     path = cal.save(tmp_path / "cal.json")
     assert Calibration.load(path) == cal
-    with pytest.raises(CalibrationError, match="exists already"):
+    with pytest.raises(OutputError, match="exists already"):
         cal.save(path)
 
 

@@ -9,7 +9,7 @@ import pytest
 import soundfile as sf
 
 from benchnf.acquire.record import recover_wav
-from benchnf.errors import CaptureError
+from benchnf.errors import CaptureError, OutputError
 from benchnf.io import open_capture
 from benchnf.io.audio_file import _direct_layout
 from benchnf.io.wav_pcm import WavLayout, decode_samples, read_wav_layout
@@ -126,5 +126,5 @@ def test_recovery_rescues_every_frame_exactly_in_the_same_encoding(tmp_path, sub
     assert stale.read_bytes() == bytes(raw)
     assert sf.info(str(tmp_path / "rescued.wav")).subtype == subtype
     np.testing.assert_array_equal(sf.read(tmp_path / "rescued.wav", always_2d=True)[0], ref)
-    with pytest.raises(CaptureError, match="exists already"):
+    with pytest.raises(OutputError, match="exists already"):
         recover_wav(stale, tmp_path / "rescued.wav")

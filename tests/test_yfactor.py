@@ -162,7 +162,7 @@ def test_cli_bad_input(case, tmp_path, capsys):
         t.write_text("points = [[100e6, 5.0], [120e6, 5.1]]\n")
         src, pattern = ["--enr-table", str(t)], "ENR table covers"
     elif case == "below 0 K":
-        src, pattern = ["--t-hot-k", "400", "--t-cold-c", "-300"], "not a temperature above 0 K"
+        src, pattern = ["--t-hot-k", "400", "--t-cold-c", "-300"], "not a temperature above"
     elif case == "real datatype":
         meta = json.loads(f["hot"].read_text())
         meta["global"]["core:datatype"] = "ri16_le"

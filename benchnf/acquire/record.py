@@ -28,7 +28,8 @@ import numpy as np
 from numpy.typing import NDArray
 
 from ..errors import AcquisitionError, CaptureError
-from ..io.sidecar import sidecar_candidates, write_sidecar
+from ..io.sidecar import sidecar_candidates
+from ..write import Writer
 from .devices import DeviceInfo, find_device, rate_note, sounddevice
 
 __all__ = ["Recorder", "FakeRecorder", "SoundcardRecorder", "RecordingReport", "record_to_file", "recover_wav"]
@@ -113,11 +114,33 @@ def _refuse_existing(path: Path) -> None:
             raise CaptureError(f"{p} exists already: choose another name (nothing was overwritten)")
 
 
+def _start_files(path: Path, writer: Writer, sidecar: dict[str, Any], *, sample_rate_hz: float, channels: int,
+                 subtype: str, big: bool) -> Any:
+    """Write the sidecar (marked as recording) first, then create the audio file; on failure remove both.
+
+    The sidecar comes first so that a recording killed at any moment still says what it is.
+    """
+    import soundfile as sf
+    side = writer.json(sidecar_candidates(path)[0], sidecar)
+    try:
+        writer.claim(path)
+        return sf.SoundFile(str(path), mode="w", samplerate=int(sample_rate_hz), channels=channels,
+                            subtype=subtype, format="RF64" if big else "WAV")
+    except BaseException as err:
+        side.unlink(missing_ok=True)
+        if path in writer.written:
+            path.unlink(missing_ok=True)
+        if isinstance(err, (OSError, RuntimeError)) and not isinstance(err, CaptureError):
+            raise AcquisitionError(f"{path} cannot be created ({err}): check the folder exists and is "
+                                   f"writable") from err
+        raise
+
+
 def record_to_file(path: str | Path, *, seconds: float, sample_rate_hz: float, channels: int = 1,
                    device: str | None = None, host_api: str | None = None, condition: str | None = None,
                    metadata: dict[str, Any] | None = None, subtype: str = "FLOAT",
                    on_progress: Callable[[int], None] | None = None,
-                   stop: threading.Event | None = None) -> RecordingReport:
+                   stop: threading.Event | None = None, writer: Writer | None = None) -> RecordingReport:
     """Record from a sound card straight to disk; see the module docstring.
 
     Raises
@@ -133,6 +156,7 @@ def record_to_file(path: str | Path, *, seconds: float, sample_rate_hz: float, c
     sd = sounddevice()
     import soundfile as sf
     path = Path(path)
+    writer = writer or Writer()
     _refuse_existing(path)
     if not (math.isfinite(seconds) and seconds > 0):
         raise AcquisitionError(f"--seconds {seconds!r} must be > 0")
@@ -142,11 +166,13 @@ def record_to_file(path: str | Path, *, seconds: float, sample_rate_hz: float, c
     notes = [n for n in (rate_note(dev, sample_rate_hz),) if n]
     target = int(round(seconds * sample_rate_hz))
     big = target * channels * 4 > 2 ** 31
-    try:
-        fh = sf.SoundFile(str(path), mode="x", samplerate=int(sample_rate_hz), channels=channels,
-                          subtype=subtype, format="RF64" if big else "WAV")
-    except (OSError, RuntimeError) as err:
-        raise AcquisitionError(f"{path} cannot be created ({err}): check the folder exists and is writable") from err
+    from .. import __version__
+    started = {**(metadata or {}), "condition": condition, "device": dev.name, "host_api": dev.host_api,
+               "sample_rate_hz": sample_rate_hz, "channels": channels, "status": "recording",
+               "recorded_at": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
+               "software": f"benchnf {__version__}"}
+    fh = _start_files(path, writer, started, sample_rate_hz=sample_rate_hz, channels=channels, subtype=subtype,
+                      big=big)
     try:
         sf._snd.sf_command(fh._file, _SFC_SET_UPDATE_HEADER_AUTO, sf._ffi.NULL, 1)
     except AttributeError:  # pragma: no cover - another soundfile layout: recover covers it
@@ -197,6 +223,9 @@ def record_to_file(path: str | Path, *, seconds: float, sample_rate_hz: float, c
             stream = sd.InputStream(samplerate=sample_rate_hz, channels=channels, dtype="float32", device=dev.index,
                                     callback=callback, blocksize=0)
         except sd.PortAudioError as err:
+            fh.close()
+            for p in (path, sidecar_candidates(path)[0]):  # nothing was recorded: leave nothing behind
+                p.unlink(missing_ok=True)
             raise AcquisitionError(f"{dev.describe()} cannot record {channels} channel(s) at {sample_rate_hz:g} Hz: "
                                    f"{err}") from err
         with stream:
@@ -227,14 +256,10 @@ def record_to_file(path: str | Path, *, seconds: float, sample_rate_hz: float, c
     dropouts = state["overflows"] > 0 or (not interrupted and mismatch > slack)
     report = RecordingReport(path, state["written"], seconds, elapsed, state["overflows"], mismatch, dropouts,
                              interrupted, dev.name, dev.host_api, tuple(notes))
-    from .. import __version__
-    write_sidecar(path, {
-        **(metadata or {}), "condition": condition, "device": dev.name, "host_api": dev.host_api,
-        "sample_rate_hz": sample_rate_hz, "channels": channels, "frames": state["written"],
-        "recorded_at": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
+    Writer(overwrite=True).json(sidecar_candidates(path)[0], {  # our own sidecar, completed in place
+        **started, "status": "interrupted" if interrupted else "complete", "frames": state["written"],
         "elapsed_s": round(elapsed, 3), "input_overflows": state["overflows"],
-        "clock_mismatch_frames": mismatch, "dropouts": bool(dropouts), "interrupted": interrupted,
-        "software": f"benchnf {__version__}"})
+        "clock_mismatch_frames": mismatch, "dropouts": bool(dropouts), "interrupted": interrupted})
     if state["error"] is not None:
         raise AcquisitionError(f"writing {path} failed after {state['written']} frames ({state['error']}): disk "
                                f"full or not writable; what was recorded is kept")
@@ -243,7 +268,28 @@ def record_to_file(path: str | Path, *, seconds: float, sample_rate_hz: float, c
     return report
 
 
-def recover_wav(damaged: str | Path, output: str | Path, *, block_frames: int = 1 << 16) -> int:
+def _chunk_follows(path: Path, offset: int) -> bool:
+    """True when a RIFF chunk header (four printable ASCII bytes, then a size) starts at `offset`."""
+    with open(path, "rb") as fh:
+        fh.seek(offset + (offset & 1))
+        head = fh.read(8)
+    return len(head) == 8 and all(32 <= b < 127 for b in head[:4])
+
+
+def recoverable_frames(path: Path, layout: Any) -> int:
+    """Frames to rescue: the declared data size when the header was finished and a chunk follows it
+    (what lies after is not samples), else every whole frame to the end of the file."""
+    available = (layout.file_bytes - layout.data_offset) // layout.block_align
+    declared = layout.declared_bytes
+    if declared is not None and declared // layout.block_align <= available:
+        end = layout.data_offset + declared
+        if end >= layout.file_bytes or _chunk_follows(path, end):
+            return declared // layout.block_align
+    return available
+
+
+def recover_wav(damaged: str | Path, output: str | Path, *, block_frames: int = 1 << 16,
+                writer: Writer | None = None) -> int:
     """Rescue the samples of a WAV whose header is stale (a recorder killed before closing it).
 
     Reads the format chunk, then every whole frame from the start of the data chunk to the
@@ -255,8 +301,8 @@ def recover_wav(damaged: str | Path, output: str | Path, *, block_frames: int = 
 
     from ..io.wav_pcm import decode_samples, libsndfile_subtype, read_wav_layout
     damaged, output = Path(damaged), Path(output)
-    if output.exists():
-        raise CaptureError(f"{output} exists already: choose another name")
+    writer = writer or Writer(inputs=[damaged])
+    writer.protect(damaged)
     layout = read_wav_layout(damaged)
     if layout is None:
         raise CaptureError(f"{damaged} is not a WAV file with a format and a data chunk: "
@@ -265,17 +311,24 @@ def recover_wav(damaged: str | Path, output: str | Path, *, block_frames: int = 
     if subtype is None:
         raise CaptureError(f"{damaged}: sample format {layout.format_tag}/{layout.bits}-bit is not one "
                            f"benchnf can recover")
-    frames = (layout.file_bytes - layout.data_offset) // layout.block_align
+    frames = recoverable_frames(damaged, layout)
+    if frames == 0:
+        raise CaptureError(f"{damaged} holds no whole sample frame after its header: nothing to recover")
     raw = bytearray(block_frames * layout.block_align + 1)
     view = memoryview(raw)
-    with open(damaged, "rb") as src, sf.SoundFile(
-            str(output), "w", samplerate=layout.sample_rate, channels=layout.channels, subtype=subtype,
-            format="RF64" if frames * layout.block_align > 2 ** 31 else "WAV") as dst:
-        src.seek(layout.data_offset)
-        left = frames
-        while left > 0:
-            k = min(block_frames, left)
-            src.readinto(view[:k * layout.block_align])
-            dst.write(decode_samples(view, layout, k, native=True))
-            left -= k
+    tmp = writer.target(output).with_name(f".{output.name}.recovering.wav")
+    try:
+        with open(damaged, "rb") as src, sf.SoundFile(
+                str(tmp), "x", samplerate=layout.sample_rate, channels=layout.channels, subtype=subtype,
+                format="RF64" if frames * layout.block_align > 2 ** 31 else "WAV") as dst:
+            src.seek(layout.data_offset)
+            left = frames
+            while left > 0:
+                k = min(block_frames, left)
+                src.readinto(view[:k * layout.block_align])
+                dst.write(decode_samples(view, layout, k, native=True))
+                left -= k
+        writer.place(tmp, output)
+    finally:
+        tmp.unlink(missing_ok=True)
     return frames

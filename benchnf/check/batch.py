@@ -10,6 +10,7 @@ error; the others are still checked.
 from __future__ import annotations
 
 import csv
+import io
 import datetime as _dt
 import json
 import os
@@ -23,8 +24,8 @@ from ..errors import BenchError
 from .limits import check_results
 from .profile import Profile, load_profile
 
-__all__ = ["UnitOutcome", "find_units", "check_unit", "check_batch", "write_summary_csv", "write_junit",
-           "append_history"]
+__all__ = ["UnitOutcome", "find_units", "check_unit", "check_batch", "summary_csv", "junit_xml",
+           "HISTORY_HEADER", "history_lines"]
 
 _AUDIO = (".wav", ".flac", ".aif", ".aiff", ".w64", ".rf64", ".caf")
 
@@ -155,16 +156,23 @@ def _row(o: UnitOutcome) -> dict[str, Any]:
             "failed_limits": "; ".join(failed), "error": o.error or ""}
 
 
-def write_summary_csv(outcomes: list[UnitOutcome], path: Path) -> Path:
-    with open(path, "w", newline="", encoding="utf-8") as fh:
-        w = csv.DictWriter(fh, fieldnames=_COLUMNS)
-        w.writeheader()
-        for o in outcomes:
-            w.writerow(_row(o))
-    return path
+def _csv_line(values: list[Any]) -> str:
+    buf = io.StringIO()
+    csv.writer(buf, lineterminator="").writerow(values)
+    return buf.getvalue()
 
 
-def write_junit(outcomes: list[UnitOutcome], path: Path, *, profile: str) -> Path:
+def summary_csv(outcomes: list[UnitOutcome]) -> str:
+    """One row per unit: verdict, key figures, the limits not passed, any error."""
+    buf = io.StringIO()
+    w = csv.DictWriter(buf, fieldnames=_COLUMNS, lineterminator="\r\n")
+    w.writeheader()
+    for o in outcomes:
+        w.writerow(_row(o))
+    return buf.getvalue()
+
+
+def junit_xml(outcomes: list[UnitOutcome], *, profile: str) -> str:
     """A JUnit-style XML: one test suite, one test case per unit (failures and errors marked)."""
     failures = sum(o.verdict == "FAIL" for o in outcomes)
     errors = sum(o.verdict == "ERROR" for o in outcomes)
@@ -183,19 +191,13 @@ def write_junit(outcomes: list[UnitOutcome], path: Path, *, profile: str) -> Pat
             lines.append("    <system-out>MARGINAL: inside the limits by less than the uncertainty</system-out>")
         lines.append("  </testcase>")
     lines.append("</testsuite>")
-    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
-    return path
+    return "\n".join(lines) + "\n"
 
 
-def append_history(outcomes: list[UnitOutcome], path: Path, *, profile: str) -> Path:
-    """Append one line per unit (time, profile, serial, verdict, key figures) so drift across units shows."""
-    new = not path.exists()
+HISTORY_HEADER = _csv_line(["checked_at", "profile", *_COLUMNS[:7]])
+
+
+def history_lines(outcomes: list[UnitOutcome], *, profile: str) -> list[str]:
+    """One history line per unit (time, profile, serial, verdict, key figures), to append."""
     stamp = _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
-    with open(path, "a", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh)
-        if new:
-            w.writerow(["checked_at", "profile", *_COLUMNS[:7]])
-        for o in outcomes:
-            r = _row(o)
-            w.writerow([stamp, profile, *[r[k] for k in _COLUMNS[:7]]])
-    return path
+    return [_csv_line([stamp, profile, *[_row(o)[k] for k in _COLUMNS[:7]]]) for o in outcomes]

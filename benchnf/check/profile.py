@@ -163,8 +163,12 @@ def _check_keys(table: dict, allowed: set, where: str) -> None:
 def load_profile(path: str | Path) -> Profile:
     """Read and validate a profile file."""
     from ..io.toml_file import read_toml
-    path = Path(path)
-    data = read_toml(path, "profile")
+    return profile_from_data(read_toml(path, "profile"), where=Path(path))
+
+
+def profile_from_data(data: dict[str, Any], *, where: str | Path) -> Profile:
+    """Validate the parsed TOML of a profile (`where` names it in messages)."""
+    path = where
     _check_keys(data, _TOP, str(path))
     if data.get("schema") != PROFILE_SCHEMA:
         raise ParameterError(f"profile {path}: schema {data.get('schema')!r} is not {PROFILE_SCHEMA!r}")

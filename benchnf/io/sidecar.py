@@ -63,12 +63,6 @@ def read_sidecar(capture_path: Path) -> dict[str, Any]:
 
 
 def write_sidecar(capture_path: Path, metadata: dict[str, Any]) -> Path:
-    """Write `metadata` as the sidecar of `capture_path`; never overwrite one."""
-    path = sidecar_candidates(Path(capture_path))[0]
-    try:
-        with open(path, "x", encoding="utf-8") as fh:
-            json.dump(metadata, fh, indent=2, sort_keys=True)
-            fh.write("\n")
-    except FileExistsError as err:
-        raise CaptureError(f"{path} exists already: choose another capture name") from err
-    return path
+    """Write `metadata` as the sidecar of `capture_path` through the one writer; never overwrite one."""
+    from ..write import Writer
+    return Writer().json(sidecar_candidates(Path(capture_path))[0], metadata)

@@ -7,7 +7,7 @@ from typing import Any
 
 from ..errors import ParameterError
 
-__all__ = ["read_toml", "check_keys"]
+__all__ = ["read_toml", "parse_toml", "check_keys"]
 
 
 def read_toml(path: str | Path, what: str) -> dict[str, Any]:
@@ -30,3 +30,15 @@ def check_keys(table: dict[str, Any], allowed: set[str], where: str) -> None:
     unknown = set(table) - allowed
     if unknown:
         raise ParameterError(f"{where}: unknown keys {sorted(unknown)} (allowed: {sorted(allowed)})")
+
+
+def parse_toml(text: str, what: str) -> dict[str, Any]:
+    """Parse TOML text held in memory, or raise a ParameterError naming `what` it was meant to be."""
+    try:
+        import tomllib
+    except ModuleNotFoundError:  # Python 3.10
+        import tomli as tomllib  # type: ignore[no-redef]
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as err:
+        raise ParameterError(f"{what} is not valid TOML ({err})") from err

@@ -7,14 +7,13 @@ import base64
 import html
 import io
 import math
-from pathlib import Path
 from typing import Any
 
 import numpy as np
 
 from .._optional import require
 
-__all__ = ["unit_figure", "write_unit_report", "write_unit_png"]
+__all__ = ["unit_figure", "unit_report_html", "unit_png"]
 
 _TONE = {"PASS": "#2e7d4f", "MARGINAL": "#b07d12", "FAIL": "#b3261e", "ERROR": "#5f5f5f"}
 
@@ -22,11 +21,9 @@ _TONE = {"PASS": "#2e7d4f", "MARGINAL": "#b07d12", "FAIL": "#b3261e", "ERROR": "
 def unit_figure(results: dict[str, Any], check: dict[str, Any] | None, profile=None):
     """A two-panel matplotlib figure: spot input density with the mask, and hum lines against limits."""
     require("matplotlib", extra=None, purpose="plotting")
-    import matplotlib
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-    fig, (a, b) = plt.subplots(1, 2, figsize=(11, 4.2), layout="constrained",
-                               gridspec_kw={"width_ratios": [3, 2]})
+    from matplotlib.figure import Figure
+    fig = Figure(figsize=(11, 4.2), layout="constrained")
+    a, b = fig.subplots(1, 2, gridspec_kw={"width_ratios": [3, 2]})
     spots = [s for s in results.get("spot", []) if s.get("input_density_v_per_rthz")]
     f = [s["freq_hz"] for s in spots]
     a.loglog(f, [s["input_density_v_per_rthz"] * 1e9 for s in spots], "o-", ms=4, color="#1f5a96",
@@ -63,16 +60,14 @@ def unit_figure(results: dict[str, Any], check: dict[str, Any] | None, profile=N
 
 
 def _png_bytes(fig) -> bytes:
-    import matplotlib.pyplot as plt
     buf = io.BytesIO()
     fig.savefig(buf, format="png", dpi=100)
-    plt.close(fig)
     return buf.getvalue()
 
 
-def write_unit_png(results, check, path: Path, profile=None) -> Path:
-    path.write_bytes(_png_bytes(unit_figure(results, check, profile)))
-    return path
+def unit_png(results, check, profile=None) -> bytes:
+    """The unit's summary figure as PNG bytes."""
+    return _png_bytes(unit_figure(results, check, profile))
 
 
 def _fmt(v: Any) -> str:
@@ -85,9 +80,9 @@ def _fmt(v: Any) -> str:
     return html.escape(str(v))
 
 
-def write_unit_report(path: Path, *, serial: str, verdict: str, check: dict[str, Any] | None,
-                      results: dict[str, Any] | None, profile=None, error: str | None = None) -> Path:
-    """Write one unit's report as a single HTML file."""
+def unit_report_html(*, serial: str, verdict: str, check: dict[str, Any] | None,
+                     results: dict[str, Any] | None, profile=None, error: str | None = None) -> str:
+    """One unit's report as a single self-contained HTML page."""
     tone = _TONE.get(verdict, "#5f5f5f")
     rows = []
     for v in (check or {}).get("limits", []):
@@ -131,5 +126,4 @@ confident pass nor a proven failure. Measure longer, or check the setup, before 
 equipment carry lethal voltages: follow local codes and licensed practice.</footer>
 </body></html>
 """
-    path.write_text(doc, encoding="utf-8")
-    return path
+    return doc

@@ -5,7 +5,6 @@ matplotlib is imported only here, and only when a plot is asked for.
 
 from __future__ import annotations
 
-from pathlib import Path
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -16,14 +15,25 @@ from ..units import thermal_density_v2_per_hz
 
 if TYPE_CHECKING:  # pragma: no cover
     from matplotlib.axes import Axes
+    from matplotlib.figure import Figure
 
-__all__ = ["plot_output_spectrum", "plot_input_density", "plot_noise_figure", "save_plots"]
+__all__ = ["plot_output_spectrum", "plot_input_density", "plot_noise_figure", "analysis_figures",
+           "yfactor_figures", "budget_figures", "eni_figures"]
+
+Figures = list[tuple[str, "Figure"]]
+
+
+def _figure(rows: int = 1, height: float = 5.0, **subplots_kw):
+    """A new Figure and its Axes through matplotlib's object API: no pyplot, no backend switched."""
+    require("matplotlib", extra=None, purpose="plotting")
+    from matplotlib.figure import Figure
+    fig = Figure(figsize=(8, height), layout="constrained")
+    return fig, fig.subplots(rows, 1, **subplots_kw)
 
 
 def _axes(ax):
     if ax is None:
-        plt = require("matplotlib.pyplot", extra=None, purpose="plotting")
-        _, ax = plt.subplots(figsize=(8, 5), layout="constrained")
+        _, ax = _figure()
     return ax
 
 
@@ -121,32 +131,22 @@ def plot_noise_figure(r: AnalysisResult, *, ax: "Axes | None" = None) -> "Axes":
     return ax
 
 
-def save_plots(r: AnalysisResult, folder: str | Path) -> list[Path]:
-    """Write the three PNGs into `folder` (created if needed) and return their paths."""
-    require("matplotlib", extra=None, purpose="plotting")
-    import matplotlib
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-    folder = Path(folder)
-    folder.mkdir(parents=True, exist_ok=True)
-    out = []
+def analysis_figures(r: AnalysisResult) -> Figures:
+    """The three figures of a gain-method analysis, with their file names."""
+    out: Figures = []
     for name, fn in (("output_spectrum.png", plot_output_spectrum),
                      ("input_density.png", plot_input_density),
                      ("noise_figure.png", plot_noise_figure)):
-        fig, ax = plt.subplots(figsize=(8, 5), layout="constrained")
+        fig, ax = _figure()
         fn(r, ax=ax)
-        path = folder / name
-        fig.savefig(path, dpi=110)
-        plt.close(fig)
-        out.append(path)
+        out.append((name, fig))
     return out
 
 
 def plot_yfactor(r, *, ax_nf: "Axes | None" = None, ax_y: "Axes | None" = None):
     """NF and gain against frequency with the k=2 band (top), Y against frequency (bottom)."""
     if ax_nf is None or ax_y is None:
-        plt = require("matplotlib.pyplot", extra=None, purpose="plotting")
-        _, (ax_nf, ax_y) = plt.subplots(2, 1, figsize=(8, 7), layout="constrained", sharex=True)
+        _, (ax_nf, ax_y) = _figure(2, 7, sharex=True)
     rows = [row for row in r.rows if row.noise_figure_db is not None]
     scale, unit = (1e6, "MHz") if r.band_hz[1] >= 1e6 else ((1e3, "kHz") if r.band_hz[1] >= 1e4 else (1, "Hz"))
     f = np.array([row.freq_hz for row in rows]) / scale
@@ -173,35 +173,11 @@ def plot_yfactor(r, *, ax_nf: "Axes | None" = None, ax_y: "Axes | None" = None):
     return ax_nf, ax_y
 
 
-def save_yfactor_plots(r, folder: str | Path, *, name: str = "yfactor.png") -> list[Path]:
-    """Write the Y-factor figure (`name`) into `folder` and return its path in a list."""
-    require("matplotlib", extra=None, purpose="plotting")
-    import matplotlib
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-    folder = Path(folder)
-    folder.mkdir(parents=True, exist_ok=True)
-    fig, (a, b) = plt.subplots(2, 1, figsize=(8, 7), layout="constrained", sharex=True)
+def yfactor_figures(r, *, name: str = "yfactor.png") -> Figures:
+    """The Y-factor figure (noise figure and Y against frequency) with its file name."""
+    fig, (a, b) = _figure(2, 7, sharex=True)
     plot_yfactor(r, ax_nf=a, ax_y=b)
-    path = folder / name
-    fig.savefig(path, dpi=110)
-    plt.close(fig)
-    return [path]
-
-
-def _save(fig, path: Path) -> Path:
-    import matplotlib.pyplot as plt
-    fig.savefig(path, dpi=110)
-    plt.close(fig)
-    return path
-
-
-def _figure(rows: int = 1, height: float = 5.0):
-    require("matplotlib", extra=None, purpose="plotting")
-    import matplotlib
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-    return plt.subplots(rows, 1, figsize=(8, height), layout="constrained")
+    return [(name, fig)]
 
 
 def plot_stage_budget(budget, *, ax: "Axes | None" = None) -> "Axes":
@@ -273,21 +249,17 @@ def plot_nf_vs_rs(eni, *, ax: "Axes | None" = None) -> "Axes":
     return ax
 
 
-def save_budget_plot(budget, folder: str | Path) -> list[Path]:
-    folder = Path(folder)
-    folder.mkdir(parents=True, exist_ok=True)
+def budget_figures(budget) -> Figures:
+    """The stage-budget figure with its file name."""
     fig, ax = _figure()
     plot_stage_budget(budget, ax=ax)
-    return [_save(fig, folder / "stage_budget.png")]
+    return [("stage_budget.png", fig)]
 
 
-def save_eni_plots(eni, folder: str | Path) -> list[Path]:
-    folder = Path(folder)
-    folder.mkdir(parents=True, exist_ok=True)
+def eni_figures(eni) -> Figures:
+    """en/in against frequency and NF against Rs, with their file names."""
     fig, axes = _figure(2, 7)
     plot_en_in(eni, axes=axes)
-    paths = [_save(fig, folder / "en_in.png")]
-    fig, ax = _figure()
+    fig2, ax = _figure()
     plot_nf_vs_rs(eni, ax=ax)
-    paths.append(_save(fig, folder / "nf_vs_rs.png"))
-    return paths
+    return [("en_in.png", fig), ("nf_vs_rs.png", fig2)]

@@ -1,0 +1,178 @@
+"""What the commands share: option groups, opening inputs the same way, progress, output of results.
+
+Nothing here computes a figure; it resolves what the user typed and hands it to the library.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+import warnings
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
+from pathlib import Path
+from typing import Any
+
+from ..errors import BenchError, BenchWarning
+from ..write import Writer
+from ._types import channel_index, non_negative_hz, positive_hz, positive_volts, segment_samples
+
+# Attributes of a parsed command line that name files benchnf writes (everything else that is a path
+# is an input, protected by the writer).
+OUTPUT_OPTIONS = ("json", "plot", "output", "report", "history", "out_dir")
+
+
+def input_paths(args: argparse.Namespace) -> list[Path]:
+    """Every path the command line names as an input (nested in lists and tuples too)."""
+    found: list[Path] = []
+
+    def walk(value: Any) -> None:
+        if isinstance(value, Path):
+            found.append(value)
+        elif isinstance(value, (list, tuple)):
+            for v in value:
+                walk(v)
+
+    for key, value in vars(args).items():
+        if key not in OUTPUT_OPTIONS:
+            walk(value)
+    for folder in [p for p in found if p.is_dir()]:  # a folder of units: its files are inputs too
+        found += [q for q in folder.glob("*/*") if q.is_file()]
+    return found
+
+
+@contextmanager
+def progress(total_frames: int, *, quiet: bool, label: str) -> Iterator[Callable[[int], None] | None]:
+    """A tqdm bar on stderr, only when stderr is a terminal and not --quiet."""
+    if quiet or not sys.stderr.isatty():
+        yield None
+        return
+    from tqdm import tqdm
+    bar = tqdm(total=total_frames, unit="frame", unit_scale=True, desc=label, leave=False,
+               file=sys.stderr)
+    try:
+        yield bar.update
+    finally:
+        bar.close()
+
+
+def print_warnings(caught: list[warnings.WarningMessage]) -> None:
+    for w in caught:
+        if issubclass(w.category, BenchWarning):
+            print(f"benchnf: warning: {w.message}", file=sys.stderr)
+
+
+def load_calibration(args: argparse.Namespace):
+    if getattr(args, "calibration", None) is None:
+        return None
+    from ..calibration import Calibration
+    return Calibration.load(args.calibration)
+
+
+def open_input(path: Path | None, *, condition: str | None, args: argparse.Namespace, cal,
+               channel: int | None = None):
+    """Open a capture with the calibration that applies: --volts-per-fs, --calibration, sidecar."""
+    if path is None:
+        return None
+    from ..calibration import apply_calibration
+    from ..io import open_capture
+    if path.suffix.lower() in (".csv", ".txt"):
+        from ..io.csv_trace import load_csv
+        # Instrument CSV is in volts already: no sound-card calibration applies.
+        return load_csv(path, rbw_hz=args.rbw_hz, detector=args.trace_detector,
+                        reference_ohm=args.reference_ohm, enbw_ratio=args.enbw_ratio)
+    cap = open_capture(path, channel=args.channel if channel is None else channel,
+                       condition=condition, volts_per_fs=args.volts_per_fs,
+                       accept_dropouts=getattr(args, "accept_dropouts", False))
+    if args.volts_per_fs is None and cal is not None:
+        cap = apply_calibration(cap, cal)
+    return cap
+
+
+def gain_for(args: argparse.Namespace, cal, tone_path: Path | None):
+    from ..analysis import GainSetup
+    if tone_path is not None:
+        tone = open_input(tone_path, condition="tone", args=args, cal=cal)
+        vin = args.tone_input_vrms if args.tone_input_vrms is not None else tone.metadata.get("tone_input_vrms")
+        return GainSetup(tone=tone, tone_input_vrms=vin, tone_frequency_hz=getattr(args, "tone_hz", None),
+                         zin_ohm=getattr(args, "zin_ohm", None))
+    if args.gain_db is None:
+        raise BenchError("give the gain: --tone FILE with --tone-input-vrms, or --gain-db G")
+    return GainSetup(gain_db=args.gain_db, zin_ohm=getattr(args, "zin_ohm", None))
+
+
+def read_results(path: Path) -> dict[str, Any]:
+    import json
+    try:
+        data = json.loads(Path(path).read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise BenchError(f"{path}: no such results file") from None
+    except (OSError, UnicodeDecodeError, ValueError) as err:
+        raise BenchError(f"{path} is not a readable results JSON ({err})") from err
+    if not isinstance(data, dict) or "schema_version" not in data:
+        raise BenchError(f"{path} is not a benchnf results JSON (no schema_version)")
+    return data
+
+
+def verdict_table(rows: list[tuple[str, str, str]]) -> str:
+    return "\n".join(f"  {a:24s} {b:10s} {c}" for a, b, c in rows)
+
+
+def say_rate_note(device: str | None, host_api: str | None, rate: float, *, warn: bool = True) -> None:
+    from ..acquire.devices import find_device, rate_note
+    dev = find_device(device, host_api=host_api, kind="input")
+    note = rate_note(dev, rate)
+    print(f"recording from {dev.describe()}", file=sys.stderr)
+    if note and warn:
+        print(f"benchnf: warning: {note}", file=sys.stderr)
+
+
+def common_options(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--quiet", action="store_true", help="no progress bar")
+    p.add_argument("--overwrite", action="store_true",
+                   help="replace output files that exist already (never an input; default: refuse)")
+    p.add_argument("--traceback", action="store_true", help="show the full traceback on errors")
+
+
+def calibration_options(p: argparse.ArgumentParser) -> None:
+    g = p.add_mutually_exclusive_group()
+    g.add_argument("--volts-per-fs", type=positive_volts, metavar="V",
+                   help="volts that a sample value of 1.0 represents at the analyzer input")
+    g.add_argument("--calibration", type=Path, metavar="CAL.json",
+                   help="a calibration file written by 'benchnf calibrate'")
+
+
+def write_outputs(args: argparse.Namespace, writer: Writer, data: dict[str, Any],
+                  figures: Callable[[], list[tuple[str, Any]]] | None = None) -> None:
+    """--json and --plot, the same way for every command."""
+    if getattr(args, "json", None):
+        writer.json(args.json, data)
+        print(f"\nJSON written to {args.json}")
+    if getattr(args, "plot", None) and figures is not None:
+        folder = writer.folder(args.plot)
+        names = [writer.figure(folder / name, fig).name for name, fig in figures()]
+        print(f"plots written to {Path(args.plot)}/: " + ", ".join(names))
+
+
+def sweep_options(p: argparse.ArgumentParser, *, band_default: tuple[float, float], band_help: str) -> None:
+    """Options shared by the commands that refer several captures to the input (budget, eni)."""
+    p.add_argument("--floor", type=Path, metavar="FILE", help="analyzer floor")
+    p.add_argument("--band", type=non_negative_hz, nargs=2, default=list(band_default), metavar=("LO", "HI"),
+                   help=band_help)
+    p.add_argument("--segment", type=segment_samples, metavar="N")
+    p.add_argument("--channel", type=channel_index, metavar="N")
+    calibration_options(p)
+    output_options(p)
+
+
+def output_options(p: argparse.ArgumentParser, *, plot: bool = True) -> None:
+    p.add_argument("--json", type=Path, metavar="OUT.json", help="write the results as JSON")
+    if plot:
+        p.add_argument("--plot", type=Path, metavar="DIR", help="write PNG plots into DIR")
+    common_options(p)
+
+
+def device_options(q: argparse.ArgumentParser) -> None:
+    q.add_argument("--device", metavar="NAME", help="device name or part of it (default: the system's)")
+    q.add_argument("--host-api", metavar="API", help="host API, when names repeat (ALSA, WASAPI, Core Audio...)")
+    q.add_argument("--rate", type=positive_hz, default=48_000.0, metavar="HZ", help="sample rate (48000)")

@@ -1,0 +1,133 @@
+"""Argument types: each validates one quantity at the boundary and names it when it refuses."""
+
+from __future__ import annotations
+
+import argparse
+import math
+from collections.abc import Callable
+
+__all__ = ["positive_ohm", "positive_volts", "positive_hz", "non_negative_hz", "kelvin", "non_negative_pct",
+           "finite_db", "channel_index", "segment_samples", "positive_seconds", "channel_count", "resistor_kelvin",
+           "celsius", "gain_db", "source_ohm", "update_rate", "finite_number", "positive_db", "fraction",
+           "whole_count", "loss_db"]
+
+
+def _number(text: str, what: str, ok: Callable[[float], bool]) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a number ({what})") from None
+    if not (math.isfinite(value) and ok(value)):
+        raise argparse.ArgumentTypeError(f"{text!r} is not {what}")
+    return value
+
+
+def positive_ohm(text: str) -> float:
+    return _number(text, "a resistance > 0 ohm and at most 1 Gohm", lambda v: 0 < v <= 1e9)
+
+
+def source_ohm(text: str) -> float:
+    return _number(text, "a source resistance from 0 (shorted) to 1 Gohm", lambda v: 0 <= v <= 1e9)
+
+
+def update_rate(text: str) -> float:
+    return _number(text, "a rate > 0 and at most 100 per second", lambda v: 0 < v <= 100)
+
+
+def finite_number(text: str) -> float:
+    return _number(text, "a finite number", lambda v: True)
+
+
+def positive_volts(text: str) -> float:
+    return _number(text, "a voltage > 0 V and at most 1 kV", lambda v: 0 < v <= 1e3)
+
+
+def positive_hz(text: str) -> float:
+    return _number(text, "a positive frequency in Hz", lambda v: v > 0)
+
+
+def non_negative_hz(text: str) -> float:
+    return _number(text, "a frequency >= 0 Hz", lambda v: v >= 0)
+
+
+def kelvin(text: str) -> float:
+    """A noise temperature: a hot load or a source's equivalent temperature may be far above room."""
+    return _number(text, "a temperature above 0 K and at most 1e7 K", lambda v: 0 < v <= 1e7)
+
+
+def resistor_kelvin(text: str) -> float:
+    """A resistor's physical temperature."""
+    return _number(text, "a resistor temperature above 0 K and at most 1000 K", lambda v: 0 < v <= 1000)
+
+
+def celsius(text: str) -> float:
+    return _number(text, "a temperature above -273.15 C and at most 1e7 C", lambda v: -273.15 < v <= 1e7)
+
+
+def non_negative_pct(text: str) -> float:
+    return _number(text, "a number >= 0", lambda v: v >= 0)
+
+
+def finite_db(text: str) -> float:
+    return _number(text, "a number of dB from -200 to 200", lambda v: -200 <= v <= 200)
+
+
+def gain_db(text: str) -> float:
+    return _number(text, "a voltage gain from -100 to 200 dB", lambda v: -100 <= v <= 200)
+
+
+def positive_db(text: str) -> float:
+    return _number(text, "a number of dB > 0 and at most 100", lambda v: 0 < v <= 100)
+
+
+def fraction(text: str) -> float:
+    return _number(text, "a fraction from 0 to 0.45", lambda v: 0 <= v <= 0.45)
+
+
+def whole_count(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number (1, 2, ...)") from None
+    if not 1 <= value <= 10_000:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number from 1 to 10000")
+    return value
+
+
+def loss_db(text: str) -> float:
+    return _number(text, "a loss from 0 to 60 dB", lambda v: 0 <= v <= 60)
+
+
+def channel_index(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a channel number (0, 1, ...)") from None
+    if value < 0:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a channel number: channels count from 0")
+    return value
+
+
+def segment_samples(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number of samples") from None
+    if value < 64:
+        raise argparse.ArgumentTypeError(f"{text!r}: a segment needs at least 64 samples")
+    return value
+
+
+
+def positive_seconds(text: str) -> float:
+    return _number(text, "a duration > 0 s", lambda v: v > 0)
+
+
+def channel_count(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a number of channels (1, 2, ...)") from None
+    if not 1 <= value <= 64:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a number of channels from 1 to 64")
+    return value

@@ -1,0 +1,168 @@
+"""benchnf analyze."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+from typing import Any
+
+from ..errors import BenchError
+from ..write import Writer
+from ._common import calibration_options, load_calibration, open_input, output_options, progress, write_outputs
+from ._types import (
+    channel_index,
+    finite_db,
+    gain_db,
+    non_negative_hz,
+    non_negative_pct,
+    positive_hz,
+    positive_ohm,
+    positive_volts,
+    resistor_kelvin,
+    segment_samples,
+)
+from .status import ExitStatus
+
+
+def add_parser(sub: Any) -> None:
+    p = sub.add_parser("analyze", help="gain-method noise analysis of captures",
+                       description="Gain, input-referred noise density, EIN and noise figure "
+                                   "from a terminated-input capture and a tone (or stated gain).")
+    p.add_argument("--terminated", type=Path, required=True, nargs="+", metavar="FILE",
+                   help="DUT output with its input terminated in Rs (several: repeats, pooled, with "
+                        "their scatter and drift)")
+    p.add_argument("--floor", type=Path, metavar="FILE",
+                   help="analyzer alone with its input terminated (subtracted in linear power)")
+    p.add_argument("--shorted", type=Path, metavar="FILE",
+                   help="DUT output with its input shorted (voltage noise alone)")
+    g = p.add_mutually_exclusive_group(required=True)
+    g.add_argument("--tone", type=Path, metavar="FILE", help="DUT output driven by a known sine")
+    g.add_argument("--gain-db", type=gain_db, metavar="G",
+                   help="stated voltage gain from source EMF to output, dB")
+    p.add_argument("--tone-input-vrms", type=positive_volts, metavar="V",
+                   help="RMS of the tone at the source EMF (default: the tone sidecar's "
+                        "tone_input_vrms)")
+    p.add_argument("--tone-input-channel", type=channel_index, metavar="N",
+                   help="the tone capture's channel that records the DUT input (two-channel gain)")
+    p.add_argument("--tone-hz", type=positive_hz, metavar="F",
+                   help="stated tone frequency; the tone must be found there")
+    p.add_argument("--gain-frequency-hz", type=positive_hz, default=1000.0, metavar="F",
+                   help="frequency a --gain-db holds at (default 1000)")
+    p.add_argument("--response", type=Path, metavar="FILE",
+                   help="two-channel capture of a broadband stimulus, DUT input and output, "
+                        "for the shape of the response")
+    p.add_argument("--response-channels", type=channel_index, nargs=2, default=[0, 1],
+                   metavar=("IN", "OUT"), help="channels of --response (default 0 1)")
+    p.add_argument("--zin-ohm", type=positive_ohm, metavar="OHM",
+                   help="DUT input impedance, when the tone level was taken at the DUT's terminals")
+    p.add_argument("--rs", type=positive_ohm, metavar="OHM",
+                   help="source resistance (default: the terminated sidecar's rs_ohm)")
+    p.add_argument("--temperature-k", type=resistor_kelvin, metavar="K",
+                   help="the source resistor's temperature (default: sidecar, else 290 K)")
+    bands = p.add_mutually_exclusive_group()
+    bands.add_argument("--band", type=non_negative_hz, nargs=2, metavar=("LO", "HI"),
+                       help="integration band in Hz (default 20 20000)")
+    bands.add_argument("--band-preset", choices=["audio", "wide", "no-hum"],
+                       help="audio 20 Hz-20 kHz, wide 22 Hz-22 kHz, no-hum 400 Hz-22 kHz")
+    p.add_argument("--weighting", choices=["none", "A", "C", "468", "468-2k"], default="none",
+                   help="frequency weighting of band figures: IEC 61672-1 A or C, ITU-R BS.468-4 "
+                        "(0 dB at 1 kHz) or 468-2k (0 dB at 2 kHz, for an RMS detector)")
+    p.add_argument("--detector", choices=["rms", "qp"], default="rms",
+                   help="rms, or qp: the BS.468-4 quasi-peak meter (with --weighting 468 only)")
+    p.add_argument("--mains-hz", type=positive_hz, metavar="F",
+                   help="mains fundamental for the hum families (default: found, 50 or 60)")
+    p.add_argument("--flicker-range", type=positive_hz, nargs=2, metavar=("LO", "HI"),
+                   help="range of the 1/f fit in Hz (default: band bottom to 10 kHz)")
+    p.add_argument("--flicker-free-slope", action="store_true",
+                   help="fit the 1/f exponent too, instead of fixing it at 1")
+    refs = p.add_mutually_exclusive_group()
+    refs.add_argument("--reference-vrms", type=positive_volts, metavar="V",
+                      help="output reference level for an SNR figure, V RMS")
+    refs.add_argument("--reference-dbu", type=finite_db, metavar="L",
+                      help="output reference level for an SNR figure, dBu")
+    p.add_argument("--calibration-limit-pct", type=non_negative_pct, default=1.0, metavar="P",
+                   help="meter accuracy, +/- %% of reading (default 1)")
+    p.add_argument("--tone-limit-pct", type=non_negative_pct, default=1.0, metavar="P",
+                   help="tone level at the source known to +/- %% (default 1)")
+    p.add_argument("--resistor-limit-pct", type=non_negative_pct, default=1.0, metavar="P",
+                   help="source resistor tolerance, +/- %% (default 1)")
+    p.add_argument("--temperature-limit-k", type=non_negative_pct, default=2.0, metavar="K",
+                   help="source resistor temperature known to +/- K (default 2)")
+    p.add_argument("--explain", action="store_true", help="list every uncertainty contribution")
+    p.add_argument("--accept-dropouts", action="store_true",
+                   help="use captures whose sidecar records dropouts (refused otherwise)")
+    p.add_argument("--rbw-hz", type=positive_hz, metavar="F",
+                   help="instrument CSV traces: resolution bandwidth (else the file's '# rbw_hz')")
+    p.add_argument("--trace-detector", choices=["rms", "sample", "log"],
+                   help="instrument CSV traces: how the trace was averaged (log reads noise 2.51 dB low)")
+    p.add_argument("--reference-ohm", type=positive_ohm, metavar="OHM",
+                   help="instrument CSV traces in dBm: reference impedance (default 50)")
+    p.add_argument("--enbw-ratio", type=positive_hz, metavar="R",
+                   help="instrument CSV traces: noise bandwidth over RBW (default 1)")
+    p.add_argument("--segment", type=segment_samples, metavar="N",
+                   help="Welch segment length in samples (default about 10 Hz bins)")
+    p.add_argument("--channel", type=channel_index, metavar="N",
+                   help="channel of the noise and tone captures (default: sidecar, else 0)")
+    calibration_options(p)
+    output_options(p)
+    p.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace, writer: Writer) -> int:
+    from ..analysis import analyze_gain_method
+    from ..dsp.weighting import BAND_PRESETS, Band
+    from ..noise.uncertainty import StatedUncertainty
+    from ..report.text import format_summary
+    from ..units import dbu_to_vrms
+
+    cal = load_calibration(args)
+    runs = [open_input(t, condition="terminated", args=args, cal=cal) for t in args.terminated]
+    terminated = runs[0]
+    floor = open_input(args.floor, condition="floor", args=args, cal=cal)
+    shorted = open_input(args.shorted, condition="shorted", args=args, cal=cal)
+    gain = _gain_setup(args, cal)
+    meta = getattr(terminated, "metadata", {})
+    rs = args.rs if args.rs is not None else meta.get("rs_ohm")
+    if rs is None:
+        raise BenchError("give the source resistance with --rs OHM (the terminated capture's "
+                         "sidecar does not state it)")
+    temperature = args.temperature_k if args.temperature_k is not None else meta.get("temperature_k", 290.0)
+    if args.band_preset:
+        band = BAND_PRESETS[args.band_preset]
+    else:
+        band = Band(*(args.band or (20.0, 20_000.0)))
+    reference = args.reference_vrms
+    if args.reference_dbu is not None:
+        reference = float(dbu_to_vrms(args.reference_dbu))
+    stated = StatedUncertainty(calibration_pct=args.calibration_limit_pct, tone_level_pct=args.tone_limit_pct,
+                               resistor_pct=args.resistor_limit_pct, temperature_k=args.temperature_limit_k)
+    total = sum(getattr(c, "n_frames", 0) for c in (*runs, floor, shorted) if c is not None)
+    with progress(total, quiet=args.quiet, label="analysing") as tick:
+        result = analyze_gain_method(terminated=runs, floor=floor, shorted=shorted, gain=gain,
+                                     rs_ohm=float(rs), temperature_k=float(temperature), band=band,
+                                     weighting=args.weighting, detector=args.detector,
+                                     segment_length=args.segment, mains_hz=args.mains_hz,
+                                     flicker_range_hz=tuple(args.flicker_range) if args.flicker_range else None,
+                                     flicker_free_slope=args.flicker_free_slope, stated=stated,
+                                     reference_output_vrms=reference, progress=tick)
+    print(format_summary(result, explain=args.explain), end="")
+    from ..report.plots import analysis_figures
+    write_outputs(args, writer, result.to_dict(), lambda: analysis_figures(result))
+    return ExitStatus.OK
+
+
+def _gain_setup(args: argparse.Namespace, cal):
+    from ..analysis import GainSetup
+    tone = open_input(args.tone, condition="tone", args=args, cal=cal)
+    response = None
+    if args.response is not None:
+        from ..io import open_capture
+        response = open_capture(args.response, channel=args.response_channels[1])
+    vin = args.tone_input_vrms
+    if tone is not None and vin is None and args.tone_input_channel is None:
+        vin = tone.metadata.get("tone_input_vrms")
+    return GainSetup(tone=tone, tone_input_vrms=vin, tone_input_channel=args.tone_input_channel,
+                     tone_frequency_hz=args.tone_hz, gain_db=args.gain_db,
+                     gain_frequency_hz=args.gain_frequency_hz, response=response,
+                     response_channels=tuple(args.response_channels), zin_ohm=args.zin_ohm)
+

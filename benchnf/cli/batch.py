@@ -1,0 +1,70 @@
+"""benchnf batch."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+from typing import Any
+
+from ..write import Writer
+from ._common import calibration_options, common_options, progress, verdict_table
+from ._types import positive_volts, whole_count
+from .status import ExitStatus
+
+
+def add_parser(sub: Any) -> None:
+    p = sub.add_parser("batch", help="check a folder of units in parallel",
+                       description="One subfolder per unit (its name the serial): results.json, or captures "
+                                   "(terminated, tone, optional floor). Writes an HTML report per unit, "
+                                   "summary.csv, junit.xml and appends a history file.")
+    p.add_argument("units", type=Path, metavar="UNITS_DIR")
+    p.add_argument("--profile", type=Path, required=True, metavar="PROFILE.toml")
+    p.add_argument("-o", "--output", type=Path, default=Path("benchnf-check"), metavar="DIR",
+                   help="folder for the reports (default ./benchnf-check)")
+    p.add_argument("--floor", type=Path, metavar="FILE", help="analyzer floor for units without their own")
+    p.add_argument("--tone-input-vrms", type=positive_volts, metavar="V",
+                   help="tone level at the source, when the tone sidecars do not state it")
+    p.add_argument("--history", type=Path, metavar="FILE", help="history CSV to append to (default DIR/history.csv)")
+    p.add_argument("--workers", type=whole_count, metavar="N", help="parallel processes (default: the cores)")
+    calibration_options(p)
+    common_options(p)
+    p.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace, writer: Writer) -> int:
+    from ..check.batch import HISTORY_HEADER, check_batch, find_units, history_lines, junit_xml, summary_csv
+    from ..check.profile import load_profile
+    from ..report.html import unit_png, unit_report_html
+    profile = load_profile(args.profile)
+    units = find_units(args.units)
+    out = writer.folder(args.output)
+    history = writer.appendable(args.history or out / "history.csv", HISTORY_HEADER)
+    for name in ("summary.csv", "junit.xml", *(f"{u.name}.{x}" for u in units for x in ("html", "png"))):
+        writer.target(writer.child(out, name))  # refused now, before any unit is analysed
+    settings = {"calibration": str(args.calibration) if args.calibration else None,
+                "volts_per_fs": args.volts_per_fs, "floor": str(args.floor) if args.floor else None,
+                "tone_input_vrms": args.tone_input_vrms}
+    with progress(len(units), quiet=args.quiet, label="checking") as tick:
+        outcomes = check_batch(Path(args.units), str(args.profile), settings=settings, workers=args.workers,
+                               progress=tick)
+    rows = []
+    for o in outcomes:
+        failed = [v["name"] for v in (o.check or {}).get("limits", []) if v["verdict"] != "PASS"]
+        rows.append((o.serial, o.verdict, o.error or ", ".join(failed)))
+        writer.text(writer.child(out, f"{o.serial}.html"),
+                    unit_report_html(serial=o.serial, verdict=o.verdict, check=o.check, results=o.results,
+                                     profile=profile, error=o.error))
+        if o.results:
+            writer.bytes(writer.child(out, f"{o.serial}.png"), unit_png(o.results, o.check, profile))
+    writer.text(out / "summary.csv", summary_csv(outcomes))
+    writer.text(out / "junit.xml", junit_xml(outcomes, profile=profile.name))
+    writer.append_lines(history, HISTORY_HEADER, history_lines(outcomes, profile=profile.name))
+    counts = {k: sum(o.verdict == k for o in outcomes) for k in ("PASS", "MARGINAL", "FAIL", "ERROR")}
+    print(f"benchnf - {len(outcomes)} units against profile {profile.name!r}\n")
+    print(verdict_table([("unit", "verdict", "limits not passed / error")] + rows))
+    print("\n  " + ", ".join(f"{v} {k.lower()}" for k, v in counts.items()))
+    print(f"\nreports, summary.csv and junit.xml in {out}/; history appended to {history}")
+    if counts["FAIL"]:
+        return ExitStatus.CHECK_FAILED
+    return ExitStatus.BAD_INPUT if counts["ERROR"] else ExitStatus.OK
+

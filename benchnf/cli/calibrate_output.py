@@ -1,0 +1,58 @@
+"""benchnf calibrate-output."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+from typing import Any
+
+from ..write import Writer
+from ._common import common_options
+from ._types import finite_db, positive_hz, positive_seconds
+from .status import ExitStatus
+
+
+def add_parser(sub: Any) -> None:
+    p = sub.add_parser("calibrate-output", help="volts per full scale of an output, through a calibrated input",
+                       description="Plays a tone on the output into the calibrated input (loop the output to the "
+                                   "input, through an attenuator if needed) and measures it.")
+    p.add_argument("--calibration", type=Path, required=True, metavar="CAL.json", help="the input's calibration")
+    p.add_argument("--device", metavar="NAME")
+    p.add_argument("--host-api", metavar="API")
+    p.add_argument("--tone-hz", type=positive_hz, default=400.0, metavar="F")
+    p.add_argument("--level-dbfs", type=finite_db, default=-10.0, metavar="L")
+    p.add_argument("--seconds", type=positive_seconds, default=2.0, metavar="S")
+    p.add_argument("-o", "--output", type=Path, required=True, metavar="OUT_CAL.json")
+    common_options(p)
+    p.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace, writer: Writer) -> int:
+    import numpy as np
+
+    from ..acquire.record import SoundcardRecorder
+    from ..acquire.signals import make_signal
+    from ..calibration import Calibration
+    from ..dsp.tones import fit_sine
+    out = writer.target(args.output)  # refused before anything is played
+    cal = Calibration.load(args.calibration)
+    sig = make_signal("tone", sample_rate_hz=cal.sample_rate_hz, seconds=args.seconds, level_dbfs=args.level_dbfs,
+                      frequency_hz=args.tone_hz)
+    from ..acquire.signals import align_lag
+    rec = SoundcardRecorder(args.device, host_api=args.host_api)
+    play = np.concatenate([sig, np.zeros(int(0.5 * cal.sample_rate_hz), dtype=np.float32)])
+    x = rec.playrec(np.column_stack([play, play]), sample_rate_hz=cal.sample_rate_hz, channels=cal.channel + 1)
+    lag = max(align_lag(x[:, cal.channel], sig), 0)
+    edge = int(0.1 * cal.sample_rate_hz)  # leave the ends, where the tone starts and stops
+    part = x[lag + edge:lag + sig.size - edge, cal.channel].astype(np.float64)
+    fit = fit_sine(part, sample_rate_hz=cal.sample_rate_hz, frequency_hz=args.tone_hz)
+    played_peak_fs = 10 ** (args.level_dbfs / 20)
+    vpfs_out = fit.amplitude * cal.volts_per_fs / played_peak_fs
+    data = {"schema": "benchnf.output-calibration/1", "output_volts_per_fs": vpfs_out,
+            "tone_hz": args.tone_hz, "level_dbfs": args.level_dbfs, "input_calibration": str(args.calibration),
+            "device": rec.input.name, "sample_rate_hz": cal.sample_rate_hz}
+    writer.json(out, data)
+    print(f"the output gives {vpfs_out:.6g} V per full scale (a {args.level_dbfs:g} dBFS tone reads "
+          f"{fit.rms * cal.volts_per_fs:.6g} V RMS on the calibrated input); written to {out}")
+    return ExitStatus.OK
+

@@ -1,0 +1,55 @@
+"""benchnf check."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+from typing import Any
+
+from ..write import Writer
+from ._common import common_options, read_results
+from .status import ExitStatus
+
+
+def add_parser(sub: Any) -> None:
+    p = sub.add_parser("check", help="check one unit's results against a profile (exit 0 pass, 1 fail)",
+                       description="Each limit PASS, MARGINAL (inside it by less than the uncertainty) or FAIL, "
+                                   "with the margin and a suggestion; exit status 0 pass, 1 fail, 2 bad input.")
+    p.add_argument("--profile", type=Path, required=True, metavar="PROFILE.toml")
+    p.add_argument("results", type=Path, metavar="RESULTS.json", help="results of 'benchnf analyze --json'")
+    p.add_argument("--unit", metavar="SERIAL", help="the unit's name (default: the file name)")
+    p.add_argument("--report", type=Path, metavar="DIR", help="write an HTML report and a PNG summary")
+    p.add_argument("--json", type=Path, metavar="OUT.json")
+    common_options(p)
+    p.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace, writer: Writer) -> int:
+    from ..check.limits import check_results
+    from ..check.profile import load_profile
+    profile = load_profile(args.profile)
+    results = read_results(args.results)
+    unit = args.unit or Path(args.results).stem
+    res = check_results(results, profile, unit=unit)
+    print(f"benchnf - {unit} against profile {profile.name!r}: {res.verdict}\n")
+    print(f"  {'limit':44s} {'measured':>11} {'limit':>16} {'margin':>10} {'U k=2':>7}  verdict")
+    for v in res.limits:
+        meas = "-" if v.measured is None else f"{v.measured:.4g}"
+        margin = "-" if v.margin is None else f"{v.margin:.3g} {v.unit}"
+        u = "-" if v.uncertainty is None else f"{v.uncertainty:.2f}"
+        print(f"  {v.name[:44]:44s} {meas:>11} {v.limit:>16} {margin:>10} {u:>7}  {v.verdict}")
+        if v.hint:
+            print(f"      suggestion: {v.hint}")
+    if args.json:
+        writer.json(args.json, res.to_dict())
+        print(f"\nJSON written to {args.json}")
+    if args.report:
+        from ..report.html import unit_png, unit_report_html
+        folder = writer.folder(args.report)
+        page = writer.child(folder, f"{unit}.html")
+        writer.text(page, unit_report_html(serial=unit, verdict=res.verdict, check=res.to_dict(),
+                                           results=results, profile=profile))
+        writer.bytes(writer.child(folder, f"{unit}.png"), unit_png(results, res.to_dict(), profile))
+        print(f"report written to {page}")
+    return ExitStatus.CHECK_FAILED if res.failed else ExitStatus.OK
+

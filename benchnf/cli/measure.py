@@ -1,0 +1,73 @@
+"""benchnf measure."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+from typing import Any
+
+from ..write import Writer
+from ._common import common_options
+from .status import ExitStatus
+
+
+def add_parser(sub: Any) -> None:
+    p = sub.add_parser("measure", help="run a guided measurement plan (TOML), interactively or scripted")
+    p.add_argument("plan", type=Path, metavar="PLAN.toml")
+    p.add_argument("--yes", action="store_true", help="no questions: record every step once (scripted setups)")
+    p.add_argument("--device", metavar="NAME", help="override the plan's device")
+    p.add_argument("--out-dir", type=Path, metavar="DIR", help="folder for the captures (a new one if taken)")
+    common_options(p)
+    p.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace, writer: Writer) -> int:
+    from ..acquire.plan import load_plan, run_plan
+    from ..acquire.record import record_to_file
+    plan = load_plan(args.plan)
+    base = Path(args.out_dir or plan.out_dir or Path(args.plan).with_suffix(""))
+    folder = writer.fresh_folder(base)
+    print(f"benchnf - guided measurement {plan.name!r}; captures go to {folder}/")
+    print("CAUTION: mains and valve equipment carry lethal voltages; phantom power and speaker outputs can "
+          "destroy a sound-card input. Follow local codes and licensed practice.")
+
+    def record(path: Path, step) -> None:
+        meta = {k: v for k, v in (("rs_ohm", plan.analysis.get("rs_ohm")),
+                                  ("temperature_k", plan.analysis.get("temperature_k")),
+                                  ("tone_hz", step.tone_hz), ("tone_input_vrms", step.tone_input_vrms))
+                if v is not None}
+        if step.condition == "floor":
+            meta.pop("rs_ohm", None)
+        record_to_file(path, seconds=step.seconds, sample_rate_hz=plan.sample_rate_hz, channels=plan.channels,
+                       device=args.device or plan.device, host_api=plan.host_api, condition=step.condition,
+                       metadata=meta, writer=writer)
+
+    files = run_plan(plan, record=record, folder=folder, interactive=not args.yes)
+    if {"terminated", "tone"} <= set(files):
+        from ..analysis import GainSetup, analyze_gain_method
+        from ..dsp.weighting import Band
+        from ..io import open_capture
+        from ..report.text import format_summary
+        a = plan.analysis
+        vpfs = a.get("volts_per_fs")
+        if a.get("calibration"):
+            from ..calibration import Calibration
+            vpfs = Calibration.load(a["calibration"]).volts_per_fs
+        if vpfs is None:
+            print("\nno calibration in the plan ([analysis] volts_per_fs or calibration): captures kept, not analysed")
+            return ExitStatus.OK
+        cap = lambda f, c: open_capture(f, condition=c, volts_per_fs=vpfs)  # noqa: E731
+        tone = cap(files["tone"], "tone")
+        result = analyze_gain_method(
+            terminated=cap(files["terminated"], "terminated"),
+            floor=cap(files["floor"], "floor") if "floor" in files else None,
+            shorted=cap(files["shorted"], "shorted") if "shorted" in files else None,
+            gain=GainSetup(tone=tone, tone_input_vrms=tone.metadata.get("tone_input_vrms")),
+            rs_ohm=float(a["rs_ohm"]), temperature_k=float(a.get("temperature_k", 290.0)),
+            band=Band(*a.get("band_hz", (20.0, 20_000.0))), weighting=a.get("weighting", "none"))
+        print()
+        print(format_summary(result), end="")
+        writer.json(folder / "results.json", result.to_dict())
+        print(f"\nresults written to {folder / 'results.json'}")
+    return ExitStatus.OK
+

@@ -1,0 +1,61 @@
+"""benchnf record."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+from typing import Any
+
+from ..write import Writer
+from ._common import calibration_options, common_options, device_options, progress, say_rate_note
+from ._types import channel_count, positive_seconds, resistor_kelvin, source_ohm
+from .status import ExitStatus
+
+
+def add_parser(sub: Any) -> None:
+    p = sub.add_parser("record", help="record a capture to disk without losing a sample",
+                       description="Streams to a WAV (RF64 past 2 GiB) whose header is kept valid, checks "
+                                   "overflows and the clock, and writes a sidecar; never overwrites.")
+    device_options(p)
+    p.add_argument("--seconds", type=positive_seconds, required=True, metavar="S")
+    p.add_argument("--channels", type=channel_count, default=1, metavar="N")
+    p.add_argument("--condition", required=True, choices=["floor", "shorted", "terminated", "tone", "hot", "cold",
+                                                           "tap", "reference"])
+    p.add_argument("--rs", type=source_ohm, metavar="OHM", help="source resistance, for the sidecar (0 = shorted)")
+    p.add_argument("--temperature-k", type=resistor_kelvin, metavar="K", help="resistor temperature, for the sidecar")
+    calibration_options(p)
+    p.add_argument("-o", "--output", type=Path, required=True, metavar="FILE.wav")
+    common_options(p)
+    p.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace, writer: Writer) -> int:
+    from ..acquire.record import record_to_file
+    say_rate_note(args.device, args.host_api, args.rate, warn=False)  # record_to_file's notes carry it
+    meta = {k: v for k, v in (("rs_ohm", args.rs), ("temperature_k", args.temperature_k),
+                              ("volts_per_fs", args.volts_per_fs)) if v is not None}
+    if args.calibration:
+        from ..calibration import Calibration
+        cal = Calibration.load(args.calibration)
+        meta["volts_per_fs"] = cal.volts_per_fs
+        meta["calibration"] = str(args.calibration)
+    total = int(args.seconds * args.rate)
+    with progress(total, quiet=args.quiet, label="recording") as tick:
+        try:
+            rep = record_to_file(args.output, seconds=args.seconds, sample_rate_hz=args.rate, channels=args.channels,
+                                 device=args.device, host_api=args.host_api, condition=args.condition,
+                                 metadata=meta, on_progress=tick, writer=writer)
+        except KeyboardInterrupt:
+            print(f"benchnf: interrupted; what was recorded is kept in {args.output} (its sidecar says so)",
+                  file=sys.stderr)
+            return ExitStatus.INTERRUPTED
+    print(f"{rep.frames} frames ({rep.frames / args.rate:.2f} s) written to {rep.path}, sidecar beside it; "
+          f"{rep.overflows} overflow(s), clock mismatch {rep.clock_mismatch_frames} frames")
+    for n in rep.notes:
+        print(f"benchnf: warning: {n}", file=sys.stderr)
+    if rep.dropouts:
+        print("benchnf: warning: the capture has dropouts: analysis will refuse it unless --accept-dropouts",
+              file=sys.stderr)
+    return ExitStatus.OK
+

@@ -1,0 +1,136 @@
+"""benchnf yfactor."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+from typing import Any
+
+from ..errors import BenchError
+from ..write import Writer
+from ._common import output_options, progress, write_outputs
+from ._types import (
+    celsius,
+    channel_index,
+    finite_db,
+    finite_number,
+    fraction,
+    kelvin,
+    non_negative_hz,
+    non_negative_pct,
+    positive_hz,
+    segment_samples,
+    whole_count,
+)
+from .status import ExitStatus
+
+
+def add_parser(sub: Any) -> None:
+    p = sub.add_parser("yfactor", help="noise figure by the Y-factor (hot/cold) method",
+                       description="DUT noise figure, noise temperature and gain from hot and cold "
+                                   "captures (noise diode ENR or two temperatures), with the second-stage "
+                                   "correction from a calibration pair.")
+    p.add_argument("--hot", type=Path, nargs="+", metavar="FILE",
+                   help="capture(s) with the source hot (several: repeats, paired in order with --cold)")
+    p.add_argument("--cold", type=Path, nargs="+", metavar="FILE", help="capture(s) with the source cold")
+    p.add_argument("--annotated", type=Path, metavar="FILE",
+                   help="one SigMF recording whose annotations label hot and cold segments")
+    p.add_argument("--cal-hot", type=Path, metavar="FILE", help="source straight into the receiver, hot")
+    p.add_argument("--cal-cold", type=Path, metavar="FILE", help="source straight into the receiver, cold")
+    p.add_argument("--floor", type=Path, metavar="FILE",
+                   help="the receiver alone, input terminated: subtracted from every capture")
+    src = p.add_mutually_exclusive_group(required=True)
+    src.add_argument("--enr-db", type=finite_db, metavar="X", help="noise source ENR, dB")
+    src.add_argument("--enr-table", type=Path, metavar="FILE",
+                     help="noise source ENR table (TOML or CSV, docs/yfactor.md)")
+    src.add_argument("--t-hot-k", type=kelvin, metavar="K", help="hot temperature, kelvin")
+    src.add_argument("--t-hot-c", type=celsius, metavar="C", help="hot temperature, Celsius")
+    cold = p.add_mutually_exclusive_group()
+    cold.add_argument("--t-cold-k", type=kelvin, metavar="K",
+                      help="cold temperature, kelvin (noise source: its physical temperature; default "
+                           "the table's, else 290 K)")
+    cold.add_argument("--t-cold-c", type=celsius, metavar="C", help="cold temperature, Celsius")
+    p.add_argument("--enr-uncertainty-db", type=non_negative_pct, metavar="U",
+                   help="ENR standard uncertainty, dB (default: the table's, else 0.1)")
+    p.add_argument("--temperature-uncertainty-k", type=non_negative_pct, default=0.5, metavar="U",
+                   help="standard uncertainty of each physical temperature, K (default 0.5)")
+    p.add_argument("--loss-before", type=finite_number, nargs=2, metavar=("DB", "K"),
+                   help="matched loss between source and DUT: dB and physical temperature in K")
+    p.add_argument("--loss-after", type=finite_number, nargs=2, metavar=("DB", "K"),
+                   help="matched loss between DUT and receiver: dB and physical temperature in K")
+    p.add_argument("--band", type=non_negative_hz, nargs=2, metavar=("LO", "HI"),
+                   help="band of the headline figures, absolute Hz (default: the usable span)")
+    p.add_argument("--spot", type=positive_hz, nargs="+", metavar="F", help="spot frequencies, Hz")
+    p.add_argument("--rows", type=whole_count, default=16, metavar="N", help="sub-bands in the table (16)")
+    p.add_argument("--segment", type=segment_samples, metavar="N", help="Welch segment length")
+    p.add_argument("--iq", action="store_true", help="read two-channel audio files as I and Q")
+    p.add_argument("--centre-hz", type=positive_hz, metavar="F", help="centre frequency for --iq")
+    p.add_argument("--dc-exclude-hz", type=non_negative_hz, metavar="F",
+                   help="IQ: half-width excluded around the centre (default max(3 bins, 0.5 %% of span))")
+    p.add_argument("--edge-fraction", type=fraction, default=0.1, metavar="R",
+                   help="IQ: fraction of each half-span excluded at the edges (default 0.1)")
+    p.add_argument("--channel", type=channel_index, default=0, metavar="N", help="channel of audio captures")
+    p.add_argument("--explain", action="store_true", help="list every uncertainty contribution")
+    output_options(p)
+    p.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace, writer: Writer) -> int:
+    from ..dsp.weighting import Band
+    from ..noise.yfactor import EnrTable, load_enr_table
+    from ..report.yfactor_text import format_yfactor
+    from ..yfactor_analysis import HotColdSource, Loss, analyze_yfactor
+
+    if args.annotated is not None:
+        rec = _open_rf(args.annotated, args)
+        if not getattr(rec, "segments", ()):
+            raise BenchError(f"{args.annotated} has no annotations labelled hot and cold")
+        hot, cold = rec.segment("hot"), rec.segment("cold")
+    else:
+        if not args.hot or not args.cold:
+            raise BenchError("give --hot and --cold captures (or one --annotated recording)")
+        hot = [_open_rf(p, args) for p in args.hot]
+        cold = [_open_rf(p, args) for p in args.cold]
+    t_cold = args.t_cold_k if args.t_cold_k is not None else (
+        args.t_cold_c + 273.15 if args.t_cold_c is not None else None)
+    t_hot = args.t_hot_k if args.t_hot_k is not None else (
+        args.t_hot_c + 273.15 if args.t_hot_c is not None else None)
+    enr = None
+    if args.enr_db is not None:
+        enr = EnrTable.constant(args.enr_db)
+    elif args.enr_table is not None:
+        enr = load_enr_table(args.enr_table)
+    source = HotColdSource(enr=enr, t_hot_k=t_hot, t_cold_k=t_cold, enr_uncertainty_db=args.enr_uncertainty_db,
+                           temperature_uncertainty_k=args.temperature_uncertainty_k)
+    band = Band(*args.band) if args.band else None
+    total = sum(getattr(c, "n_frames", 0) for c in (*hot, *cold))
+    with progress(total, quiet=args.quiet, label="analysing") as tick:
+        result = analyze_yfactor(
+            hot=hot, cold=cold, source=source, cal_hot=_open_rf(args.cal_hot, args),
+            cal_cold=_open_rf(args.cal_cold, args), floor=_open_rf(args.floor, args), band=band,
+            segment_length=args.segment, n_rows=args.rows, spot_hz=args.spot or (),
+            loss_before=Loss(*args.loss_before) if args.loss_before else None,
+            loss_after=Loss(*args.loss_after) if args.loss_after else None,
+            dc_exclude_hz=args.dc_exclude_hz, edge_fraction=args.edge_fraction, progress=tick)
+    print(format_yfactor(result, explain=args.explain), end="")
+    from ..report.plots import yfactor_figures
+    write_outputs(args, writer, result.to_dict(), lambda: yfactor_figures(result))
+    return ExitStatus.OK
+
+
+def _open_rf(path: Path | None, args: argparse.Namespace):
+    """A hot/cold capture: SigMF IQ, two-channel audio as I/Q (--iq), or a real audio channel."""
+    if path is None:
+        return None
+    name = path.name.lower()
+    if name.endswith((".sigmf-meta", ".sigmf-data", ".sigmf")):
+        from ..io.sigmf_iq import open_sigmf
+        return open_sigmf(path)
+    if args.iq:
+        from ..io.sigmf_iq import open_wav_iq
+        if args.centre_hz is None:
+            raise BenchError("--iq needs the receiver's centre frequency: give --centre-hz F")
+        return open_wav_iq(path, centre_hz=args.centre_hz)
+    from ..io import open_capture
+    return open_capture(path, channel=args.channel)
+
