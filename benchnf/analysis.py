@@ -26,12 +26,31 @@ from .dsp.spurs import LineSearch, find_lines, hum_hints
 from .dsp.weighting import Band, weighting_power_gain
 from .errors import BenchWarning, CaptureError, MeasurementError, ParameterError
 from .noise.floor import band_relative_std, check_band_margin, subtract_floor
-from .noise.gain_method import (band_noise_factor, check_source, spot_means, spot_noise_factor,
-                                third_octave_centres_hz, third_octave_weights)
-from .noise.uncertainty import (Budget, StatedUncertainty, dut_power_rel_std, ein_budget, gain_budget,
-                                nf_budget)
+from .noise.gain_method import (
+    band_noise_factor,
+    check_source,
+    spot_means,
+    spot_noise_factor,
+    third_octave_centres_hz,
+    third_octave_weights,
+)
+from .noise.uncertainty import (
+    Budget,
+    StatedUncertainty,
+    dut_power_rel_std,
+    ein_budget,
+    gain_budget,
+    nf_budget,
+)
 from .streaming import stream_spectrum
-from .units import BOLTZMANN_J_PER_K, T0_K, power_db, thermal_density_v2_per_hz, vrms_to_dbu, vrms_to_dbv
+from .units import (
+    BOLTZMANN_J_PER_K,
+    T0_K,
+    power_db,
+    thermal_density_v2_per_hz,
+    vrms_to_dbu,
+    vrms_to_dbv,
+)
 
 __all__ = ["GainSetup", "GainEstimate", "SpotValue", "SpurValue", "RepeatSummary", "AnalysisResult",
            "analyze_gain_method", "measure_gain", "capture_psd", "SCHEMA_VERSION", "DETECTORS"]
@@ -102,6 +121,11 @@ class GainSetup:
             raise ParameterError(f"--zin-ohm {self.zin_ohm!r} must be > 0")
         if self.gain_db is not None and not math.isfinite(self.gain_db):
             raise ParameterError(f"--gain-db {self.gain_db!r} must be a finite number")
+        if self.tone is not None and self.tone_input_channel is not None \
+                and self.tone_input_channel == getattr(self.tone, "channel", None):
+            raise ParameterError(f"--tone-input-channel {self.tone_input_channel} is also the channel the tone's "
+                                 f"output is read from: the gain would read 0 dB; give the channel that records "
+                                 f"the DUT input, or --channel for the output")
 
     @property
     def kind(self) -> str:
@@ -284,7 +308,45 @@ def capture_psd(capture: NoiseInput, *, segment_length: int, progress: Progress 
         raise CaptureError(f"{capture.label} lasts {capture.duration_s:.3g} s, too short for a "
                            f"noise spectrum with {segment_length}-sample segments: record at least "
                            f"{3 * segment_length / capture.sample_rate_hz:.2g} s")
-    return acc.result(unit="V", scale=vpfs)
+    psd = acc.result(unit="V", scale=vpfs)
+    _refuse_near_quantisation(capture, psd, vpfs)
+    return psd
+
+
+# A noise capture must lie this far above its format's quantisation noise (10 dB: a standard deviation of
+# about one step), else rounding, not the signal, sets what the floor subtraction sees.
+QUANTISATION_MARGIN_DB = 10.0
+
+
+def _refuse_near_quantisation(capture: Capture, psd: Psd, vpfs: float) -> None:
+    """Refuse a noise capture within QUANTISATION_MARGIN_DB of its integer format's quantisation noise.
+
+    Rounding to steps of q adds white noise of density q^2/(6 fs) one-sided (q^2/12 over fs/2) only
+    while the signal spans several steps; below about one step it adds less and not independently of
+    the signal (Widrow and Kollar, Quantization Noise, 2008, ch. 4-5), so no correction is honest there.
+    """
+    if capture.quantum_fs is None:
+        return
+    q_v = capture.quantum_fs * vpfs
+    quant_density = q_v ** 2 / (6.0 * capture.sample_rate_hz)
+    level = float(np.median(psd.psd_v2_per_hz[1:-1]))
+    excess_db = 10 * math.log10(level / quant_density) if level > 0 else -math.inf
+    if excess_db < QUANTISATION_MARGIN_DB:
+        bits = round(1 - math.log2(capture.quantum_fs))
+        raise CaptureError(f"{capture.label}: its noise is only {excess_db:.1f} dB above the quantisation noise "
+                           f"of its {bits}-bit format (at least {QUANTISATION_MARGIN_DB:g} dB is needed): the "
+                           f"format cannot resolve it; add gain before the sound card or record in 24-bit")
+
+
+def _refuse_mains_tone(f0: float, label: str) -> None:
+    """Refuse a tone found at a low mains harmonic (50 or 60 Hz times 1-6) when no frequency was stated:
+    the strongest line of a capture without the test tone is usually hum (common practice)."""
+    for mains in (50.0, 60.0):
+        k = round(f0 / mains)
+        if 1 <= k <= 6 and abs(f0 - k * mains) <= 0.005 * k * mains:
+            raise MeasurementError(f"the strongest tone in {label} is at {f0:.1f} Hz, harmonic {k} of {mains:g} Hz "
+                                   f"mains: this looks like hum, not the test tone; check the generator is "
+                                   f"connected, or give --tone-hz {f0:.0f} if it really is your tone")
 
 
 def _tone_fit(capture: Capture, channel: int, expected_hz: float | None):
@@ -294,6 +356,8 @@ def _tone_fit(capture: Capture, channel: int, expected_hz: float | None):
     stats.update(samples)
     stats.check_tone()
     f0 = locate_tone(samples, sample_rate_hz=capture.sample_rate_hz, expected_hz=expected_hz)
+    if expected_hz is None:
+        _refuse_mains_tone(f0, capture.label)
     return fit_sine(samples, sample_rate_hz=capture.sample_rate_hz, frequency_hz=f0)
 
 

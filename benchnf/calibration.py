@@ -85,11 +85,31 @@ class Calibration:
             cal = cls(**data)
         except TypeError as err:
             raise CalibrationError(f"calibration file {path} has unexpected contents ({err})") from err
-        if not (isinstance(cal.volts_per_fs, (int, float)) and math.isfinite(cal.volts_per_fs)
-                and cal.volts_per_fs > 0):
-            raise CalibrationError(f"calibration file {path}: volts_per_fs={cal.volts_per_fs!r} "
-                                   f"must be a positive number")
+        _check_fields(cal, path)
         return cal
+
+
+# Each numeric field of a calibration file and the open range it must lie in.
+_FIELD_RANGES = {"volts_per_fs": (0.0, 1e4), "sample_rate_hz": (0.0, 1e9), "reference_vrms": (0.0, 1e3),
+                 "reference_frequency_hz": (0.0, 1e9), "reference_level_dbfs": (-400.0, 10.0)}
+
+
+def _check_fields(cal: "Calibration", path: Path) -> None:
+    """Types and ranges of every field: one line naming the file, the key, what was found and expected."""
+    for key, (low, high) in _FIELD_RANGES.items():
+        value = getattr(cal, key)
+        if not (isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
+                and low < value <= high):
+            raise CalibrationError(f"calibration file {path}: {key}={value!r} must be a number > {low:g} and "
+                                   f"<= {high:g}")
+    if not (isinstance(cal.channel, int) and not isinstance(cal.channel, bool) and cal.channel >= 0):
+        raise CalibrationError(f"calibration file {path}: channel={cal.channel!r} must be a whole number >= 0")
+    if not (cal.tone_snr_db is None or isinstance(cal.tone_snr_db, (int, float))):
+        raise CalibrationError(f"calibration file {path}: tone_snr_db={cal.tone_snr_db!r} must be a number")
+    for key in ("made_at", "source_file", "source_sha256", "device", "notes"):
+        value = getattr(cal, key)
+        if value is not None and not isinstance(value, str):
+            raise CalibrationError(f"calibration file {path}: {key}={value!r} must be text")
 
 
 def _sha256(path: Path) -> str:

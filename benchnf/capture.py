@@ -75,6 +75,9 @@ class Capture:
         Free metadata (from the sidecar JSON next to a file).
     path : pathlib.Path or None
         The file it came from, if any.
+    quantum_fs : float or None
+        One step of the file's integer sample format in full-scale units (``2**-(bits-1)``);
+        None for float formats and arrays.
     """
 
     sample_rate_hz: float
@@ -85,6 +88,7 @@ class Capture:
     condition: str | None = None
     metadata: Mapping[str, Any] = field(default_factory=dict)
     path: Path | None = None
+    quantum_fs: float | None = None
     _reader: Callable[[int, int, BlockSink | None], Iterator[NDArray[np.float64]]] | None = field(
         default=None, repr=False, compare=False)
 
@@ -120,7 +124,7 @@ class Capture:
                 yield deliver(data[start:start + block_frames, ch], into)
 
         return cls(float(sample_rate_hz), int(data.shape[0]), int(channel), int(data.shape[1]),
-                   volts_per_fs, condition, dict(metadata or {}), None, reader)
+                   volts_per_fs, condition, dict(metadata or {}), None, _reader=reader)
 
     def replace(self, **changes: Any) -> "Capture":
         """Return a copy with some fields changed (e.g. ``volts_per_fs``, ``channel``)."""

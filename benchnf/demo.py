@@ -129,7 +129,13 @@ def _stage_demos(src: Path, out: Path, cal, tone, terminated, writer: Writer) ->
 
 def _check_demo(src: Path, out: Path, writer: Writer, *, ref_cal_path: Path) -> list[str]:
     """Three repaired units against the known-good profile: verdicts, reports, summary and JUnit XML."""
-    from .check.batch import HISTORY_HEADER, check_batch, history_lines, junit_xml, summary_csv
+    from .check.batch import (
+        HISTORY_HEADER,
+        check_batch,
+        history_lines,
+        junit_xml,
+        summary_csv,
+    )
     from .check.profile import load_profile
     from .report.html import unit_report_html
     profile = load_profile(src / "known_good_profile.toml")

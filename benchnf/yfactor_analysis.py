@@ -27,9 +27,16 @@ from .errors import CaptureError, MeasurementError, ParameterError
 from .io.sigmf_iq import IqCapture
 from .noise.floor import band_relative_std
 from .noise.uncertainty import Budget, propagate
-from .noise.yfactor import (EnrTable, check_temperature, hot_temperature_from_enr, join_output_loss,
-                            loss_noise_factor, noise_temperature_from_factor, noise_temperature_from_y,
-                            remove_input_loss)
+from .noise.yfactor import (
+    EnrTable,
+    check_temperature,
+    hot_temperature_from_enr,
+    join_output_loss,
+    loss_noise_factor,
+    noise_temperature_from_factor,
+    noise_temperature_from_y,
+    remove_input_loss,
+)
 from .streaming import stream_spectrum
 from .units import T0_K, fs_to_dbfs, power_db
 

@@ -11,7 +11,7 @@ from pathlib import Path
 import pytest
 
 sys.path.insert(0, str(Path(__file__).resolve().parent / "golden"))
-from cases import CASES, make_inputs, run_case, run_demo  # noqa: E402
+from golden_cases import CASES, make_inputs, run_case, run_demo  # noqa: E402
 
 EXPECTED = Path(__file__).resolve().parent / "golden" / "expected"
 

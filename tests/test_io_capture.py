@@ -50,7 +50,7 @@ def test_sidecar_supplies_metadata_and_must_agree(tmp_path):
 
 @pytest.mark.parametrize(("text", "pattern"), [("{nope", "not readable JSON"), ("[1]", "JSON object"),
                                                ('{"condition": "warm"}', "not one of"),
-                                               ('{"rs_ohm": -1}', "non-negative number")])
+                                               ('{"rs_ohm": -1}', "must be a number >= 0")])
 def test_bad_sidecars_are_refused(tmp_path, text, pattern):
     p, _ = _stereo(tmp_path)
     (tmp_path / "two.json").write_text(text)

@@ -113,7 +113,7 @@ def test_cli_cascade_json_contract(tmp_path, capsys):
     ('[[stage]]\nname = "a"\nnf_db = 3\n[[stage]]\nname = "b"\nnf_db = 3\n', "has no gain"),
     ('[[stage]]\nname = "a"\ngain_linear = 0\nnf_db = 3\n', "must be > 0"),
     ('[[stage]]\nname = "a"\ngain_db = 10\nnf_db = 3\ncolour = "red"\n', "unknown keys"),
-    ('[[stage]]\nname = "a"\ngain_db = 10\nnf_db = -3\n', "must be >= 0 dB"),
+    ('[[stage]]\nname = "a"\ngain_db = 10\nnf_db = -3\n', "nf_db=-3 must be a number >= 0"),
 ])
 def test_cli_cascade_bad_chain(tmp_path, capsys, toml, pattern):
     chain = tmp_path / "c.toml"

@@ -117,9 +117,14 @@ def load_plan(path: str | Path) -> Plan:
         steps.append(step)
     if not steps:
         raise ParameterError(f"plan {path} has no [[step]]")
+    from ..io.toml_file import number
+    rate = number(data.get("sample_rate_hz", 48_000.0), where=f"plan {path}", key="sample_rate_hz", low=1000.0,
+                  high=1e7)
+    channels = number(data.get("channels", 1), where=f"plan {path}", key="channels", low=1, high=64)
+    if not isinstance(data.get("analysis", {}), dict):
+        raise ParameterError(f"plan {path}: [analysis] must be a table")
     return Plan(str(data.get("name", path.stem)), tuple(steps), data.get("device"), data.get("host_api"),
-                float(data.get("sample_rate_hz", 48_000.0)), int(data.get("channels", 1)), data.get("out_dir"),
-                dict(data.get("analysis", {})))
+                rate, int(channels), data.get("out_dir"), dict(data.get("analysis", {})))
 
 
 def check_capture(path: Path, *, step: PlanStep, floor_path: Path | None) -> list[str]:

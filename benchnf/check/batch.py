@@ -10,8 +10,8 @@ error; the others are still checked.
 from __future__ import annotations
 
 import csv
-import io
 import datetime as _dt
+import io
 import json
 import os
 from concurrent.futures import ProcessPoolExecutor
@@ -80,7 +80,8 @@ def check_unit(unit: Path, profile_path: str, settings: dict[str, Any]) -> UnitO
         profile = load_profile(profile_path)
         results_file = unit / "results.json"
         if results_file.is_file():
-            results = json.loads(results_file.read_text(encoding="utf-8"))
+            from ..io.results_json import read_results
+            results = read_results(results_file)
         else:
             results = _analyse(unit, profile, settings)
         check = check_results(results, profile, unit=serial)
@@ -110,7 +111,10 @@ def _analyse(unit: Path, profile: Profile, settings: dict[str, Any]) -> dict[str
     tone = cap(roles["tone"], "tone")
     floor_path = roles.get("floor") or settings.get("floor")
     c = profile.conditions
-    rs = c.get("rs_ohm") or term.metadata.get("rs_ohm")
+    from ..measure import agree
+    rs = agree("source resistance", [(f"the sidecar of {unit.name}/{Path(roles['terminated']).name}",
+                                      term.metadata.get("rs_ohm")), ("the profile's conditions", c.get("rs_ohm"))],
+               unit=" ohm", fix="check this unit against a profile made at its source resistance")
     if rs is None:
         raise BenchError(f"unit {unit.name}: no source resistance (profile conditions or sidecar rs_ohm)")
     vin = tone.metadata.get("tone_input_vrms") or settings.get("tone_input_vrms")

@@ -224,6 +224,10 @@ def profile_from_data(data: dict[str, Any], *, where: str | Path) -> Profile:
                    str(data.get("notes", "")), str(path))
 
 
+# The figures a profile sets limits on; a results file that carries one must carry a number.
+_PROFILED = ("gain_db", "ein_dbu", "noise_figure_db", "nf_at_1khz_db")
+
+
 def profile_from_results(results: list[dict[str, Any]], *, margin_db: float = 1.0, name: str = "known good",
                          spread_k: float = 3.0) -> Profile:
     """Make a profile from the results of one or more known-good units.
@@ -246,6 +250,13 @@ def profile_from_results(results: list[dict[str, Any]], *, margin_db: float = 1.
                 raise ParameterError(f"the known-good units were measured under different conditions "
                                      f"({k}: {results[0].get(k)!r} and {r.get(k)!r}): make one profile per "
                                      f"condition")
+
+    for i, r in enumerate(results, 1):
+        for key in _PROFILED:
+            v = r.get(key)
+            if key in r and not (isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)):
+                raise ParameterError(f"results {i}: {key}={v!r} is not a number, so the profile would lack "
+                                     f"its limit: measure that unit again, or remove the key deliberately")
 
     def values(key):
         return np.array([r[key] for r in results if isinstance(r.get(key), (int, float))], dtype=float)

@@ -15,7 +15,13 @@ from typing import Any
 
 from ..errors import BenchError, BenchWarning
 from ..write import Writer
-from ._types import channel_index, non_negative_hz, positive_hz, positive_volts, segment_samples
+from ._types import (
+    channel_index,
+    non_negative_hz,
+    positive_hz,
+    positive_volts,
+    segment_samples,
+)
 
 # Attributes of a parsed command line that name files benchnf writes (everything else that is a path
 # is an input, protected by the writer).
@@ -74,19 +80,17 @@ def open_input(path: Path | None, *, condition: str | None, args: argparse.Names
     """Open a capture with the calibration that applies: --volts-per-fs, --calibration, sidecar."""
     if path is None:
         return None
-    from ..calibration import apply_calibration
-    from ..io import open_capture
+    from ..measure import open_calibrated
     if path.suffix.lower() in (".csv", ".txt"):
         from ..io.csv_trace import load_csv
         # Instrument CSV is in volts already: no sound-card calibration applies.
         return load_csv(path, rbw_hz=args.rbw_hz, detector=args.trace_detector,
                         reference_ohm=args.reference_ohm, enbw_ratio=args.enbw_ratio)
-    cap = open_capture(path, channel=args.channel if channel is None else channel,
-                       condition=condition, volts_per_fs=args.volts_per_fs,
-                       accept_dropouts=getattr(args, "accept_dropouts", False))
-    if args.volts_per_fs is None and cal is not None:
-        cap = apply_calibration(cap, cal)
-    return cap
+    return open_calibrated(path, channel=args.channel if channel is None else channel, condition=condition,
+                           volts_per_fs=args.volts_per_fs, calibration=cal,
+                           calibration_name=f"calibration {getattr(args, 'calibration', None)}",
+                           tolerance_pct=getattr(args, "calibration_limit_pct", 1.0),
+                           accept_dropouts=getattr(args, "accept_dropouts", False))
 
 
 def gain_for(args: argparse.Namespace, cal, tone_path: Path | None):
@@ -99,19 +103,6 @@ def gain_for(args: argparse.Namespace, cal, tone_path: Path | None):
     if args.gain_db is None:
         raise BenchError("give the gain: --tone FILE with --tone-input-vrms, or --gain-db G")
     return GainSetup(gain_db=args.gain_db, zin_ohm=getattr(args, "zin_ohm", None))
-
-
-def read_results(path: Path) -> dict[str, Any]:
-    import json
-    try:
-        data = json.loads(Path(path).read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise BenchError(f"{path}: no such results file") from None
-    except (OSError, UnicodeDecodeError, ValueError) as err:
-        raise BenchError(f"{path} is not a readable results JSON ({err})") from err
-    if not isinstance(data, dict) or "schema_version" not in data:
-        raise BenchError(f"{path} is not a benchnf results JSON (no schema_version)")
-    return data
 
 
 def verdict_table(rows: list[tuple[str, str, str]]) -> str:

@@ -9,7 +9,7 @@ from collections.abc import Callable
 __all__ = ["positive_ohm", "positive_volts", "positive_hz", "non_negative_hz", "kelvin", "non_negative_pct",
            "finite_db", "channel_index", "segment_samples", "positive_seconds", "channel_count", "resistor_kelvin",
            "celsius", "gain_db", "source_ohm", "update_rate", "finite_number", "positive_db", "fraction",
-           "whole_count", "loss_db"]
+           "whole_count", "loss_db", "mains_hz"]
 
 
 def _number(text: str, what: str, ok: Callable[[float], bool]) -> float:
@@ -36,6 +36,10 @@ def update_rate(text: str) -> float:
 
 def finite_number(text: str) -> float:
     return _number(text, "a finite number", lambda v: True)
+
+
+def mains_hz(text: str) -> float:
+    return _number(text, "a mains frequency from 16 to 440 Hz", lambda v: 16 <= v <= 440)
 
 
 def positive_volts(text: str) -> float:

@@ -8,11 +8,19 @@ from typing import Any
 
 from ..errors import BenchError
 from ..write import Writer
-from ._common import calibration_options, load_calibration, open_input, output_options, progress, write_outputs
+from ._common import (
+    calibration_options,
+    load_calibration,
+    open_input,
+    output_options,
+    progress,
+    write_outputs,
+)
 from ._types import (
     channel_index,
     finite_db,
     gain_db,
+    mains_hz,
     non_negative_hz,
     non_negative_pct,
     positive_hz,
@@ -69,7 +77,7 @@ def add_parser(sub: Any) -> None:
                         "(0 dB at 1 kHz) or 468-2k (0 dB at 2 kHz, for an RMS detector)")
     p.add_argument("--detector", choices=["rms", "qp"], default="rms",
                    help="rms, or qp: the BS.468-4 quasi-peak meter (with --weighting 468 only)")
-    p.add_argument("--mains-hz", type=positive_hz, metavar="F",
+    p.add_argument("--mains-hz", type=mains_hz, metavar="F",
                    help="mains fundamental for the hum families (default: found, 50 or 60)")
     p.add_argument("--flicker-range", type=positive_hz, nargs=2, metavar=("LO", "HI"),
                    help="range of the 1/f fit in Hz (default: band bottom to 10 kHz)")
@@ -111,10 +119,11 @@ def add_parser(sub: Any) -> None:
 def run(args: argparse.Namespace, writer: Writer) -> int:
     from ..analysis import analyze_gain_method
     from ..dsp.weighting import BAND_PRESETS, Band
+    from ..measure import agree, distinct_files
     from ..noise.uncertainty import StatedUncertainty
     from ..report.text import format_summary
     from ..units import dbu_to_vrms
-
+    distinct_files(args.terminated, "terminated repeats")
     cal = load_calibration(args)
     runs = [open_input(t, condition="terminated", args=args, cal=cal) for t in args.terminated]
     terminated = runs[0]
@@ -122,11 +131,17 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     shorted = open_input(args.shorted, condition="shorted", args=args, cal=cal)
     gain = _gain_setup(args, cal)
     meta = getattr(terminated, "metadata", {})
-    rs = args.rs if args.rs is not None else meta.get("rs_ohm")
+    rs = agree("source resistance", [("--rs", args.rs), (f"the sidecar of {args.terminated[0].name}",
+                                                           meta.get("rs_ohm"))], unit=" ohm")
     if rs is None:
         raise BenchError("give the source resistance with --rs OHM (the terminated capture's "
                          "sidecar does not state it)")
-    temperature = args.temperature_k if args.temperature_k is not None else meta.get("temperature_k", 290.0)
+    temperature = agree("source temperature", [("--temperature-k", args.temperature_k),
+                                               (f"the sidecar of {args.terminated[0].name}",
+                                                meta.get("temperature_k"))], default=290.0, unit=" K")
+    if args.flicker_range and args.flicker_range[0] >= args.flicker_range[1]:
+        raise BenchError(f"--flicker-range {args.flicker_range[0]:g} {args.flicker_range[1]:g}: the low edge must "
+                         f"be below the high edge")
     if args.band_preset:
         band = BAND_PRESETS[args.band_preset]
     else:

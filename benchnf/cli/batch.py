@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import sys
 from pathlib import Path
 from typing import Any
 
@@ -32,11 +33,20 @@ def add_parser(sub: Any) -> None:
 
 
 def run(args: argparse.Namespace, writer: Writer) -> int:
-    from ..check.batch import HISTORY_HEADER, check_batch, find_units, history_lines, junit_xml, summary_csv
+    from ..check.batch import (
+        HISTORY_HEADER,
+        check_batch,
+        find_units,
+        history_lines,
+        junit_xml,
+        summary_csv,
+    )
     from ..check.profile import load_profile
     from ..report.html import unit_png, unit_report_html
     profile = load_profile(args.profile)
     units = find_units(args.units)
+    if args.history:
+        writer.appendable(args.history, HISTORY_HEADER)  # refused before the output folder is made
     out = writer.folder(args.output)
     history = writer.appendable(args.history or out / "history.csv", HISTORY_HEADER)
     for name in ("summary.csv", "junit.xml", *(f"{u.name}.{x}" for u in units for x in ("html", "png"))):
@@ -64,6 +74,9 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     print(verdict_table([("unit", "verdict", "limits not passed / error")] + rows))
     print("\n  " + ", ".join(f"{v} {k.lower()}" for k, v in counts.items()))
     print(f"\nreports, summary.csv and junit.xml in {out}/; history appended to {history}")
+    if counts["ERROR"]:
+        print(f"benchnf: error: {counts['ERROR']} unit(s) could not be checked; the table above says why",
+              file=sys.stderr)
     if counts["FAIL"]:
         return ExitStatus.CHECK_FAILED
     return ExitStatus.BAD_INPUT if counts["ERROR"] else ExitStatus.OK

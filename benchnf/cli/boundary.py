@@ -18,7 +18,12 @@ import sys
 import warnings
 from typing import Any
 
-from ..errors import BenchError, BenchWarning, DeviceNotFoundError, MissingDependencyError
+from ..errors import (
+    BenchError,
+    BenchWarning,
+    DeviceNotFoundError,
+    MissingDependencyError,
+)
 from ..write import Writer
 from ._common import input_paths
 from .status import ExitStatus

@@ -7,7 +7,7 @@ from pathlib import Path
 from typing import Any
 
 from ..write import Writer
-from ._common import common_options, read_results
+from ._common import common_options
 from .status import ExitStatus
 
 
@@ -27,6 +27,7 @@ def add_parser(sub: Any) -> None:
 def run(args: argparse.Namespace, writer: Writer) -> int:
     from ..check.limits import check_results
     from ..check.profile import load_profile
+    from ..io.results_json import read_results
     profile = load_profile(args.profile)
     results = read_results(args.results)
     unit = args.unit or Path(args.results).stem

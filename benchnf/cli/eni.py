@@ -8,7 +8,13 @@ from typing import Any
 
 from ..errors import BenchError
 from ..write import Writer
-from ._common import gain_for, load_calibration, open_input, sweep_options, write_outputs
+from ._common import (
+    gain_for,
+    load_calibration,
+    open_input,
+    sweep_options,
+    write_outputs,
+)
 from ._types import gain_db, positive_ohm, positive_volts, resistor_kelvin, source_ohm
 from .status import ExitStatus
 

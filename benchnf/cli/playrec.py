@@ -8,7 +8,13 @@ from typing import Any
 
 from ..write import Writer
 from ._common import common_options, device_options, say_rate_note
-from ._types import channel_count, channel_index, finite_db, positive_hz, positive_seconds
+from ._types import (
+    channel_count,
+    channel_index,
+    finite_db,
+    positive_hz,
+    positive_seconds,
+)
 from .status import ExitStatus
 
 

@@ -8,7 +8,13 @@ from pathlib import Path
 from typing import Any
 
 from ..write import Writer
-from ._common import calibration_options, common_options, device_options, progress, say_rate_note
+from ._common import (
+    calibration_options,
+    common_options,
+    device_options,
+    progress,
+    say_rate_note,
+)
 from ._types import channel_count, positive_seconds, resistor_kelvin, source_ohm
 from .status import ExitStatus
 
@@ -32,6 +38,9 @@ def add_parser(sub: Any) -> None:
 
 def run(args: argparse.Namespace, writer: Writer) -> int:
     from ..acquire.record import record_to_file
+    from ..io.sidecar import sidecar_candidates
+    for p in (args.output, *sidecar_candidates(args.output)):
+        writer.target(p)  # refused before any device is opened
     say_rate_note(args.device, args.host_api, args.rate, warn=False)  # record_to_file's notes carry it
     meta = {k: v for k, v in (("rs_ohm", args.rs), ("temperature_k", args.temperature_k),
                               ("volts_per_fs", args.volts_per_fs)) if v is not None}

@@ -20,6 +20,36 @@ __all__ = ["open_capture", "AUDIO_SUFFIXES"]
 AUDIO_SUFFIXES = (".wav", ".flac", ".aif", ".aiff", ".w64", ".rf64", ".caf")
 
 
+# Encodings refused for noise analysis: lossy codecs and companding/low-resolution formats.
+LOSSY_SUBTYPES = frozenset({"ULAW", "ALAW", "PCM_S8", "PCM_U8", "IMA_ADPCM", "MS_ADPCM", "GSM610", "VOX_ADPCM",
+                            "G721_32", "G723_24", "G723_40", "NMS_ADPCM_16", "NMS_ADPCM_24", "NMS_ADPCM_32",
+                            "DWVW_12", "DWVW_16", "DWVW_24", "DWVW_N", "DPCM_8", "DPCM_16", "VORBIS", "OPUS",
+                            "MPEG_LAYER_I", "MPEG_LAYER_II", "MPEG_LAYER_III"})
+# One step of each integer PCM encoding in full-scale units.
+_QUANTUM_FS = {"PCM_16": 2.0 ** -15, "PCM_24": 2.0 ** -23, "PCM_32": 2.0 ** -31}
+
+
+def declared_frames(path: Path, file_format: str) -> int | None:
+    """The frame count an AIFF or W64 header declares (libsndfile reports what the file holds)."""
+    import struct
+    try:
+        with open(path, "rb") as fh:
+            head = fh.read(1 << 16)
+    except OSError:
+        return None
+    if file_format == "AIFF" and head[:4] == b"FORM":
+        at = head.find(b"COMM", 12)
+        if at >= 0 and at + 14 <= len(head):
+            return int(struct.unpack(">I", head[at + 10:at + 14])[0])
+    if file_format == "W64" and head[:4] == b"riff":
+        fmt_at, data_at = head.find(b"fmt "), head.find(b"data")
+        if fmt_at >= 0 and data_at >= 0 and data_at + 24 <= len(head) and fmt_at + 40 <= len(head):
+            block_align = struct.unpack("<H", head[fmt_at + 24 + 12:fmt_at + 24 + 14])[0]
+            data_bytes = struct.unpack("<Q", head[data_at + 16:data_at + 24])[0] - 24
+            return int(data_bytes // block_align) if block_align else None
+    return None
+
+
 def _soundfile():
     # soundfile is a core dependency; imported here to keep `benchnf --help` fast.
     from .._optional import require
@@ -73,7 +103,17 @@ def open_capture(path: str | Path, *, channel: int | None = None, condition: str
         raise CaptureError(f"{path} cannot be read as audio ({err}); give a complete WAV, FLAC "
                            f"or AIFF file") from err
     if info.frames <= 0:
-        raise CaptureError(f"{path} holds no samples: record it again")
+        hint = (" If it is a recording that was cut off, 'benchnf recover' rescues its samples"
+                if path.suffix.lower() in (".wav", ".rf64") else "")
+        raise CaptureError(f"{path} holds no samples (its header says so): record it again.{hint}")
+    if info.subtype in LOSSY_SUBTYPES:
+        raise CaptureError(f"{path} is encoded as {info.subtype_info} ({info.subtype}), a lossy or companded "
+                           f"encoding whose own noise and shaping falsify a noise measurement: record or "
+                           f"convert from the original as 16/24-bit PCM or float (WAV, FLAC, AIFF)")
+    declared = declared_frames(path, info.format)
+    if declared is not None and declared > info.frames:
+        raise CaptureError(f"{path} is truncated: its header promises {declared} frames but the file holds "
+                           f"{info.frames}; copy it again or record it again")
     # libsndfile quietly shortens a truncated WAV to what is there, so its header is judged here.
     layout = read_wav_layout(path)
     missing = layout.shortfall_bytes if layout is not None else 0
@@ -125,5 +165,5 @@ def open_capture(path: str | Path, *, channel: int | None = None, condition: str
                                f"only {got} could be read; record it again")
 
     return Capture(float(info.samplerate), n_frames, channel, int(info.channels), volts_per_fs,
-                   condition or side_condition, meta, path,
-                   reader if direct is None else direct_reader)
+                   condition or side_condition, meta, path, quantum_fs=_QUANTUM_FS.get(info.subtype),
+                   _reader=reader if direct is None else direct_reader)

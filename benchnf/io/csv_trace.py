@@ -40,8 +40,8 @@ from typing import Any
 import numpy as np
 
 from ..capture import Capture, check_condition
-from ..errors import CaptureError
 from ..dsp.spectrum import Psd
+from ..errors import CaptureError
 
 __all__ = ["load_csv", "LOG_AVERAGE_CORRECTION_DB"]
 

@@ -19,7 +19,21 @@ from ..errors import CaptureError
 
 __all__ = ["sidecar_candidates", "find_sidecar", "read_sidecar", "write_sidecar"]
 
-_NUMERIC_KEYS = ("volts_per_fs", "rs_ohm", "temperature_k")
+# Known numeric keys and the range each must lie in (low, high, low included?).
+_RANGES: dict[str, tuple[float, float, bool]] = {
+    "volts_per_fs": (0.0, 1e4, False), "rs_ohm": (0.0, 1e9, True), "temperature_k": (0.0, 1000.0, False),
+    "tone_input_vrms": (0.0, 1e3, False), "tone_hz": (0.0, 1e9, False), "meter_vrms": (0.0, 1e3, False),
+    "sample_rate_hz": (0.0, 1e9, False),
+}
+
+
+def _check_number(path: Path, key: str, value: Any) -> None:
+    low, high, closed = _RANGES[key]
+    ok = (isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
+          and (value >= low if closed else value > low) and value <= high)
+    if not ok:
+        rule = f"{'>=' if closed else '>'} {low:g} and <= {high:g}"
+        raise CaptureError(f"sidecar {path}: {key}={value!r} must be a number {rule}")
 
 
 def sidecar_candidates(capture_path: Path) -> tuple[Path, Path]:
@@ -52,13 +66,13 @@ def read_sidecar(capture_path: Path) -> dict[str, Any]:
         check_condition(meta.get("condition"))
     except ValueError as err:
         raise CaptureError(f"sidecar {path}: {err}") from err
-    for key in _NUMERIC_KEYS:
-        value = meta.get(key)
-        if value is not None and not (isinstance(value, (int, float)) and math.isfinite(value)
-                                      and value >= 0 and not isinstance(value, bool)):
-            raise CaptureError(f"sidecar {path}: {key}={value!r} must be a non-negative number")
-    if meta.get("volts_per_fs") == 0:
-        raise CaptureError(f"sidecar {path}: volts_per_fs must be > 0")
+    for key in _RANGES:
+        if meta.get(key) is not None:
+            _check_number(path, key, meta[key])
+    channel = meta.get("channel")
+    if channel is not None and not (isinstance(channel, int) and not isinstance(channel, bool) and channel >= 0):
+        raise CaptureError(f"sidecar {path}: channel={channel!r} must be a whole number >= 0 (channels count "
+                           f"from 0)")
     return meta
 
 

@@ -18,7 +18,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from .._optional import require
-from ..errors import CaptureError
+from ..errors import CaptureError, ParameterError
 
 __all__ = ["IqCapture", "open_sigmf", "open_wav_iq", "write_sigmf"]
 
@@ -66,15 +66,32 @@ class IqCapture:
                 for lab, s, c in self.segments if lab == label]
 
 
+def _check_meta_shape(meta_path: Path) -> None:
+    """The metadata's outline (global object, captures and annotations lists of objects) before the sigmf
+    library reads it: that library fails with a bare AttributeError on some malformed files."""
+    import json
+    try:
+        meta = json.loads(meta_path.read_text(encoding="utf-8"))
+    except (OSError, UnicodeDecodeError, ValueError) as err:
+        raise CaptureError(f"{meta_path} is not a readable SigMF recording ({err})") from err
+    if not isinstance(meta, dict) or not isinstance(meta.get("global"), dict):
+        raise CaptureError(f"{meta_path}: the SigMF metadata must be an object with a 'global' object")
+    for key in ("captures", "annotations"):
+        rows = meta.get(key, [])
+        if not (isinstance(rows, list) and all(isinstance(r, dict) for r in rows)):
+            raise CaptureError(f"{meta_path}: '{key}' must be a list of objects (SigMF core)")
+
+
 def open_sigmf(path: str | Path) -> IqCapture:
     """Open a SigMF recording (give the .sigmf-meta, the .sigmf-data or the base name)."""
     sigmffile = require("sigmf.sigmffile", extra=None, purpose="reading SigMF recordings")
     errors = require("sigmf.error", extra=None, purpose="reading SigMF recordings")
     path = Path(path)
     base = path.with_suffix("") if path.suffix in (".sigmf-meta", ".sigmf-data") else path
-    meta_path = base.with_suffix(".sigmf-meta")
+    meta_path = base.with_name(base.name + ".sigmf-meta")  # exactly: 'hot.2' is not 'hot'
     if not meta_path.is_file():
         raise CaptureError(f"{meta_path}: no such SigMF metadata file")
+    _check_meta_shape(meta_path)
     try:
         rec = sigmffile.fromfile(str(meta_path))
     except (errors.SigMFError, ValueError, OSError, KeyError) as err:
@@ -85,10 +102,18 @@ def open_sigmf(path: str | Path) -> IqCapture:
         raise CaptureError(f"{meta_path.name}: datatype {datatype!r} is not complex IQ; benchnf reads "
                            f"complex SigMF recordings (cf32_le, ci16_le, ...)")
     rate = g.get("core:sample_rate")
-    if not rate or float(rate) <= 0:
+    if rate is None:
         raise CaptureError(f"{meta_path.name} states no core:sample_rate: add it to the metadata")
-    captures = rec.get_captures()
-    centre = float(captures[0].get("core:frequency", 0.0)) if captures else 0.0
+    from .toml_file import number
+    try:
+        rate = number(rate, where=str(meta_path), key="core:sample_rate", low=0.0, high=1e12, low_open=True)
+        captures = rec.get_captures()
+        if not isinstance(captures, list) or not all(isinstance(c, dict) for c in captures):
+            raise CaptureError(f"{meta_path}: 'captures' must be a list of objects (SigMF core)")
+        centre = (number(captures[0].get("core:frequency", 0.0), where=str(meta_path), key="core:frequency",
+                         low=0.0, high=1e12) if captures else 0.0)
+    except ParameterError as err:
+        raise CaptureError(str(err)) from None
     try:
         total = int(rec.sample_count)
     except (AttributeError, TypeError):
@@ -136,8 +161,8 @@ def write_sigmf(base: str | Path, samples: NDArray[np.complexfloating], *, sampl
     """Write complex samples (full scale 1.0) as a SigMF recording; never overwrite."""
     sigmffile = require("sigmf.sigmffile", extra=None, purpose="writing SigMF recordings")
     base = Path(base)
-    data_path = base.with_suffix(".sigmf-data")
-    meta_path = base.with_suffix(".sigmf-meta")
+    data_path = base.with_name(base.name + ".sigmf-data")
+    meta_path = base.with_name(base.name + ".sigmf-meta")
     for p in (data_path, meta_path):
         if p.exists():
             raise CaptureError(f"{p} exists already: choose another name")

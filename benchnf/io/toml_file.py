@@ -2,12 +2,13 @@
 
 from __future__ import annotations
 
+import math
 from pathlib import Path
 from typing import Any
 
 from ..errors import ParameterError
 
-__all__ = ["read_toml", "parse_toml", "check_keys"]
+__all__ = ["read_toml", "parse_toml", "check_keys", "number"]
 
 
 def read_toml(path: str | Path, what: str) -> dict[str, Any]:
@@ -42,3 +43,16 @@ def parse_toml(text: str, what: str) -> dict[str, Any]:
         return tomllib.loads(text)
     except tomllib.TOMLDecodeError as err:
         raise ParameterError(f"{what} is not valid TOML ({err})") from err
+
+
+def number(value: Any, *, where: str, key: str, low: float = -math.inf, high: float = math.inf,
+           low_open: bool = False) -> float:
+    """`value` as a float if it is a number in range, else a ParameterError naming where, key, found and rule."""
+    ok = isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
+    if ok:
+        ok = (value > low if low_open else value >= low) and value <= high
+    if not ok:
+        rule = f"{'>' if low_open else '>='} {low:g}" if math.isfinite(low) else ""
+        rule += (" and " if rule and math.isfinite(high) else "") + (f"<= {high:g}" if math.isfinite(high) else "")
+        raise ParameterError(f"{where}: {key}={value!r} must be a number{' ' + rule if rule else ''}")
+    return float(value)

@@ -152,6 +152,19 @@ class Chain:
         return replace(self, stages=tuple(stages))
 
 
+# Plausible ranges of a stage's numbers in a chain file.
+_STAGE_RANGES = {"gain_db": (-100.0, 200.0), "nf_db": (0.0, 100.0), "te_k": (0.0, 1e8), "loss_db": (0.0, 100.0),
+                 "temperature_k": (0.0, 1e4), "en_v_per_rthz": (0.0, 1e-3), "in_a_per_rthz": (0.0, 1e-3),
+                 "output_ohm": (0.0, 1e9)}
+
+
+def _check_stage_numbers(st: dict[str, Any], where: str) -> None:
+    from ..io.toml_file import number
+    for key, (low, high) in _STAGE_RANGES.items():
+        if key in st and st[key] is not None:
+            st[key] = number(st[key], where=where, key=key, low=low, high=high)
+
+
 def load_chain(path: str | Path) -> Chain:
     """Read a chain file (TOML, docs/cascade.md): ``[[stage]]`` tables in order."""
     from ..io.toml_file import check_keys, read_toml
@@ -174,6 +187,7 @@ def load_chain(path: str | Path) -> Chain:
         if "voltage_gain_db" in st:
             st["gain_db"] = st.pop("voltage_gain_db")
         st.setdefault("name", f"stage {i}")
+        _check_stage_numbers(st, f"chain file {path}, stage {i}")
         try:
             stages.append(Stage(**st))
         except TypeError as err:

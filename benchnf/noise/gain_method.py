@@ -31,7 +31,6 @@ References
 
 from __future__ import annotations
 
-
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 

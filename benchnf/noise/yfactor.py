@@ -193,15 +193,22 @@ def load_enr_table(path: str | Path) -> EnrTable:
     if not path.is_file():
         raise ParameterError(f"ENR table {path}: no such file")
     if path.suffix.lower() == ".toml":
-        from ..io.toml_file import check_keys, read_toml
+        from ..io.toml_file import check_keys, number, read_toml
         data = read_toml(path, "ENR table")
-        check_keys(data, {"points", "cold_k", "enr_uncertainty_db", "name"}, f"ENR table {path}")
+        where = f"ENR table {path}"
+        check_keys(data, {"points", "cold_k", "enr_uncertainty_db", "name"}, where)
         pts = data.get("points")
         if not isinstance(pts, list) or not all(isinstance(p, list) and len(p) == 2 for p in pts):
             raise ParameterError(f"ENR table {path}: 'points' must be a list of [frequency_hz, enr_db]")
-        arr = np.array(pts, dtype=np.float64)
-        return EnrTable(arr[:, 0], arr[:, 1], float(data.get("cold_k", T0_K)),
-                        data.get("enr_uncertainty_db"), str(data.get("name", path.stem)))
+        arr = np.array([[number(f, where=where, key="frequency_hz", low=0.0, low_open=True),
+                         number(e, where=where, key="enr_db", low=-50.0, high=100.0)] for f, e in pts],
+                       dtype=np.float64).reshape(-1, 2)
+        u = data.get("enr_uncertainty_db")
+        return EnrTable(arr[:, 0], arr[:, 1],
+                        number(data.get("cold_k", T0_K), where=where, key="cold_k", low=0.0, high=1e4,
+                               low_open=True),
+                        None if u is None else number(u, where=where, key="enr_uncertainty_db", low=0.0, high=10.0),
+                        str(data.get("name", path.stem)))
     rows, cold = [], T0_K
     for line in path.read_text(encoding="utf-8").splitlines():
         line = line.strip()
@@ -209,7 +216,10 @@ def load_enr_table(path: str | Path) -> EnrTable:
             continue
         if line.startswith("#"):
             if "cold_k" in line and "=" in line:
-                cold = float(line.split("=", 1)[1])
+                try:
+                    cold = float(line.split("=", 1)[1])
+                except ValueError:
+                    raise ParameterError(f"ENR table {path}: {line!r} does not give cold_k as a number") from None
             continue
         parts = [p.strip() for p in line.replace(";", ",").split(",")]
         try:
@@ -220,4 +230,6 @@ def load_enr_table(path: str | Path) -> EnrTable:
     if not rows:
         raise ParameterError(f"ENR table {path} holds no rows of frequency_hz,enr_db")
     arr = np.array(rows)
+    if not (np.all(np.isfinite(arr)) and np.all(arr[:, 0] > 0) and math.isfinite(cold) and cold > 0):
+        raise ParameterError(f"ENR table {path}: frequencies and cold_k must be finite numbers > 0")
     return EnrTable(arr[:, 0], arr[:, 1], cold, None, path.stem)

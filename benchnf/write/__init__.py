@@ -115,8 +115,9 @@ class Writer:
     def folder(self, path: str | os.PathLike[str]) -> Path:
         """Create the output folder `path` (and its parents) if needed; return it."""
         p = Path(path)
-        if p.resolve() in self._inputs:
-            raise OutputError(f"{p} is an input of this run: choose another output folder")
+        resolved = p.resolve()
+        if resolved in self._inputs or any(q.is_dir() and q in resolved.parents for q in self._inputs):
+            raise OutputError(f"{p} is (inside) an input folder of this run: choose another output folder")
         if p.exists() and not p.is_dir():
             raise OutputError(f"{p} exists and is not a folder: choose another output folder")
         try:

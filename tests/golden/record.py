@@ -6,7 +6,7 @@ import tempfile
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
-from cases import CASES, make_inputs, run_case, run_demo  # noqa: E402
+from golden_cases import CASES, make_inputs, run_case, run_demo  # noqa: E402
 
 EXPECTED = Path(__file__).resolve().parent / "expected"
 

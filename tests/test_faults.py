@@ -1,0 +1,76 @@
+"""The fault suite: bad inputs across every command (see tests/faults/fault_cases.py).
+
+Each case must end with exit status 2 (or its stated status), exactly one line on stderr starting
+with 'benchnf: error:', no traceback, and every file of the bench exactly as it was (nothing
+changed, added or removed). The bench is seeded synthetic data (INVENTED DATA).
+"""
+
+import hashlib
+import shutil
+import sys
+from pathlib import Path
+
+import pytest
+
+sys.path.insert(0, str(Path(__file__).resolve().parent / "faults"))
+from fault_bench import make_base  # noqa: E402
+from fault_cases import MAY_WRITE, all_cases  # noqa: E402
+
+from benchnf.cli import main  # noqa: E402
+
+CASES = all_cases()
+
+
+@pytest.fixture(scope="module")
+def base(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("fault-base")
+    make_base(folder)
+    return folder
+
+
+def _state(folder: Path) -> dict[str, str]:
+    out = {}
+    for p in sorted(folder.rglob("*")):
+        key = str(p.relative_to(folder))
+        if p.is_symlink():
+            out[key] = "link:" + str(p.readlink())
+        elif p.is_file():
+            out[key] = hashlib.sha256(p.read_bytes()).hexdigest()
+        else:
+            out[key] = "folder"
+    return out
+
+
+@pytest.mark.parametrize(("name", "spoil", "argv", "status"), CASES, ids=[c[0] for c in CASES])
+def test_bad_input_is_refused_in_one_line_and_nothing_is_lost(base, tmp_path, capsys, name, spoil, argv, status):
+    d = tmp_path / "bench"
+    shutil.copytree(base, d, symlinks=True)
+    spoil(d)
+    before = _state(d)
+    rc = main([a.replace("{d}", str(d)) for a in argv])
+    err = capsys.readouterr().err.strip().splitlines()
+    assert "Traceback" not in "\n".join(err)
+    assert rc == status, f"exit {rc}: {err}"
+    assert len(err) == 1, err
+    assert err[0].startswith("benchnf: error:"), err
+    after = _state(d)
+    if name in MAY_WRITE:
+        after = {k: v for k, v in after.items() if not k.startswith(MAY_WRITE[name]) or k in before}
+    assert after == before, "a file was changed, added or removed"
+
+
+def test_the_suite_has_at_least_150_cases():
+    assert len(CASES) >= 150
+
+
+def test_sigmf_base_name_with_a_dot_reads_its_own_files(tmp_path):
+    # 'hot.2.sigmf-meta' used to be read as 'hot.sigmf-*' (demo captures, INVENTED DATA).
+    from benchnf.io.sigmf_iq import open_sigmf
+    demo = Path(__file__).resolve().parent.parent / "captures_demo"
+    for ext in (".sigmf-meta", ".sigmf-data"):
+        shutil.copy(demo / f"vhf_hot{ext}", tmp_path / f"hot.2{ext}")
+        shutil.copy(demo / f"vhf_cold{ext}", tmp_path / f"hot{ext}")
+    for given in ("hot.2", "hot.2.sigmf-meta", "hot.2.sigmf-data"):
+        assert open_sigmf(tmp_path / given).n_frames == open_sigmf(demo / "vhf_hot.sigmf-meta").n_frames
+        assert open_sigmf(tmp_path / given).label == open_sigmf(demo / "vhf_hot.sigmf-meta").label.replace(
+            "vhf_hot", "hot.2")
