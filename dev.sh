@@ -36,6 +36,7 @@ case "${1:-}" in
     shift
     ensure_venv
     cd "$here"
+    "$venv/bin/ruff" check --quiet . || { echo "dev.sh: ruff found problems (above)" >&2; exit 1; }
     set +e
     "$venv/bin/python" -m pytest "$@"
     rc=$?

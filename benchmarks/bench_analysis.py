@@ -54,7 +54,7 @@ def main() -> None:
                     pass
 
         def benchnf_analysis():
-            cap = lambda name, cond: open_capture(files[name], condition=cond, volts_per_fs=2.0)
+            cap = lambda name, cond: open_capture(files[name], condition=cond, volts_per_fs=2.0)  # noqa: E731
             return analyze_gain_method(
                 terminated=cap("terminated", "terminated"), floor=cap("floor", "floor"),
                 shorted=cap("shorted", "shorted"),

@@ -6,6 +6,7 @@ changed, added or removed). The bench is seeded synthetic data (INVENTED DATA).
 """
 
 import hashlib
+import os
 import shutil
 import sys
 from pathlib import Path
@@ -74,3 +75,31 @@ def test_sigmf_base_name_with_a_dot_reads_its_own_files(tmp_path):
         assert open_sigmf(tmp_path / given).n_frames == open_sigmf(demo / "vhf_hot.sigmf-meta").n_frames
         assert open_sigmf(tmp_path / given).label == open_sigmf(demo / "vhf_hot.sigmf-meta").label.replace(
             "vhf_hot", "hot.2")
+
+
+@pytest.fixture()
+def small_disk(tmp_path):
+    """A 96 KiB tmpfs (root only): the disk fills while plots are written."""
+    import subprocess
+    folder = tmp_path / "small"
+    folder.mkdir()
+    if os.geteuid() != 0 or subprocess.run(["mount", "-t", "tmpfs", "-o", "size=96k", "tmpfs", str(folder)],
+                                           capture_output=True).returncode != 0:
+        pytest.skip("needs root and mount to make a small file system")
+    yield folder
+    subprocess.run(["umount", str(folder)], check=False)
+
+
+def test_a_full_disk_gives_one_line_and_leaves_nothing_behind(base, small_disk, tmp_path, capsys):
+    d = tmp_path / "bench"
+    shutil.copytree(base, d, symlinks=True)
+    rc = main(["analyze", "--terminated", str(d / "terminated.wav"), "--floor", str(d / "floor.wav"), "--tone",
+               str(d / "tone.wav"), "--calibration", str(d / "cal.json"), "--quiet",
+               "--json", str(small_disk / "r.json"), "--plot", str(small_disk / "plots")])
+    err = capsys.readouterr().err.strip().splitlines()
+    assert rc == 2, err
+    assert len(err) == 1 and "the disk is full" in err[0], err
+    left = [p.name for p in small_disk.rglob("*") if p.is_file()]
+    assert not [n for n in left if n.endswith(".part")], left  # no half-written file
+    for p in small_disk.rglob("*.png"):
+        assert p.stat().st_size > 1000  # what is there is whole

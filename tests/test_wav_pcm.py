@@ -73,7 +73,7 @@ def test_lossy_and_companded_encodings_are_refused(tmp_path, subtype):
     p = tmp_path / f"{subtype}.wav"
     _write(p, subtype, 1)
     assert _direct_layout(sf.info(str(p)), read_wav_layout(p)) is None  # not decoded by benchnf's reader
-    with pytest.raises(CaptureError, match=f"lossy or companded encoding"):
+    with pytest.raises(CaptureError, match="lossy or companded encoding"):
         open_capture(p)
 
 
