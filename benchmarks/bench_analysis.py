@@ -28,7 +28,7 @@ def main() -> None:
     import soundfile as sf
     from scipy import signal
 
-    from benchnf.analysis import GainSetup, analyze_gain_method
+    from benchnf.measure import GainSetup, analyze_gain_method
     from benchnf.dsp.spectrum import default_segment_length
     from benchnf.io import open_capture
 

@@ -19,7 +19,7 @@ from _common import write_noise_wav
 CHILD = r"""
 import resource, sys, time
 sys.path.insert(0, {root!r})
-from benchnf.analysis import GainSetup, analyze_gain_method
+from benchnf.measure import GainSetup, analyze_gain_method
 from benchnf.io import open_capture
 t0 = time.perf_counter()
 r = analyze_gain_method(terminated=open_capture({path!r}, volts_per_fs=2.0),

@@ -26,12 +26,38 @@ _PUBLIC = {
     "Psd": "benchnf.dsp.spectrum",
     "fit_sine": "benchnf.dsp.tones",
     "Band": "benchnf.dsp.weighting",
-    "GainSetup": "benchnf.analysis",
-    "analyze_gain_method": "benchnf.analysis",
-    "AnalysisResult": "benchnf.analysis",
+    # every measurement and its result types
+    "GainSetup": "benchnf.measure.gain",
+    "GainEstimate": "benchnf.measure.gain",
+    "analyze_gain_method": "benchnf.measure.gain_method",
+    "AnalysisResult": "benchnf.measure.results",
+    "AnalysisSpectra": "benchnf.measure.results",
+    "SpotValue": "benchnf.measure.results",
+    "SpurValue": "benchnf.measure.results",
+    "RepeatSummary": "benchnf.measure.results",
+    "analyze_yfactor": "benchnf.measure.yfactor",
+    "HotColdSource": "benchnf.measure.yfactor",
+    "Loss": "benchnf.measure.yfactor",
+    "YFactorResult": "benchnf.measure.yfactor",
+    "YRow": "benchnf.measure.yfactor",
+    "measured_budget": "benchnf.measure.stages",
+    "BudgetResult": "benchnf.measure.stages",
+    "TapResult": "benchnf.measure.stages",
+    "extract_en_in": "benchnf.measure.stages",
+    "EniResult": "benchnf.measure.stages",
+    "Chain": "benchnf.noise.cascade",
+    "Stage": "benchnf.noise.cascade",
+    "load_chain": "benchnf.noise.cascade",
+    "predict": "benchnf.noise.cascade",
+    "CascadeResult": "benchnf.noise.cascade",
+    "Profile": "benchnf.check.profile",
+    "load_profile": "benchnf.check.profile",
+    "check_results": "benchnf.check.limits",
+    "CheckResult": "benchnf.check.limits",
+    "Writer": "benchnf.write",
 }
-_SUBMODULES = {"units", "errors", "capture", "io", "dsp", "noise", "analysis", "calibration",
-               "report", "cli", "demo"}
+_SUBMODULES = {"units", "errors", "capture", "io", "dsp", "noise", "measure", "calibration",
+               "report", "cli", "demo", "check", "write"}
 
 __all__ = sorted(_PUBLIC) + ["__version__"]
 

@@ -26,7 +26,7 @@ def run_demo(*, output: Path = Path("benchnf-results"), quiet: bool = False, wri
 
     Returns the results folder.
     """
-    from .analysis import GainSetup, analyze_gain_method
+    from .measure import GainSetup, analyze_gain_method
     from .calibration import apply_calibration, calibrate_from_tone
     from .dsp.weighting import Band
     from .io import open_capture
@@ -97,13 +97,13 @@ def _figures(writer: Writer, out: Path, figures: list) -> None:
 
 def _stage_demos(src: Path, out: Path, cal, tone, terminated, writer: Writer) -> list[str]:
     """The head amplifier's measured stage budget against its part data, and en/in from an Rs sweep."""
-    from .analysis import GainSetup
+    from .measure import GainSetup
     from .calibration import apply_calibration
     from .io import open_capture
     from .noise.cascade import load_chain
     from .report.plots import budget_figures, eni_figures
     from .report.stages_text import format_budget, format_eni
-    from .stages import extract_en_in, measured_budget
+    from .measure.stages import extract_en_in, measured_budget
 
     def cap(name: str):
         return apply_calibration(open_capture(src / f"{name}.flac"), cal)
@@ -165,7 +165,7 @@ def _yfactor_demos(src: Path, out: Path, truth: dict, writer: Writer) -> list[st
     from .noise.yfactor import load_enr_table
     from .report.plots import yfactor_figures
     from .report.yfactor_text import format_yfactor
-    from .yfactor_analysis import HotColdSource, analyze_yfactor
+    from .measure.yfactor import HotColdSource, analyze_yfactor
 
     vhf = analyze_yfactor(hot=open_sigmf(src / "vhf_hot.sigmf-meta"), cold=open_sigmf(src / "vhf_cold.sigmf-meta"),
                           cal_hot=open_sigmf(src / "vhf_cal_hot.sigmf-meta"),

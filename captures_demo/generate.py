@@ -328,7 +328,7 @@ def write_known_good_profile(force: bool) -> None:
     """The known-good profile, made by benchnf from the main demo unit (as 'benchnf profile' would)."""
     import sys
     sys.path.insert(0, str(HERE.parent))
-    from benchnf.analysis import GainSetup, analyze_gain_method
+    from benchnf.measure import GainSetup, analyze_gain_method
     from benchnf.calibration import apply_calibration, calibrate_from_tone
     from benchnf.check.profile import profile_from_results
     from benchnf.io import open_capture

@@ -4,7 +4,7 @@ import math
 
 import pytest
 
-from benchnf.analysis import GainSetup, analyze_gain_method
+from benchnf.measure import GainSetup, analyze_gain_method
 from benchnf.errors import MeasurementError
 from benchnf.units import vrms_to_dbu
 

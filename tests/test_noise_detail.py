@@ -8,7 +8,7 @@ import math
 import numpy as np
 import pytest
 
-from benchnf.analysis import GainSetup, analyze_gain_method
+from benchnf.measure import GainSetup, analyze_gain_method
 from benchnf.capture import Capture
 from benchnf.dsp.spectrum import welch_psd
 from benchnf.dsp.spurs import find_lines, hum_hints

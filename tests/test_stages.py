@@ -8,12 +8,12 @@ import numpy as np
 import pytest
 import soundfile as sf
 
-from benchnf.analysis import GainSetup
+from benchnf.measure import GainSetup
 from benchnf.capture import Capture
 from benchnf.cli import ExitStatus, main
 from benchnf.errors import ParameterError
 from benchnf.noise.cascade import Chain, Stage, load_chain
-from benchnf.stages import extract_en_in, measured_budget
+from benchnf.measure.stages import extract_en_in, measured_budget
 
 K = 1.380649e-23
 FS = 48_000.0

@@ -13,7 +13,7 @@ from benchnf.cli import ExitStatus, main
 from benchnf.errors import CaptureError, MeasurementError
 from benchnf.io.sigmf_iq import open_sigmf, write_sigmf
 from benchnf.noise.yfactor import EnrTable
-from benchnf.yfactor_analysis import HotColdSource, Loss, analyze_yfactor
+from benchnf.measure.yfactor import HotColdSource, Loss, analyze_yfactor
 
 T0 = 290.0
 

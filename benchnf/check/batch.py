@@ -93,7 +93,7 @@ def check_unit(unit: Path, profile_path: str, settings: dict[str, Any]) -> UnitO
 
 
 def _analyse(unit: Path, profile: Profile, settings: dict[str, Any]) -> dict[str, Any]:
-    from ..analysis import GainSetup, analyze_gain_method
+    from ..measure import GainSetup, analyze_gain_method
     from ..calibration import Calibration, apply_calibration
     from ..dsp.weighting import Band
     from ..io import open_capture

@@ -94,7 +94,7 @@ def open_input(path: Path | None, *, condition: str | None, args: argparse.Names
 
 
 def gain_for(args: argparse.Namespace, cal, tone_path: Path | None):
-    from ..analysis import GainSetup
+    from ..measure import GainSetup
     if tone_path is not None:
         tone = open_input(tone_path, condition="tone", args=args, cal=cal)
         vin = args.tone_input_vrms if args.tone_input_vrms is not None else tone.metadata.get("tone_input_vrms")

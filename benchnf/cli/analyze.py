@@ -117,7 +117,7 @@ def add_parser(sub: Any) -> None:
 
 
 def run(args: argparse.Namespace, writer: Writer) -> int:
-    from ..analysis import analyze_gain_method
+    from ..measure import analyze_gain_method
     from ..dsp.weighting import BAND_PRESETS, Band
     from ..measure import agree, distinct_files
     from ..noise.uncertainty import StatedUncertainty
@@ -167,7 +167,7 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
 
 
 def _gain_setup(args: argparse.Namespace, cal):
-    from ..analysis import GainSetup
+    from ..measure import GainSetup
     tone = open_input(args.tone, condition="tone", args=args, cal=cal)
     response = None
     if args.response is not None:

@@ -42,7 +42,7 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     from ..dsp.weighting import Band
     from ..noise.cascade import load_chain
     from ..report.stages_text import format_budget
-    from ..stages import measured_budget
+    from ..measure.stages import measured_budget
     chain = load_chain(args.chain) if args.chain else None
     cal = load_calibration(args)
     taps = []

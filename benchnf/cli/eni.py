@@ -52,7 +52,7 @@ def _sweep_item(text: str) -> tuple[Path, float, Path | None]:
 def run(args: argparse.Namespace, writer: Writer) -> int:
     from ..dsp.weighting import Band
     from ..report.stages_text import format_eni
-    from ..stages import extract_en_in
+    from ..measure.stages import extract_en_in
     cal = load_calibration(args)
     sweep = []
     temps = []

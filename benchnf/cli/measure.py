@@ -44,7 +44,7 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
 
     files = run_plan(plan, record=record, folder=folder, interactive=not args.yes)
     if {"terminated", "tone"} <= set(files):
-        from ..analysis import GainSetup, analyze_gain_method
+        from ..measure import GainSetup, analyze_gain_method
         from ..dsp.weighting import Band
         from ..io import open_capture
         from ..report.text import format_summary

@@ -79,7 +79,7 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     from ..dsp.weighting import Band
     from ..noise.yfactor import EnrTable, load_enr_table
     from ..report.yfactor_text import format_yfactor
-    from ..yfactor_analysis import HotColdSource, Loss, analyze_yfactor
+    from ..measure.yfactor import HotColdSource, Loss, analyze_yfactor
 
     if args.annotated is not None:
         rec = _open_rf(args.annotated, args)

@@ -10,7 +10,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from .._optional import require
-from ..analysis import AnalysisResult
+from ..measure import AnalysisResult
 from ..units import thermal_density_v2_per_hz
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -41,7 +41,7 @@ def _decorate(ax, r: AnalysisResult, title: str) -> None:
     lo, hi = r.band_hz
     ax.axvspan(lo, hi, color="0.93", zorder=0, label=f"band {lo:g}-{hi:g} Hz")
     ax.set_xscale("log")
-    ax.set_xlim(max(r.spectra["frequency_hz"][1], 1.0), r.sample_rate_hz / 2)
+    ax.set_xlim(max(r.spectra.frequency_hz[1], 1.0), r.sample_rate_hz / 2)
     ax.grid(True, which="both", alpha=0.3)
     ax.set_xlabel("Frequency (Hz)")
     if ax.get_yscale() == "log":
@@ -54,7 +54,7 @@ def _decorate(ax, r: AnalysisResult, title: str) -> None:
 
 
 def _sel(r: AnalysisResult):
-    f = r.spectra["frequency_hz"]
+    f = r.spectra.frequency_hz
     return f, f > 0
 
 
@@ -62,15 +62,15 @@ def plot_output_spectrum(r: AnalysisResult, *, ax: "Axes | None" = None) -> "Axe
     """Output noise density with the analyzer floor and the floor-subtracted curve."""
     ax = _axes(ax)
     f, s = _sel(r)
-    ax.loglog(f[s], np.sqrt(r.spectra["output_v2_per_hz"][s]) * 1e9, color="tab:blue", lw=0.8,
+    ax.loglog(f[s], np.sqrt(r.spectra.output_v2_per_hz[s]) * 1e9, color="tab:blue", lw=0.8,
               label="DUT output, as measured")
-    if r.spectra["floor_v2_per_hz"] is not None:
-        ax.loglog(f[s], np.sqrt(r.spectra["floor_v2_per_hz"][s]) * 1e9, color="0.45", lw=0.8,
+    if r.spectra.floor_v2_per_hz is not None:
+        ax.loglog(f[s], np.sqrt(r.spectra.floor_v2_per_hz[s]) * 1e9, color="0.45", lw=0.8,
                   label="analyzer floor")
-        ax.loglog(f[s], np.sqrt(r.spectra["output_corrected_v2_per_hz"][s]) * 1e9, color="tab:orange",
+        ax.loglog(f[s], np.sqrt(r.spectra.output_corrected_v2_per_hz[s]) * 1e9, color="tab:orange",
                   lw=0.8, alpha=0.8, label="DUT output, floor subtracted")
-    lines = r.spectra.get("lines") or ()
-    out = np.sqrt(r.spectra["output_v2_per_hz"]) * 1e9
+    lines = r.spectra.lines or ()
+    out = np.sqrt(r.spectra.output_v2_per_hz) * 1e9
     for i, ln in enumerate(lines[:12]):
         k = int(round(ln.freq_hz / (f[1] - f[0])))
         ax.plot(ln.freq_hz, out[k] * 1.25, "v", color="tab:red", ms=6,
@@ -86,15 +86,15 @@ def plot_input_density(r: AnalysisResult, *, ax: "Axes | None" = None) -> "Axes"
     """Input-referred noise density with the source resistor's thermal line."""
     ax = _axes(ax)
     f, s = _sel(r)
-    ax.loglog(f[s], np.sqrt(r.spectra["input_v2_per_hz"][s]) * 1e9, color="tab:blue", lw=0.7,
+    ax.loglog(f[s], np.sqrt(r.spectra.input_v2_per_hz[s]) * 1e9, color="tab:blue", lw=0.7,
               alpha=0.6, label=f"input-referred, Rs = {r.rs_ohm:g} \u03a9")
     spot_f = [p.freq_hz for p in r.spot if p.input_density_v_per_rthz]
     spot_v = [p.input_density_v_per_rthz * 1e9 for p in r.spot if p.input_density_v_per_rthz]
     ax.loglog(spot_f, spot_v, "o", color="tab:blue", ms=4, label="1/3-octave means")
-    if r.spectra["voltage_noise_v2_per_hz"] is not None:
-        ax.loglog(f[s], np.sqrt(r.spectra["voltage_noise_v2_per_hz"][s]) * 1e9, color="tab:green",
+    if r.spectra.voltage_noise_v2_per_hz is not None:
+        ax.loglog(f[s], np.sqrt(r.spectra.voltage_noise_v2_per_hz[s]) * 1e9, color="tab:green",
                   lw=0.7, alpha=0.7, label="voltage noise (input shorted)")
-    fit = r.spectra.get("flicker")
+    fit = r.spectra.flicker
     if fit is not None:
         ff = np.geomspace(max(f[1], 1.0), r.sample_rate_hz / 2, 300)
         ax.loglog(ff, np.sqrt(fit.model_v2_per_hz(ff)) * 1e9, color="k", lw=1.0, ls="-.",
@@ -115,7 +115,7 @@ def plot_noise_figure(r: AnalysisResult, *, ax: "Axes | None" = None) -> "Axes":
     """Spot noise figure against frequency, with the band figure."""
     ax = _axes(ax)
     f, s = _sel(r)
-    ax.semilogx(f[s], r.spectra["noise_figure_db"][s], color="tab:purple", lw=0.6, alpha=0.5,
+    ax.semilogx(f[s], r.spectra.noise_figure_db[s], color="tab:purple", lw=0.6, alpha=0.5,
                 label="per bin")
     spot_f = [p.freq_hz for p in r.spot if p.noise_figure_db is not None]
     spot_nf = [p.noise_figure_db for p in r.spot if p.noise_figure_db is not None]

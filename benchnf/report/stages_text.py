@@ -5,7 +5,7 @@ from __future__ import annotations
 import math
 
 from ..noise.cascade import CascadeResult
-from ..stages import BudgetResult, EniResult
+from ..measure.stages import BudgetResult, EniResult
 
 __all__ = ["format_cascade", "format_budget", "format_eni"]
 

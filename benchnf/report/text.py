@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import math
 
-from ..analysis import AnalysisResult
+from ..measure import AnalysisResult
 
 __all__ = ["format_summary", "si_volts", "density_text"]
 

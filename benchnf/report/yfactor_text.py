@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import math
 
-from ..yfactor_analysis import YFactorResult
+from ..measure.yfactor import YFactorResult
 
 __all__ = ["format_yfactor"]
 

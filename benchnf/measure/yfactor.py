@@ -19,15 +19,15 @@ from typing import Any, Union
 import numpy as np
 from numpy.typing import NDArray
 
-from .capture import Capture
-from .dsp.integrate import band_bin_weights
-from .dsp.spectrum import Psd, default_segment_length, pool_psds, welch_iq_psd
-from .dsp.weighting import Band
-from .errors import CaptureError, MeasurementError, ParameterError
-from .io.sigmf_iq import IqCapture
-from .noise.floor import band_relative_std
-from .noise.uncertainty import Budget, propagate
-from .noise.yfactor import (
+from ..capture import Capture
+from ..dsp.integrate import band_bin_weights
+from ..dsp.spectrum import Psd, default_segment_length, pool_psds, welch_iq_psd
+from ..dsp.weighting import Band
+from ..errors import CaptureError, MeasurementError, ParameterError
+from ..io.sigmf_iq import IqCapture
+from ..noise.floor import band_relative_std
+from ..noise.uncertainty import Budget, propagate
+from ..noise.yfactor import (
     EnrTable,
     check_temperature,
     hot_temperature_from_enr,
@@ -37,8 +37,8 @@ from .noise.yfactor import (
     noise_temperature_from_y,
     remove_input_loss,
 )
-from .streaming import stream_spectrum
-from .units import T0_K, fs_to_dbfs, power_db
+from ..streaming import stream_spectrum
+from ..units import T0_K, fs_to_dbfs, power_db
 
 __all__ = ["HotColdSource", "Loss", "YRow", "YFactorResult", "analyze_yfactor", "SCHEMA_VERSION"]
 
@@ -166,7 +166,7 @@ class YFactorResult:
     budgets: dict[str, Budget] = field(repr=False, compare=False)
 
     def to_dict(self) -> dict[str, Any]:
-        from ._json import json_safe
+        from .._json import json_safe
         out: dict[str, Any] = {"schema_version": SCHEMA_VERSION, "kind": "yfactor"}
         for key, value in self.__dict__.items():
             if key == "budgets":

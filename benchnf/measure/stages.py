@@ -1,6 +1,6 @@
 """Where the noise comes from: measured stage budgets from tap captures, and en/in from an Rs sweep.
 
-Both build on the gain-method pieces of :mod:`benchnf.analysis`: each capture
+Both build on the gain-method pieces of :mod:`benchnf.measure.gain_method`: each capture
 gives an input-referred density ``e^2(f) = (S - S_floor) / |G|^2`` (lines
 removed), with the variance of every bin from the Welch statistics of the
 capture and of the floor, ``var = (2/nu_m S_m^2 + 2/nu_f S_f^2) / |G|^4``.
@@ -18,18 +18,19 @@ from typing import Any
 import numpy as np
 from numpy.typing import NDArray
 
-from ._json import json_safe
-from .analysis import GainSetup, capture_psd, measure_gain
-from .capture import Capture
-from .dsp.integrate import band_bin_weights
-from .dsp.spectrum import Psd, default_segment_length
-from .dsp.spurs import find_lines
-from .dsp.weighting import Band
-from .errors import CaptureError, ParameterError
-from .noise.cascade import Chain, predict
-from .noise.gain_method import third_octave_centres_hz, third_octave_weights
-from .noise.twoport import EnInFit, fit_en_in, noise_factor_vs_rs
-from .units import BOLTZMANN_J_PER_K, T0_K
+from .._json import json_safe
+from .gain import GainSetup, measure_gain
+from .noise_inputs import capture_psd
+from ..capture import Capture
+from ..dsp.integrate import band_bin_weights
+from ..dsp.spectrum import Psd, default_segment_length
+from ..dsp.spurs import find_lines
+from ..dsp.weighting import Band
+from ..errors import CaptureError, ParameterError
+from ..noise.cascade import Chain, predict
+from ..noise.gain_method import third_octave_centres_hz, third_octave_weights
+from ..noise.twoport import EnInFit, fit_en_in, noise_factor_vs_rs
+from ..units import BOLTZMANN_J_PER_K, T0_K
 
 __all__ = ["InputReferred", "input_referred", "TapResult", "BudgetResult", "measured_budget",
            "EniResult", "extract_en_in", "SCHEMA_VERSION"]

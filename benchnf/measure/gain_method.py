@@ -1,0 +1,609 @@
+"""The gain-method analysis as named steps: captures in, one frozen :class:`AnalysisResult` out.
+
+Steps (each a function below, small typed intermediates between them):
+
+1. ``_prepare``: validate the request; one sample rate; one calibration; the segment length.
+2. ``_spectra``: checked Welch spectra of the terminated runs (pooled), the floor and the shorted input.
+3. ``_lines``: hum and spur lines found on each spectrum, replaced by their baseline.
+4. ``_floor``: band weights; the floor margin (refused below resolvability); floor subtraction.
+5. ``_band_figures``: input-referred density, EIN, band noise factor, output noise.
+6. ``_voltage_noise``: the shorted input's voltage noise, referred through the gain at the terminals.
+7. spot values, spurs at the input, the 1/f corner, the quasi-peak reading.
+8. ``_budgets``: the uncertainty budgets and the notes they imply.
+9. ``_assemble``: the frozen result.
+
+See docs/method.md for every equation.
+"""
+
+from __future__ import annotations
+
+import math
+import warnings
+from collections.abc import Iterator, Sequence
+from contextlib import contextmanager
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+from numpy.typing import NDArray
+
+from ..capture import Capture
+from ..dsp.integrate import band_bin_weights
+from ..dsp.spectrum import Psd, default_segment_length, pool_psds
+from ..dsp.spurs import LineSearch, find_lines, hum_hints
+from ..dsp.weighting import Band, weighting_power_gain
+from ..errors import BenchWarning, CaptureError, MeasurementError, ParameterError
+from ..noise.floor import band_relative_std, check_band_margin, subtract_floor
+from ..noise.gain_method import (
+    band_noise_factor,
+    check_source,
+    spot_means,
+    spot_noise_factor,
+    third_octave_centres_hz,
+    third_octave_weights,
+)
+from ..noise.uncertainty import Budget, StatedUncertainty, dut_power_rel_std, ein_budget, gain_budget, nf_budget
+from ..units import BOLTZMANN_J_PER_K, T0_K, power_db, thermal_density_v2_per_hz, vrms_to_dbu, vrms_to_dbv
+from .gain import GainEstimate, GainSetup, measure_gain
+from .noise_inputs import NoiseInput, Progress, capture_psd, check_rates, label_of, path_of, with_vpfs
+from .results import DETECTORS, AnalysisResult, AnalysisSpectra, RepeatSummary, SpotValue, SpurValue
+
+__all__ = ["analyze_gain_method"]
+
+_MAX_QP_SECONDS = 30.0
+
+
+# -- intermediates ------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class _Prepared:
+    runs: list[NoiseInput]
+    floor: NoiseInput | None
+    shorted: NoiseInput | None
+    fs: float
+    seg: int
+    vpfs: float | None
+
+
+@dataclass(frozen=True)
+class _Spectra:
+    runs: list[Psd]
+    term: Psd
+    floor: Psd | None
+    short: Psd | None
+
+    @property
+    def f(self) -> NDArray[np.float64]:
+        return self.term.frequency_hz
+
+
+@dataclass(frozen=True)
+class _Lines:
+    term: LineSearch
+    floor: LineSearch | None
+    short: LineSearch | None
+
+
+@dataclass(frozen=True)
+class _FloorStep:
+    w_band: NDArray[np.float64]
+    used: NDArray[np.bool_]
+    enbw_bins: float
+    m_band: float
+    m_rel: float
+    f_band: float | None
+    f_rel: float | None
+    margin_db: float | None
+    out_diff: NDArray[np.float64]
+    out_diff_spurs: NDArray[np.float64]
+
+
+@dataclass(frozen=True)
+class _BandFigures:
+    e2_diff: NDArray[np.float64]
+    ein_power: float
+    ein: float
+    ein_spurs: float
+    noise_factor: float
+    b_w: float
+    thermal: float
+    out_noise: float
+    out_spurs: float
+    out_raw: float
+
+
+@contextmanager
+def _notes_from_warnings(notes: list[str]) -> Iterator[None]:
+    """Our warnings raised inside become notes of the result; a library's pass through unchanged."""
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", BenchWarning)
+        yield
+    notes.extend(str(w.message) for w in caught if issubclass(w.category, BenchWarning))
+    for w in caught:
+        if not issubclass(w.category, BenchWarning):
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+
+
+# -- the pipeline ---------------------------------------------------------------------------------
+def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: GainSetup, rs_ohm: float,
+                        temperature_k: float = T0_K, floor: NoiseInput | None = None,
+                        shorted: NoiseInput | None = None, band: Band = Band(20.0, 20_000.0),
+                        weighting: str = "none", detector: str = "rms", segment_length: int | None = None,
+                        mains_hz: float | None = None, flicker_range_hz: tuple[float, float] | None = None,
+                        flicker_free_slope: bool = False, stated: StatedUncertainty = StatedUncertainty(),
+                        reference_output_vrms: float | None = None,
+                        progress: Progress | None = None) -> AnalysisResult:
+    """Gain, input-referred noise density, EIN and noise figure from captures.
+
+    Parameters
+    ----------
+    terminated : Capture, Psd, or a sequence of them
+        DUT output with its input terminated in `rs_ohm`; calibrated.  Several
+        captures of the one condition are pooled, and their scatter and drift
+        reported.
+    gain : GainSetup
+        How the gain is known.
+    rs_ohm : float
+        Source resistance in ohm, > 0.
+    temperature_k : float
+        Physical temperature of the source resistor in kelvin (290 K).
+    floor : Capture or Psd, optional
+        Analyzer alone, input terminated; subtracted in linear power.
+    shorted : Capture or Psd, optional
+        DUT output with its input shorted: the DUT's voltage noise alone.
+    band : Band
+        Integration band (20 Hz-20 kHz).
+    weighting : str
+        ``none``, ``A``, ``C``, ``468`` or ``468-2k``.
+    detector : str
+        ``rms``, or ``qp`` (the BS.468-4 quasi-peak meter, with ``468`` only).
+    segment_length : int, optional
+        Welch segment length; default about 3 Hz bins.
+    mains_hz : float, optional
+        Mains fundamental; found among 50 and 60 Hz when omitted.
+    flicker_range_hz : (float, float), optional
+        Range of the 1/f fit (default: the band's bottom to 10 kHz).
+    flicker_free_slope : bool
+        Fit the 1/f exponent too.
+    stated : StatedUncertainty
+        Limits of the user-stated quantities, for the uncertainty budget.
+    reference_output_vrms : float, optional
+        Output level for an SNR figure.
+    progress : callable, optional
+        Called with the number of frames read, as reading proceeds.
+
+    Returns
+    -------
+    AnalysisResult
+
+    Raises
+    ------
+    BenchError
+        Bad or mismatched captures, impossible parameters, DUT not resolved
+        above the floor.
+
+    References
+    ----------
+    .. [1] See :mod:`benchnf.noise.gain_method` and docs/method.md.
+    """
+    _validate(rs_ohm=rs_ohm, temperature_k=temperature_k, weighting=weighting, detector=detector,
+              reference_output_vrms=reference_output_vrms)
+    prep = _prepare(terminated=terminated, floor=floor, shorted=shorted, gain=gain, band=band,
+                    segment_length=segment_length)
+    notes: list[str] = []
+    with _notes_from_warnings(notes):
+        spec = _spectra(prep, progress=progress)
+        g = measure_gain(gain, frequency_hz=spec.f, rs_ohm=rs_ohm, segment_length=prep.seg,
+                         output_volts_per_fs=prep.vpfs, band=band)
+        lines = _lines(spec, mains_hz=mains_hz)
+        fl = _floor(spec, lines, band=band, weighting=weighting, what=f"terminated capture {label_of(prep.runs[0])}",
+                    notes=notes)
+    bf = _band_figures(spec, fl, g, band=band, weighting=weighting, rs_ohm=rs_ohm, temperature_k=temperature_k)
+    ein_reported = bf.ein if detector != "qp" else _qp_ein(prep.runs[0], spec.term, spec.floor, fl.w_band, g, notes)
+    en_diff = _voltage_noise(prep, spec, lines, fl, g, gain=gain, rs_ohm=rs_ohm, notes=notes)
+    spots = _spots(spec.f, band, prep.fs, spec.term, spec.floor, spec.short, lines.term.cleaned,
+                   lines.floor.cleaned if lines.floor is not None else None,
+                   lines.short.cleaned if lines.short is not None else None, fl.out_diff, bf.e2_diff, en_diff,
+                   rs_ohm, temperature_k, notes)
+    at_1k = next((s for s in spots if s.freq_hz == 1000.0), None)
+    flicker, flicker_on = _flicker(spec.f, en_diff, bf.e2_diff, lines.term, spec.term, band, flicker_range_hz,
+                                   flicker_free_slope, notes)
+    budgets = _budgets(spec, lines, fl, bf, g, gain=gain, stated=stated, at_1k=at_1k, ein_reported=ein_reported,
+                       rs_ohm=rs_ohm, temperature_k=temperature_k, notes=notes)
+    repeats = _repeat_summary(spec, lines, fl, g, band=band, weighting=weighting, rs_ohm=rs_ohm,
+                              temperature_k=temperature_k, notes=notes)
+    return _assemble(prep, spec, lines, fl, bf, g, gain=gain, band=band, weighting=weighting, detector=detector,
+                     rs_ohm=rs_ohm, temperature_k=temperature_k, ein_reported=ein_reported, en_diff=en_diff,
+                     spots=spots, at_1k=at_1k, flicker=flicker, flicker_on=flicker_on, budgets=budgets,
+                     stated=stated, repeats=repeats, reference_output_vrms=reference_output_vrms, notes=notes)
+
+
+def _validate(*, rs_ohm: float, temperature_k: float, weighting: str, detector: str,
+              reference_output_vrms: float | None) -> None:
+    check_source(rs_ohm=rs_ohm, temperature_k=temperature_k)
+    weighting_power_gain(weighting, np.array([1000.0]))  # validates the name
+    if detector not in DETECTORS:
+        raise ParameterError(f"detector {detector!r} is not one of {', '.join(DETECTORS)}")
+    if detector == "qp" and weighting != "468":
+        raise ParameterError("--detector qp is defined only with --weighting 468 (ITU-R BS.468-4); "
+                             "use the RMS detector with other weightings")
+    if reference_output_vrms is not None and not (math.isfinite(reference_output_vrms)
+                                                  and reference_output_vrms > 0):
+        raise ParameterError(f"reference output {reference_output_vrms!r} V must be > 0")
+
+
+def _prepare(*, terminated: NoiseInput | Sequence[NoiseInput], floor: NoiseInput | None,
+             shorted: NoiseInput | None, gain: GainSetup, band: Band, segment_length: int | None) -> _Prepared:
+    """One sample rate, one calibration, a trace that covers the band, the segment length."""
+    runs = list(terminated) if isinstance(terminated, (list, tuple)) else [terminated]
+    if not runs:
+        raise ParameterError("give at least one terminated capture")
+    first = runs[0]
+    fs = first.sample_rate_hz
+    if isinstance(first, Capture):
+        check_rates(fs, label_of(first), {"floor": floor, "shorted": shorted, "tone": gain.tone,
+                                          "response": gain.response,
+                                          **{f"repeat {i + 1}": r for i, r in enumerate(runs[1:])}})
+    else:
+        if first.enbw_hz > band.width_hz:
+            raise ParameterError(f"the trace's noise bandwidth ({first.enbw_hz:g} Hz) is coarser than the "
+                                 f"band {band.label()}: narrow the RBW or widen the band")
+        if not (first.frequency_hz[0] <= band.low_hz and band.high_hz <= first.frequency_hz[-1]):
+            raise ParameterError(f"the trace covers {first.frequency_hz[0]:g}-{first.frequency_hz[-1]:g} Hz, "
+                                 f"not the whole band {band.label()}: choose a band inside it")
+    band.check_within(fs)
+    if isinstance(first, Psd):
+        seg, vpfs = first.segment_length, None
+    else:
+        seg = default_segment_length(fs) if segment_length is None else int(segment_length)
+        vpfs = first.volts_per_fs_or_raise("EIN and noise figure")
+    label = label_of(first)
+    return _Prepared(runs=[with_vpfs(r, vpfs, "repeated terminated", label) for r in runs],  # type: ignore[misc]
+                     floor=with_vpfs(floor, vpfs, "floor", label), shorted=with_vpfs(shorted, vpfs, "shorted", label),
+                     fs=fs, seg=seg, vpfs=vpfs)
+
+
+def _spectra(prep: _Prepared, *, progress: Progress | None) -> _Spectra:
+    p_runs = [capture_psd(r, segment_length=prep.seg, progress=progress) for r in prep.runs]
+    p_term = pool_psds(p_runs)
+    p_floor = capture_psd(prep.floor, segment_length=prep.seg, progress=progress) if prep.floor is not None else None
+    p_short = (capture_psd(prep.shorted, segment_length=prep.seg, progress=progress)
+               if prep.shorted is not None else None)
+    for p, role in ((p_floor, "floor"), (p_short, "shorted")):
+        if p is not None and p.frequency_hz.shape != p_term.frequency_hz.shape:
+            raise CaptureError(f"the {role} spectrum has other frequency bins than the terminated "
+                               f"one: use one segment length (or one instrument setting) for all")
+    return _Spectra(runs=p_runs, term=p_term, floor=p_floor, short=p_short)
+
+
+def _lines(spec: _Spectra, *, mains_hz: float | None) -> _Lines:
+    """Lines, found on each spectrum, are replaced by their baseline for the broadband figures."""
+    s_term = find_lines(spec.term, mains_hz=mains_hz)
+    return _Lines(term=s_term,
+                  floor=find_lines(spec.floor, mains_hz=s_term.mains_hz) if spec.floor is not None else None,
+                  short=find_lines(spec.short, mains_hz=s_term.mains_hz) if spec.short is not None else None)
+
+
+def _floor(spec: _Spectra, lines: _Lines, *, band: Band, weighting: str, what: str, notes: list[str]) -> _FloorStep:
+    """Band weights, the margin over the analyzer floor (refused when not resolved), floor subtraction."""
+    f, p_term, p_floor = spec.f, spec.term, spec.floor
+    w_band = band_bin_weights(f, band, weighting=weighting)
+    used = w_band > 0
+    if not used.any():
+        raise ParameterError(f"no spectrum bin lies in the band {band.label()}")
+    term_clean = lines.term.cleaned
+    enbw_bins = p_term.enbw_hz / p_term.bin_width_hz
+    m_band = float(np.dot(w_band[used], term_clean[used]))
+    m_rel = band_relative_std(w_band, term_clean, dof=p_term.dof, enbw_bins=enbw_bins)
+    if p_floor is None:
+        notes.append("no floor capture given: the analyzer's own noise is included in every "
+                     "figure (they read high)")
+        return _FloorStep(w_band, used, enbw_bins, m_band, m_rel, None, None, None, term_clean, p_term.psd_per_hz)
+    floor_clean = lines.floor.cleaned  # type: ignore[union-attr]
+    f_band = float(np.dot(w_band[used], floor_clean[used]))
+    f_rel = band_relative_std(w_band, floor_clean, dof=p_floor.dof, enbw_bins=enbw_bins)
+    margin_db = check_band_margin(measured_v2=m_band, floor_v2=f_band, measured_rel_std=m_rel,
+                                  floor_rel_std=f_rel, what=what)
+    return _FloorStep(w_band, used, enbw_bins, m_band, m_rel, f_band, f_rel, margin_db,
+                      subtract_floor(term_clean, floor_clean).difference,
+                      subtract_floor(p_term.psd_per_hz, p_floor.psd_per_hz).difference)
+
+
+def _band_figures(spec: _Spectra, fl: _FloorStep, g: GainEstimate, *, band: Band, weighting: str, rs_ohm: float,
+                  temperature_k: float) -> _BandFigures:
+    """Input-referred density (1) and the band figures (3), (4) of docs/method.md."""
+    w, used = fl.w_band, fl.used
+    e2_diff = fl.out_diff / g.power_gain
+    ein_power = float(np.dot(w[used], e2_diff[used]))
+    if not ein_power > 0:
+        raise MeasurementError("the input-referred noise came out at zero or below: check the captures")
+    ein_spurs = math.sqrt(max(float(np.dot(w[used], (fl.out_diff_spurs / g.power_gain)[used])), ein_power))
+    noise_factor = band_noise_factor(spec.f, e2_diff, band, weighting=weighting, rs_ohm=rs_ohm,
+                                     temperature_k=temperature_k)
+    b_w = float(w.sum())
+    thermal = math.sqrt(float(thermal_density_v2_per_hz(resistance_ohm=rs_ohm, temperature_k=temperature_k)) * b_w)
+    return _BandFigures(
+        e2_diff=e2_diff, ein_power=ein_power, ein=math.sqrt(ein_power), ein_spurs=ein_spurs,
+        noise_factor=noise_factor, b_w=b_w, thermal=thermal,
+        out_noise=math.sqrt(max(float(np.dot(w[used], fl.out_diff[used])), 0.0)),
+        out_spurs=math.sqrt(max(float(np.dot(w[used], fl.out_diff_spurs[used])), 0.0)),
+        out_raw=math.sqrt(float(np.dot(w[used], spec.term.psd_per_hz[used]))))
+
+
+def _voltage_noise(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorStep, g: GainEstimate, *,
+                   gain: GainSetup, rs_ohm: float, notes: list[str]) -> NDArray[np.float64] | None:
+    """Shorted input: the DUT's voltage noise alone, referred through the gain at its terminals."""
+    if spec.short is None:
+        return None
+    terminals = 1.0 if gain.zin_ohm is None else (gain.zin_ohm + rs_ohm) / gain.zin_ohm
+    short_clean = lines.short.cleaned  # type: ignore[union-attr]
+    floor_clean = lines.floor.cleaned if lines.floor is not None else None
+    short_diff = subtract_floor(short_clean, floor_clean).difference if floor_clean is not None else short_clean
+    if spec.floor is not None and not _resolved(fl.w_band, short_clean, floor_clean, dof_measured=spec.short.dof,
+                                                dof_floor=spec.floor.dof, enbw_bins=fl.enbw_bins):
+        notes.append(f"the shorted capture {label_of(prep.shorted)} cannot be told from the analyzer "  # type: ignore[arg-type]
+                     f"floor in the band: its voltage noise is not reported")
+        return None
+    return short_diff / (g.power_gain * terminals ** 2)
+
+
+def _budgets(spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g: GainEstimate, *,
+             gain: GainSetup, stated: StatedUncertainty, at_1k: SpotValue | None, ein_reported: float,
+             rs_ohm: float, temperature_k: float, notes: list[str]) -> dict[str, Budget]:
+    """The GUM budgets of EIN, band NF, gain and the NF at 1 kHz; a note for an impossible NF."""
+    n0 = 4 * BOLTZMANN_J_PER_K * T0_K * rs_ohm * bf.b_w
+    dut_rel = dut_power_rel_std(measured=fl.m_band, measured_rel_std=fl.m_rel, floor=fl.f_band,
+                                floor_rel_std=fl.f_rel)
+    corrected = spec.floor is not None
+    budgets = {
+        "ein_db": ein_budget(value_db=float(vrms_to_dbu(ein_reported)), dut_rel_std=dut_rel,
+                             floor_corrected=corrected, gain_kind=gain.kind, gain_rel_std=g.gain_rel_std,
+                             stated=stated, response_rel_std=g.response_rel_std),
+        "noise_figure_db": nf_budget(quantity="noise_figure_db", noise_factor=bf.noise_factor,
+                                     excess_over_n0=bf.ein_power / n0, dut_rel_std=dut_rel,
+                                     floor_corrected=corrected, gain_kind=gain.kind, gain_rel_std=g.gain_rel_std,
+                                     stated=stated, response_rel_std=g.response_rel_std),
+        "gain_db": gain_budget(value_db=g.gain_db, gain_kind=gain.kind, gain_rel_std=g.gain_rel_std, stated=stated),
+    }
+    if at_1k is not None and at_1k.noise_figure_db is not None:
+        budgets["nf_at_1khz_db"] = _spot_nf_budget(spec.f, 1000.0, spec.term, spec.floor, lines.term.cleaned,
+                                                   lines.floor.cleaned if lines.floor is not None else None,
+                                                   g, gain, stated, rs_ohm, temperature_k)
+    nf_band_db = float(power_db(bf.noise_factor)) if bf.noise_factor > 0 else None
+    if nf_band_db is not None and nf_band_db + budgets["noise_figure_db"].expanded_db < 0.0:
+        notes.append(f"the band noise figure ({nf_band_db:.2f} dB) is below 0 dB beyond its uncertainty: "
+                     f"less noise than {rs_ohm:g} ohm makes by itself at {temperature_k:.1f} K, which no "
+                     f"amplifier can give; check the gain (the tone's stated level and where it was "
+                     f"read), the calibration, --rs and --temperature-k, and that the input was "
+                     f"terminated in Rs")
+    return budgets
+
+
+def _repeat_summary(spec: _Spectra, lines: _Lines, fl: _FloorStep, g: GainEstimate, *, band: Band, weighting: str,
+                    rs_ohm: float, temperature_k: float, notes: list[str]) -> RepeatSummary | None:
+    if len(spec.runs) < 2:
+        return None
+    floor_clean = lines.floor.cleaned if lines.floor is not None else None
+    repeats = _repeats(spec.runs, spec.floor, floor_clean, g, fl.w_band, fl.used, spec.f, band, weighting, rs_ohm,
+                       temperature_k, mains_hz=lines.term.mains_hz)
+    if abs(repeats.noise_figure_drift_db_per_capture) * (repeats.n - 1) > 2 * max(repeats.noise_figure_std_db, 1e-12):
+        notes.append(f"the noise figure drifts by {repeats.noise_figure_drift_db_per_capture:+.3f} dB per "
+                     f"capture across the {repeats.n} repeats: let the setup settle and measure again")
+    return repeats
+
+
+def _spectra_out(spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g: GainEstimate, *,
+                 en_diff: NDArray[np.float64] | None, flicker: Any, rs_ohm: float,
+                 temperature_k: float) -> AnalysisSpectra:
+    with np.errstate(divide="ignore", invalid="ignore"):
+        nf_curve = power_db(spot_noise_factor(np.where(bf.e2_diff > 0, bf.e2_diff, np.nan), rs_ohm=rs_ohm,
+                                              temperature_k=temperature_k))
+    return AnalysisSpectra(
+        frequency_hz=spec.f, output_v2_per_hz=spec.term.psd_per_hz,
+        floor_v2_per_hz=spec.floor.psd_per_hz if spec.floor is not None else None,
+        output_corrected_v2_per_hz=np.where(fl.out_diff > 0, fl.out_diff, np.nan),
+        input_v2_per_hz=np.where(bf.e2_diff > 0, bf.e2_diff, np.nan),
+        voltage_noise_v2_per_hz=np.where(en_diff > 0, en_diff, np.nan) if en_diff is not None else None,
+        noise_figure_db=nf_curve, power_gain=g.power_gain, band_weights=fl.w_band, lines=tuple(lines.term.lines),
+        flicker=flicker)
+
+
+def _assemble(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g: GainEstimate, *,
+              gain: GainSetup, band: Band, weighting: str, detector: str, rs_ohm: float, temperature_k: float,
+              ein_reported: float, en_diff: NDArray[np.float64] | None, spots: list[SpotValue],
+              at_1k: SpotValue | None, flicker: Any, flicker_on: str | None, budgets: dict[str, Budget],
+              stated: StatedUncertainty, repeats: RepeatSummary | None, reference_output_vrms: float | None,
+              notes: list[str]) -> AnalysisResult:
+    """The frozen result: figures, conditions, budgets, spectra."""
+    nf_band_db = float(power_db(bf.noise_factor)) if bf.noise_factor > 0 else None
+    uncertainty = {"coverage_factor": 2.0, "stated": stated.describe(),
+                   **{k: b.expanded_db for k, b in budgets.items()},
+                   "budgets": {k: b.to_dict() for k, b in budgets.items()}}
+    f = spec.f
+    spurs = tuple(SpurValue(ln.freq_hz, ln.vrms, ln.vrms / math.sqrt(float(np.interp(ln.freq_hz, f, g.power_gain))),
+                            ln.family, ln.harmonic, ln.excess_db) for ln in lines.term.lines)
+    runs = prep.runs
+    files = {"terminated": [path_of(r) for r in runs] if len(runs) > 1 else path_of(runs[0]),
+             "floor": path_of(prep.floor), "shorted": path_of(prep.shorted),
+             "tone": path_of(gain.tone), "response": path_of(gain.response)}
+    w, used = fl.w_band, fl.used
+    en_band = math.sqrt(max(float(np.dot(w[used], en_diff[used])), 0.0)) if en_diff is not None else None
+    snr = (float(20 * math.log10(reference_output_vrms / bf.out_noise))
+           if reference_output_vrms is not None and bf.out_noise > 0 else None)
+    return AnalysisResult(
+        gain_db=g.gain_db, gain_frequency_hz=g.frequency_hz, gain_std_db=g.gain_std_db, gain_reference=g.reference,
+        rs_ohm=float(rs_ohm), temperature_k=float(temperature_k), band_hz=(band.low_hz, band.high_hz),
+        weighting=weighting, detector=detector, floor_corrected=spec.floor is not None, floor_margin_db=fl.margin_db,
+        ein_vrms=ein_reported, ein_dbu=float(vrms_to_dbu(ein_reported)), ein_dbv=float(vrms_to_dbv(ein_reported)),
+        ein_rms_dbu=float(vrms_to_dbu(bf.ein)),
+        ein_with_spurs_dbu=float(vrms_to_dbu(bf.ein_spurs * ein_reported / bf.ein)),
+        thermal_ein_dbu=float(vrms_to_dbu(bf.thermal)), noise_factor=bf.noise_factor,
+        noise_figure_db=nf_band_db if nf_band_db is not None else math.nan,
+        nf_at_1khz_db=at_1k.noise_figure_db if at_1k else None,
+        input_density_at_1khz_v_per_rthz=at_1k.input_density_v_per_rthz if at_1k else None,
+        output_noise_vrms=bf.out_noise, output_noise_dbu=float(vrms_to_dbu(bf.out_noise)),
+        output_noise_with_spurs_vrms=bf.out_spurs, output_noise_uncorrected_vrms=bf.out_raw,
+        voltage_noise_at_1khz_v_per_rthz=at_1k.voltage_noise_v_per_rthz if at_1k else None,
+        voltage_noise_band_vrms=en_band,
+        flicker_corner_hz=flicker.corner_hz if flicker else None,
+        flicker_corner_std_hz=flicker.corner_std_hz if flicker else None,
+        white_density_v_per_rthz=flicker.white_density_v_per_rthz if flicker else None,
+        flicker_slope=flicker.slope if flicker else None, flicker_fit_on=flicker_on,
+        snr_db=snr, reference_output_vrms=reference_output_vrms, mains_hz=lines.term.mains_hz, spurs=spurs,
+        hum_hints=tuple(hum_hints(lines.term.lines)), uncertainty=uncertainty, repeats=repeats,
+        sample_rate_hz=prep.fs, segment_length=prep.seg, spectrum_window=spec.term.window,
+        rbw_hz=spec.term.enbw_hz, n_averages=spec.term.n_averages, dof=spec.term.dof, volts_per_fs=prep.vpfs,
+        files=files, spot=tuple(spots), notes=tuple(notes), budgets=budgets,
+        spectra=_spectra_out(spec, lines, fl, bf, g, en_diff=en_diff, flicker=flicker, rs_ohm=rs_ohm,
+                             temperature_k=temperature_k))
+
+
+# -- helpers of the steps -------------------------------------------------------------------------
+def _resolved(weights: NDArray[np.float64], measured: NDArray[np.float64], floor: NDArray[np.float64] | None,
+              *, dof_measured: float, dof_floor: float | None, enbw_bins: float) -> bool:
+    """True if the excess of `measured` over `floor` in these weighted bins exceeds 3 sigma."""
+    if floor is None:
+        return True
+    m = float(np.dot(weights, measured))
+    fl = float(np.dot(weights, floor))
+    sm = band_relative_std(weights, measured, dof=dof_measured, enbw_bins=enbw_bins) * m
+    sf = band_relative_std(weights, floor, dof=dof_floor, enbw_bins=enbw_bins) * fl
+    return m - fl > 3.0 * math.hypot(sm, sf)
+
+
+def _line_mask(search: LineSearch, size: int) -> NDArray[np.bool_]:
+    mask = np.zeros(size, dtype=bool)
+    for line in search.lines:
+        mask[line.bins[0]:line.bins[1] + 1] = True
+    return mask
+
+
+def _spots(f, band, fs, p_term, p_floor, p_short, term_clean, floor_clean, short_clean, out_diff,
+           e2_diff, en_diff, rs_ohm, temperature_k, notes) -> list[SpotValue]:
+    """One-third-octave spot values; a band narrower than one bin is not listed."""
+    spot_band = Band(band.low_hz, min(band.high_hz, fs / 2 / 10 ** (1 / 20)))
+    centres = [c for c in third_octave_centres_hz(spot_band)
+               if c[1] * (10 ** (1 / 20) - 10 ** (-1 / 20)) >= p_term.bin_width_hz]
+    spot_w = [third_octave_weights(f, exact) for _label, exact in centres]
+    e2_spot = spot_means(spot_w, e2_diff)
+    out_spot = spot_means(spot_w, out_diff)
+    nf_spot = spot_noise_factor(e2_spot, rs_ohm=rs_ohm, temperature_k=temperature_k)
+    en_spot = spot_means(spot_w, en_diff) if en_diff is not None else None
+    enbw_bins = p_term.enbw_hz / p_term.bin_width_hz
+    floor_dof = p_floor.dof if p_floor is not None else None
+    spots, low_margin = [], []
+    for i, ((label, _exact), w_full) in enumerate(zip(centres, spot_w)):
+        span = _nonzero_span(w_full)  # a band's few bins: the rest weigh nothing
+        w_s, term_s = w_full[span], term_clean[span]
+        floor_s = floor_clean[span] if floor_clean is not None else None
+        ok = e2_spot[i] > 0 and _resolved(w_s, term_s, floor_s, dof_measured=p_term.dof,
+                                          dof_floor=floor_dof, enbw_bins=enbw_bins)
+        m_band = float(np.dot(w_s, term_s))
+        f_band = float(np.dot(w_s, floor_s)) if floor_s is not None else None
+        m_db = float(power_db(m_band / f_band)) if f_band is not None else None
+        if m_db is not None and m_db < 3.0:
+            low_margin.append(label)
+        en_ok = (en_spot is not None and en_spot[i] > 0
+                 and _resolved(w_s, short_clean[span], floor_s, dof_measured=p_short.dof,
+                               dof_floor=floor_dof, enbw_bins=enbw_bins))
+        rel = dut_power_rel_std(
+            measured=m_band, measured_rel_std=band_relative_std(w_s, term_s, dof=p_term.dof, enbw_bins=enbw_bins),
+            floor=f_band, floor_rel_std=(band_relative_std(w_s, floor_s, dof=floor_dof, enbw_bins=enbw_bins)
+                                         if floor_s is not None else None))
+        spots.append(SpotValue(
+            freq_hz=label,
+            input_density_v_per_rthz=math.sqrt(e2_spot[i]) if ok else None,
+            noise_figure_db=float(power_db(nf_spot[i])) if ok and nf_spot[i] > 0 else None,
+            output_density_v_per_rthz=math.sqrt(out_spot[i]) if ok else None,
+            floor_margin_db=m_db,
+            voltage_noise_v_per_rthz=math.sqrt(en_spot[i]) if en_ok else None,
+            # A density's amplitude has half the relative uncertainty of its power: U = 2 * 8.686 * rel / 2 dB.
+            input_density_expanded_db=float(8.686 * rel) if ok and math.isfinite(rel) else None,
+        ))
+    if low_margin:
+        notes.append("less than 3 dB above the analyzer floor at " +
+                     ", ".join(f"{x:g} Hz" for x in low_margin) + ": those spot values are uncertain")
+    if not any(s.input_density_v_per_rthz for s in spots):
+        notes.append("no spot frequency is resolved above the floor")
+    return spots
+
+
+def _nonzero_span(weights: NDArray[np.float64]) -> slice:
+    """The slice from the first to the last non-zero weight."""
+    nz = np.flatnonzero(weights)
+    return slice(int(nz[0]), int(nz[-1]) + 1) if nz.size else slice(0, 0)
+
+
+def _flicker(f, en_diff, e2_diff, s_term, p_term, band, range_hz, free_slope, notes):
+    from ..noise.flicker import fit_flicker
+    target, on = ((en_diff, "shorted (amplifier voltage noise)") if en_diff is not None
+                  else (e2_diff, "terminated (total input noise, source included)"))
+    rng = range_hz if range_hz is not None else (max(band.low_hz, 2 * p_term.bin_width_hz),
+                                                 min(band.high_hz, 10_000.0))
+    try:
+        fit = fit_flicker(f, target, dof=p_term.dof, enbw_bins=p_term.enbw_hz / p_term.bin_width_hz,
+                          range_hz=rng, exclude=_line_mask(s_term, f.size), free_slope=free_slope)
+    except MeasurementError as err:
+        notes.append(f"no 1/f corner: {err}")
+        return None, None
+    if fit.corner_hz < rng[0] / 3:
+        notes.append(f"the 1/f corner ({fit.corner_hz:.2g} Hz) lies below the fit range's bottom "
+                     f"({rng[0]:g} Hz): it is an extrapolation")
+    return fit, on
+
+
+def _qp_ein(capture: NoiseInput, p_term: Psd, p_floor: Psd | None, w_band, g: GainEstimate,
+            notes: list[str]) -> float:
+    from ..dsp.quasipeak import qp_reading
+    if not isinstance(capture, Capture):
+        raise ParameterError("a quasi-peak reading needs a time-domain capture, not a spectrum trace")
+    x = capture.read(max_frames=int(_MAX_QP_SECONDS * capture.sample_rate_hz))
+    reading = qp_reading(x * float(capture.volts_per_fs), sample_rate_hz=capture.sample_rate_hz)
+    qp = reading.median
+    if p_floor is not None:
+        ratio = float(np.dot(w_band, p_floor.psd_per_hz) / np.dot(w_band, p_term.psd_per_hz))
+        qp *= math.sqrt(max(1.0 - ratio, 0.0))
+        notes.append("quasi-peak reading floor-corrected by the weighted RMS ratio of floor to DUT "
+                     "(assumes the same peak-to-RMS behaviour for both noises)")
+    g_1k = math.sqrt(float(np.interp(1000.0, p_term.frequency_hz, g.power_gain)))
+    notes.append(f"quasi-peak: median indication over {reading.seconds_used:.1f} s after settling "
+                 f"(95th percentile {reading.p95 / reading.median:.2f} times higher), referred through "
+                 f"the gain at 1 kHz")
+    return qp / g_1k
+
+
+def _spot_nf_budget(f, centre_hz, p_term, p_floor, term_clean, floor_clean, g, gain, stated, rs_ohm,
+                    temperature_k) -> Budget:
+    w = third_octave_weights(f, centre_hz)
+    enbw_bins = p_term.enbw_hz / p_term.bin_width_hz
+    m = float(np.dot(w, term_clean))
+    m_rel = band_relative_std(w, term_clean, dof=p_term.dof, enbw_bins=enbw_bins)
+    fl = fl_rel = None
+    if p_floor is not None:
+        fl = float(np.dot(w, floor_clean))
+        fl_rel = band_relative_std(w, floor_clean, dof=p_floor.dof, enbw_bins=enbw_bins)
+    e2 = (m - (fl or 0.0)) / float(np.dot(w, g.power_gain)) * w.sum()
+    b = float(w.sum())
+    n0 = 4 * BOLTZMANN_J_PER_K * T0_K * rs_ohm * b
+    nt = float(thermal_density_v2_per_hz(resistance_ohm=rs_ohm, temperature_k=temperature_k)) * b
+    factor = 1 + (e2 - nt) / n0
+    return nf_budget(quantity="nf_at_1khz_db", noise_factor=factor, excess_over_n0=e2 / n0,
+                     dut_rel_std=dut_power_rel_std(measured=m, measured_rel_std=m_rel, floor=fl,
+                                                   floor_rel_std=fl_rel),
+                     floor_corrected=p_floor is not None, gain_kind=gain.kind,
+                     gain_rel_std=g.gain_rel_std, stated=stated, response_rel_std=g.response_rel_std)
+
+
+def _repeats(p_runs, p_floor, floor_clean, g, w_band, used, f, band, weighting, rs_ohm, temperature_k,
+             *, mains_hz) -> RepeatSummary:
+    eins, nfs = [], []
+    for p in p_runs:
+        clean = find_lines(p, mains_hz=mains_hz).cleaned
+        diff = clean - floor_clean if floor_clean is not None else clean
+        e2 = diff / g.power_gain
+        eins.append(float(vrms_to_dbu(math.sqrt(max(float(np.dot(w_band[used], e2[used])), 1e-300)))))
+        nfs.append(float(power_db(max(band_noise_factor(f, e2, band, weighting=weighting, rs_ohm=rs_ohm,
+                                                        temperature_k=temperature_k), 1e-12))))
+    idx = np.arange(len(nfs), dtype=np.float64)
+    slope = float(np.polyfit(idx, nfs, 1)[0]) if len(nfs) > 1 else 0.0
+    return RepeatSummary(len(nfs), tuple(eins), tuple(nfs), float(np.std(eins, ddof=1)),
+                         float(np.std(nfs, ddof=1)), slope)
