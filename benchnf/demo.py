@@ -26,10 +26,10 @@ def run_demo(*, output: Path = Path("benchnf-results"), quiet: bool = False, wri
 
     Returns the results folder.
     """
-    from .measure import GainSetup, analyze_gain_method
-    from .calibration import apply_calibration, calibrate_from_tone
-    from .dsp.weighting import Band
+    from .calibration import calibrate_from_tone
     from .io import open_capture
+    from .measure import analyze_gain_method
+    from .measure.requests import GainMethodRequest, resolve_gain_method
     from .report.plots import analysis_figures
     from .report.text import format_summary
 
@@ -39,19 +39,12 @@ def run_demo(*, output: Path = Path("benchnf-results"), quiet: bool = False, wri
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", BenchWarning)
         cal = calibrate_from_tone(ref, vrms=float(ref.metadata["meter_vrms"]))
-
-        def cap(name: str, condition: str):
-            return apply_calibration(open_capture(src / f"{name}.flac", condition=condition), cal)
-
-        terminated = cap("terminated", "terminated")
-        tone = cap("tone", "tone")
-        result = analyze_gain_method(
-            terminated=terminated, floor=cap("floor", "floor"), shorted=cap("shorted", "shorted"),
-            gain=GainSetup(tone=tone, tone_input_vrms=float(tone.metadata["tone_input_vrms"]),
-                           response=open_capture(src / "response.flac", channel=1)),
-            rs_ohm=float(terminated.metadata["rs_ohm"]),
-            temperature_k=float(terminated.metadata["temperature_k"]),
-            band=Band(20.0, 20_000.0), weighting="none")
+        inputs = resolve_gain_method(GainMethodRequest(
+            terminated=(src / "terminated.flac",), floor=src / "floor.flac", shorted=src / "shorted.flac",
+            tone=src / "tone.flac", response=src / "response.flac", calibration=cal, band_hz=(20.0, 20_000.0),
+            weighting="none"))
+        result = analyze_gain_method(**inputs)
+        terminated, tone = inputs["terminated"][0], inputs["gain"].tone
     out = writer.fresh_folder(Path(output))
     writer.json(out / "calibration.json", cal.to_dict())
     writer.json(out / "results.json", result.to_dict())

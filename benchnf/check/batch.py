@@ -93,37 +93,22 @@ def check_unit(unit: Path, profile_path: str, settings: dict[str, Any]) -> UnitO
 
 
 def _analyse(unit: Path, profile: Profile, settings: dict[str, Any]) -> dict[str, Any]:
-    from ..measure import GainSetup, analyze_gain_method
-    from ..calibration import Calibration, apply_calibration
-    from ..dsp.weighting import Band
-    from ..io import open_capture
+    """The unit's captures analysed as the command line would, with the profile's conditions taking
+    part in the agreement rule (a unit recorded under other conditions is refused, as check refuses it)."""
+    from ..measure.requests import GainMethodRequest, run_gain_method
     roles = _role_files(unit)
     missing = [r for r in ("terminated", "tone") if r not in roles]
     if missing:
         raise BenchError(f"unit {unit.name} lacks its {' and '.join(missing)} capture(s)")
-    cal = Calibration.load(settings["calibration"]) if settings.get("calibration") else None
-
-    def cap(path: Path | str, cond: str):
-        c = open_capture(path, condition=cond, volts_per_fs=settings.get("volts_per_fs"))
-        return apply_calibration(c, cal) if cal is not None and settings.get("volts_per_fs") is None else c
-
-    term = cap(roles["terminated"], "terminated")
-    tone = cap(roles["tone"], "tone")
-    floor_path = roles.get("floor") or settings.get("floor")
+    floor = roles.get("floor") or settings.get("floor")
     c = profile.conditions
-    from ..measure import agree
-    rs = agree("source resistance", [(f"the sidecar of {unit.name}/{Path(roles['terminated']).name}",
-                                      term.metadata.get("rs_ohm")), ("the profile's conditions", c.get("rs_ohm"))],
-               unit=" ohm", fix="check this unit against a profile made at its source resistance")
-    if rs is None:
-        raise BenchError(f"unit {unit.name}: no source resistance (profile conditions or sidecar rs_ohm)")
-    vin = tone.metadata.get("tone_input_vrms") or settings.get("tone_input_vrms")
-    result = analyze_gain_method(
-        terminated=term, floor=cap(floor_path, "floor") if floor_path else None,
-        gain=GainSetup(tone=tone, tone_input_vrms=vin), rs_ohm=float(rs),
-        temperature_k=float(term.metadata.get("temperature_k", c.get("temperature_k", 290.0))),
-        band=Band(*c.get("band_hz", (20.0, 20_000.0))), weighting=c.get("weighting", "none"))
-    return result.to_dict()
+    request = GainMethodRequest(
+        terminated=(roles["terminated"],), floor=Path(floor) if floor else None, tone=roles["tone"],
+        tone_input_vrms=settings.get("tone_input_vrms"), volts_per_fs=settings.get("volts_per_fs"),
+        calibration=settings.get("calibration"),
+        conditions={k: (tuple(v) if isinstance(v, list) else v) for k, v in c.items()},
+        condition_source=f"the profile's conditions (unit {unit.name})")
+    return run_gain_method(request).to_dict()
 
 
 def check_batch(folder: Path, profile_path: str, *, settings: dict[str, Any] | None = None,

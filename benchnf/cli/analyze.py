@@ -6,12 +6,9 @@ import argparse
 from pathlib import Path
 from typing import Any
 
-from ..errors import BenchError
 from ..write import Writer
 from ._common import (
     calibration_options,
-    load_calibration,
-    open_input,
     output_options,
     progress,
     write_outputs,
@@ -72,9 +69,9 @@ def add_parser(sub: Any) -> None:
                        help="integration band in Hz (default 20 20000)")
     bands.add_argument("--band-preset", choices=["audio", "wide", "no-hum"],
                        help="audio 20 Hz-20 kHz, wide 22 Hz-22 kHz, no-hum 400 Hz-22 kHz")
-    p.add_argument("--weighting", choices=["none", "A", "C", "468", "468-2k"], default="none",
+    p.add_argument("--weighting", choices=["none", "A", "C", "468", "468-2k"],
                    help="frequency weighting of band figures: IEC 61672-1 A or C, ITU-R BS.468-4 "
-                        "(0 dB at 1 kHz) or 468-2k (0 dB at 2 kHz, for an RMS detector)")
+                        "(0 dB at 1 kHz) or 468-2k (0 dB at 2 kHz, for an RMS detector); default none")
     p.add_argument("--detector", choices=["rms", "qp"], default="rms",
                    help="rms, or qp: the BS.468-4 quasi-peak meter (with --weighting 468 only)")
     p.add_argument("--mains-hz", type=mains_hz, metavar="F",
@@ -116,68 +113,43 @@ def add_parser(sub: Any) -> None:
     p.set_defaults(run=run)
 
 
+def request_from_args(args: argparse.Namespace) -> Any:
+    """The command line's gain-method request (what the user typed, nothing resolved yet)."""
+    from ..dsp.weighting import BAND_PRESETS
+    from ..measure.requests import GainMethodRequest, TraceOptions
+    from ..noise.uncertainty import StatedUncertainty
+    from ..units import dbu_to_vrms
+    band = BAND_PRESETS[args.band_preset] if args.band_preset else None
+    return GainMethodRequest(
+        terminated=tuple(args.terminated), floor=args.floor, shorted=args.shorted, tone=args.tone,
+        tone_input_vrms=args.tone_input_vrms, tone_input_channel=args.tone_input_channel, tone_hz=args.tone_hz,
+        gain_db=args.gain_db, gain_frequency_hz=args.gain_frequency_hz, response=args.response,
+        response_channels=tuple(args.response_channels), zin_ohm=args.zin_ohm, rs_ohm=args.rs,
+        temperature_k=args.temperature_k,
+        band_hz=(band.low_hz, band.high_hz) if band is not None else (tuple(args.band) if args.band else None),
+        weighting=args.weighting, detector=args.detector, channel=args.channel, volts_per_fs=args.volts_per_fs,
+        calibration=args.calibration,
+        trace=TraceOptions(rbw_hz=args.rbw_hz, detector=args.trace_detector, reference_ohm=args.reference_ohm,
+                           enbw_ratio=args.enbw_ratio),
+        accept_dropouts=args.accept_dropouts, segment_length=args.segment, mains_hz=args.mains_hz,
+        flicker_range_hz=tuple(args.flicker_range) if args.flicker_range else None,
+        flicker_free_slope=args.flicker_free_slope,
+        stated=StatedUncertainty(calibration_pct=args.calibration_limit_pct, tone_level_pct=args.tone_limit_pct,
+                                 resistor_pct=args.resistor_limit_pct, temperature_k=args.temperature_limit_k),
+        reference_output_vrms=(float(dbu_to_vrms(args.reference_dbu)) if args.reference_dbu is not None
+                               else args.reference_vrms))
+
+
 def run(args: argparse.Namespace, writer: Writer) -> int:
     from ..measure import analyze_gain_method
-    from ..dsp.weighting import BAND_PRESETS, Band
-    from ..measure import agree, distinct_files
-    from ..noise.uncertainty import StatedUncertainty
-    from ..report.text import format_summary
-    from ..units import dbu_to_vrms
-    distinct_files(args.terminated, "terminated repeats")
-    cal = load_calibration(args)
-    runs = [open_input(t, condition="terminated", args=args, cal=cal) for t in args.terminated]
-    terminated = runs[0]
-    floor = open_input(args.floor, condition="floor", args=args, cal=cal)
-    shorted = open_input(args.shorted, condition="shorted", args=args, cal=cal)
-    gain = _gain_setup(args, cal)
-    meta = getattr(terminated, "metadata", {})
-    rs = agree("source resistance", [("--rs", args.rs), (f"the sidecar of {args.terminated[0].name}",
-                                                           meta.get("rs_ohm"))], unit=" ohm")
-    if rs is None:
-        raise BenchError("give the source resistance with --rs OHM (the terminated capture's "
-                         "sidecar does not state it)")
-    temperature = agree("source temperature", [("--temperature-k", args.temperature_k),
-                                               (f"the sidecar of {args.terminated[0].name}",
-                                                meta.get("temperature_k"))], default=290.0, unit=" K")
-    if args.flicker_range and args.flicker_range[0] >= args.flicker_range[1]:
-        raise BenchError(f"--flicker-range {args.flicker_range[0]:g} {args.flicker_range[1]:g}: the low edge must "
-                         f"be below the high edge")
-    if args.band_preset:
-        band = BAND_PRESETS[args.band_preset]
-    else:
-        band = Band(*(args.band or (20.0, 20_000.0)))
-    reference = args.reference_vrms
-    if args.reference_dbu is not None:
-        reference = float(dbu_to_vrms(args.reference_dbu))
-    stated = StatedUncertainty(calibration_pct=args.calibration_limit_pct, tone_level_pct=args.tone_limit_pct,
-                               resistor_pct=args.resistor_limit_pct, temperature_k=args.temperature_limit_k)
-    total = sum(getattr(c, "n_frames", 0) for c in (*runs, floor, shorted) if c is not None)
-    with progress(total, quiet=args.quiet, label="analysing") as tick:
-        result = analyze_gain_method(terminated=runs, floor=floor, shorted=shorted, gain=gain,
-                                     rs_ohm=float(rs), temperature_k=float(temperature), band=band,
-                                     weighting=args.weighting, detector=args.detector,
-                                     segment_length=args.segment, mains_hz=args.mains_hz,
-                                     flicker_range_hz=tuple(args.flicker_range) if args.flicker_range else None,
-                                     flicker_free_slope=args.flicker_free_slope, stated=stated,
-                                     reference_output_vrms=reference, progress=tick)
-    print(format_summary(result, explain=args.explain), end="")
+    from ..measure.requests import resolve_gain_method
     from ..report.plots import analysis_figures
+    from ..report.text import format_summary
+    inputs = resolve_gain_method(request_from_args(args))
+    total = sum(getattr(c, "n_frames", 0) for c in (*inputs["terminated"], inputs["floor"], inputs["shorted"])
+                if c is not None)
+    with progress(total, quiet=args.quiet, label="analysing") as tick:
+        result = analyze_gain_method(**inputs, progress=tick)
+    print(format_summary(result, explain=args.explain), end="")
     write_outputs(args, writer, result.to_dict(), lambda: analysis_figures(result))
     return ExitStatus.OK
-
-
-def _gain_setup(args: argparse.Namespace, cal):
-    from ..measure import GainSetup
-    tone = open_input(args.tone, condition="tone", args=args, cal=cal)
-    response = None
-    if args.response is not None:
-        from ..io import open_capture
-        response = open_capture(args.response, channel=args.response_channels[1])
-    vin = args.tone_input_vrms
-    if tone is not None and vin is None and args.tone_input_channel is None:
-        vin = tone.metadata.get("tone_input_vrms")
-    return GainSetup(tone=tone, tone_input_vrms=vin, tone_input_channel=args.tone_input_channel,
-                     tone_frequency_hz=args.tone_hz, gain_db=args.gain_db,
-                     gain_frequency_hz=args.gain_frequency_hz, response=response,
-                     response_channels=tuple(args.response_channels), zin_ohm=args.zin_ohm)
-

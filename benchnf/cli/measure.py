@@ -44,30 +44,19 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
 
     files = run_plan(plan, record=record, folder=folder, interactive=not args.yes)
     if {"terminated", "tone"} <= set(files):
-        from ..measure import GainSetup, analyze_gain_method
-        from ..dsp.weighting import Band
-        from ..io import open_capture
+        from ..measure.requests import GainMethodRequest, run_gain_method
         from ..report.text import format_summary
         a = plan.analysis
-        vpfs = a.get("volts_per_fs")
-        if a.get("calibration"):
-            from ..calibration import Calibration
-            vpfs = Calibration.load(a["calibration"]).volts_per_fs
-        if vpfs is None:
+        if a.get("volts_per_fs") is None and not a.get("calibration"):
             print("\nno calibration in the plan ([analysis] volts_per_fs or calibration): captures kept, not analysed")
             return ExitStatus.OK
-        cap = lambda f, c: open_capture(f, condition=c, volts_per_fs=vpfs)  # noqa: E731
-        tone = cap(files["tone"], "tone")
-        result = analyze_gain_method(
-            terminated=cap(files["terminated"], "terminated"),
-            floor=cap(files["floor"], "floor") if "floor" in files else None,
-            shorted=cap(files["shorted"], "shorted") if "shorted" in files else None,
-            gain=GainSetup(tone=tone, tone_input_vrms=tone.metadata.get("tone_input_vrms")),
-            rs_ohm=float(a["rs_ohm"]), temperature_k=float(a.get("temperature_k", 290.0)),
-            band=Band(*a.get("band_hz", (20.0, 20_000.0))), weighting=a.get("weighting", "none"))
+        result = run_gain_method(GainMethodRequest(
+            terminated=(files["terminated"],), floor=files.get("floor"), shorted=files.get("shorted"),
+            tone=files["tone"], volts_per_fs=a.get("volts_per_fs"), calibration=a.get("calibration"),
+            rs_ohm=a.get("rs_ohm"), temperature_k=a.get("temperature_k"),
+            band_hz=tuple(a["band_hz"]) if a.get("band_hz") else None, weighting=a.get("weighting")))
         print()
         print(format_summary(result), end="")
         writer.json(folder / "results.json", result.to_dict())
         print(f"\nresults written to {folder / 'results.json'}")
     return ExitStatus.OK
-

@@ -56,13 +56,23 @@ def agree(name: str, sources: Sequence[Source], *, default: Any = None, rel_tol:
     for place, value in stated[1:]:
         if not _same(first, value, rel_tol):
             raise ParameterError(
-                f"the {name} is {first:g}{unit} in {first_place} but {value:g}{unit} in {place}: they must "
+                f"the {name} is {_show(first)}{unit} in {first_place} but {_show(value)}{unit} in {place}: they must "
                 f"agree{' (within ' + format(100 * rel_tol, 'g') + ' %)' if rel_tol > 1e-6 else ''}; "
                 f"{fix or 'correct the one that is wrong'}")
     return first
 
 
+def _show(value: Any) -> str:
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        return format(value, "g")
+    if isinstance(value, (tuple, list)):
+        return " ".join(_show(v) for v in value)
+    return repr(value)
+
+
 def _same(a: Any, b: Any, rel_tol: float) -> bool:
+    if isinstance(a, (tuple, list)) and isinstance(b, (tuple, list)):
+        return len(a) == len(b) and all(_same(x, y, rel_tol) for x, y in zip(a, b))
     if isinstance(a, (int, float)) and isinstance(b, (int, float)):
         return math.isclose(float(a), float(b), rel_tol=rel_tol, abs_tol=0.0)
     return bool(a == b)

@@ -1,0 +1,151 @@
+"""What a user asks of a gain-method analysis, from any front end, resolved into validated inputs.
+
+The command line (``analyze``), ``batch``, a guided plan (``measure``) and the demo all describe their
+analysis as a :class:`GainMethodRequest` (paths and stated values) and call :func:`run_gain_method`,
+so they resolve files, sidecars, calibration and profile conditions by the same rule
+(:mod:`benchnf.measure.inputs`) and give the same figure.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from ..errors import ParameterError
+from .inputs import agree, distinct_files, open_calibrated
+
+__all__ = ["GainMethodRequest", "TraceOptions", "resolve_gain_method", "run_gain_method", "DEFAULT_BAND_HZ"]
+
+DEFAULT_BAND_HZ = (20.0, 20_000.0)
+DEFAULT_TEMPERATURE_K = 290.0
+
+
+@dataclass(frozen=True)
+class TraceOptions:
+    """How to read instrument CSV traces (docs/csv.md)."""
+
+    rbw_hz: float | None = None
+    detector: str | None = None
+    reference_ohm: float | None = None
+    enbw_ratio: float | None = None
+
+
+@dataclass(frozen=True)
+class GainMethodRequest:
+    """Everything a user can state for a gain-method analysis; None means "not stated here".
+
+    `conditions` are a profile's (``rs_ohm``, ``temperature_k``, ``band_hz``, ``weighting``): they take part
+    in the agreement rule like any other place. `calibration` is a path or a Calibration.
+    """
+
+    terminated: tuple[Path, ...]
+    floor: Path | None = None
+    shorted: Path | None = None
+    tone: Path | None = None
+    tone_input_vrms: float | None = None
+    tone_input_channel: int | None = None
+    tone_hz: float | None = None
+    gain_db: float | None = None
+    gain_frequency_hz: float = 1000.0
+    response: Path | None = None
+    response_channels: tuple[int, int] = (0, 1)
+    zin_ohm: float | None = None
+    rs_ohm: float | None = None
+    temperature_k: float | None = None
+    band_hz: tuple[float, float] | None = None
+    weighting: str | None = None
+    detector: str = "rms"
+    channel: int | None = None
+    volts_per_fs: float | None = None
+    calibration: Any = None
+    conditions: Mapping[str, Any] = field(default_factory=dict)
+    condition_source: str = "the profile's conditions"
+    trace: TraceOptions = TraceOptions()
+    accept_dropouts: bool = False
+    segment_length: int | None = None
+    mains_hz: float | None = None
+    flicker_range_hz: tuple[float, float] | None = None
+    flicker_free_slope: bool = False
+    stated: Any = None
+    reference_output_vrms: float | None = None
+
+
+def _calibration(req: GainMethodRequest) -> tuple[Any, str]:
+    if req.calibration is None or not isinstance(req.calibration, (str, Path)):
+        return req.calibration, "the calibration"
+    from ..calibration import Calibration
+    return Calibration.load(req.calibration), f"calibration {req.calibration}"
+
+
+def _opener(req: GainMethodRequest, cal: Any, cal_name: str, tolerance_pct: float):
+    def open_one(path: Path | None, condition: str | None) -> Any:
+        if path is None:
+            return None
+        if Path(path).suffix.lower() in (".csv", ".txt"):
+            from ..io.csv_trace import load_csv
+            t = req.trace  # instrument CSV is in volts already: no sound-card calibration applies
+            return load_csv(path, rbw_hz=t.rbw_hz, detector=t.detector, reference_ohm=t.reference_ohm,
+                            enbw_ratio=t.enbw_ratio)
+        return open_calibrated(Path(path), condition=condition, channel=req.channel, volts_per_fs=req.volts_per_fs,
+                               calibration=cal, calibration_name=cal_name, tolerance_pct=tolerance_pct,
+                               accept_dropouts=req.accept_dropouts)
+    return open_one
+
+
+def resolve_gain_method(req: GainMethodRequest) -> dict[str, Any]:
+    """Open every capture and resolve every stated value; the keyword arguments of analyze_gain_method."""
+    from ..dsp.weighting import Band
+    from ..noise.uncertainty import StatedUncertainty
+    from .gain import GainSetup
+    if not req.terminated:
+        raise ParameterError("give at least one terminated capture")
+    distinct_files(list(req.terminated), "terminated repeats")
+    stated = req.stated if req.stated is not None else StatedUncertainty()
+    cal, cal_name = _calibration(req)
+    open_one = _opener(req, cal, cal_name, stated.calibration_pct)
+    runs = [open_one(t, "terminated") for t in req.terminated]
+    meta = getattr(runs[0], "metadata", {})
+    side = f"the sidecar of {Path(req.terminated[0]).name}"
+    cond, where = req.conditions, req.condition_source
+    rs = agree("source resistance", [("the stated --rs", req.rs_ohm), (side, meta.get("rs_ohm")),
+                                     (where, cond.get("rs_ohm"))], unit=" ohm",
+               fix="check the resistor, the sidecar and the profile: they must describe one measurement")
+    if rs is None:
+        raise ParameterError("give the source resistance with --rs OHM (the terminated capture's sidecar does "
+                             "not state it)")
+    temperature = agree("source temperature", [("the stated --temperature-k", req.temperature_k),
+                                               (side, meta.get("temperature_k")), (where, cond.get("temperature_k"))],
+                        default=DEFAULT_TEMPERATURE_K, unit=" K")
+    band = agree("band", [("the stated band", req.band_hz), (where, cond.get("band_hz"))], default=DEFAULT_BAND_HZ,
+                 unit=" Hz")
+    weighting = agree("weighting", [("the stated --weighting", req.weighting), (where, cond.get("weighting"))],
+                      default="none")
+    tone = open_one(req.tone, "tone")
+    vin = req.tone_input_vrms
+    if tone is not None and req.tone_input_channel is None:
+        vin = agree("tone level at the source", [("--tone-input-vrms", req.tone_input_vrms),
+                                                 (f"the sidecar of {Path(req.tone).name}",  # type: ignore[arg-type]
+                                                  tone.metadata.get("tone_input_vrms"))], rel_tol=1e-6, unit=" V")
+    response = None
+    if req.response is not None:
+        from ..io import open_capture
+        response = open_capture(req.response, channel=req.response_channels[1])
+    gain = GainSetup(tone=tone, tone_input_vrms=vin, tone_input_channel=req.tone_input_channel,
+                     tone_frequency_hz=req.tone_hz, gain_db=req.gain_db, gain_frequency_hz=req.gain_frequency_hz,
+                     response=response, response_channels=tuple(req.response_channels), zin_ohm=req.zin_ohm)
+    if req.flicker_range_hz is not None and req.flicker_range_hz[0] >= req.flicker_range_hz[1]:
+        raise ParameterError(f"--flicker-range {req.flicker_range_hz[0]:g} {req.flicker_range_hz[1]:g}: the low "
+                             f"edge must be below the high edge")
+    return dict(terminated=runs, floor=open_one(req.floor, "floor"), shorted=open_one(req.shorted, "shorted"),
+                gain=gain, rs_ohm=float(rs), temperature_k=float(temperature), band=Band(*band), weighting=weighting,
+                detector=req.detector, segment_length=req.segment_length, mains_hz=req.mains_hz,
+                flicker_range_hz=req.flicker_range_hz, flicker_free_slope=req.flicker_free_slope, stated=stated,
+                reference_output_vrms=req.reference_output_vrms)
+
+
+def run_gain_method(req: GainMethodRequest, *, progress: Any = None) -> Any:
+    """Resolve the request and run the gain-method analysis; the frozen AnalysisResult."""
+    from .gain_method import analyze_gain_method
+    return analyze_gain_method(**resolve_gain_method(req), progress=progress)
