@@ -37,21 +37,16 @@ from ..noise.floor import band_relative_std, check_band_margin, subtract_floor
 from ..noise.gain_method import (
     band_noise_factor,
     check_source,
-    spot_means,
     spot_noise_factor,
-    third_octave_centres_hz,
-    third_octave_weights,
 )
 from ..noise.uncertainty import Budget, StatedUncertainty, dut_power_rel_std, ein_budget, gain_budget, nf_budget
 from ..units import BOLTZMANN_J_PER_K, T0_K, power_db, thermal_density_v2_per_hz, vrms_to_dbu, vrms_to_dbv
 from .gain import GainEstimate, GainSetup, measure_gain
 from .noise_inputs import NoiseInput, Progress, capture_psd, check_rates, label_of, path_of, with_vpfs
+from .gain_details import flicker_fit, qp_ein, repeat_values, resolved, spot_nf_budget, spot_values
 from .results import DETECTORS, AnalysisResult, AnalysisSpectra, RepeatSummary, SpotValue, SpurValue
 
 __all__ = ["analyze_gain_method"]
-
-_MAX_QP_SECONDS = 30.0
-
 
 # -- intermediates ------------------------------------------------------------------------------
 @dataclass(frozen=True)
@@ -198,14 +193,14 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
         fl = _floor(spec, lines, band=band, weighting=weighting, what=f"terminated capture {label_of(prep.runs[0])}",
                     notes=notes)
     bf = _band_figures(spec, fl, g, band=band, weighting=weighting, rs_ohm=rs_ohm, temperature_k=temperature_k)
-    ein_reported = bf.ein if detector != "qp" else _qp_ein(prep.runs[0], spec.term, spec.floor, fl.w_band, g, notes)
+    ein_reported = bf.ein if detector != "qp" else qp_ein(prep.runs[0], spec.term, spec.floor, fl.w_band, g, notes)
     en_diff = _voltage_noise(prep, spec, lines, fl, g, gain=gain, rs_ohm=rs_ohm, notes=notes)
-    spots = _spots(spec.f, band, prep.fs, spec.term, spec.floor, spec.short, lines.term.cleaned,
+    spots = spot_values(spec.f, band, prep.fs, spec.term, spec.floor, spec.short, lines.term.cleaned,
                    lines.floor.cleaned if lines.floor is not None else None,
                    lines.short.cleaned if lines.short is not None else None, fl.out_diff, bf.e2_diff, en_diff,
                    rs_ohm, temperature_k, notes)
     at_1k = next((s for s in spots if s.freq_hz == 1000.0), None)
-    flicker, flicker_on = _flicker(spec.f, en_diff, bf.e2_diff, lines.term, spec.term, band, flicker_range_hz,
+    flicker, flicker_on = flicker_fit(spec.f, en_diff, bf.e2_diff, lines.term, spec.term, band, flicker_range_hz,
                                    flicker_free_slope, notes)
     budgets = _budgets(spec, lines, fl, bf, g, gain=gain, stated=stated, at_1k=at_1k, ein_reported=ein_reported,
                        rs_ohm=rs_ohm, temperature_k=temperature_k, notes=notes)
@@ -338,7 +333,7 @@ def _voltage_noise(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorSte
     short_clean = lines.short.cleaned  # type: ignore[union-attr]
     floor_clean = lines.floor.cleaned if lines.floor is not None else None
     short_diff = subtract_floor(short_clean, floor_clean).difference if floor_clean is not None else short_clean
-    if spec.floor is not None and not _resolved(fl.w_band, short_clean, floor_clean, dof_measured=spec.short.dof,
+    if spec.floor is not None and not resolved(fl.w_band, short_clean, floor_clean, dof_measured=spec.short.dof,
                                                 dof_floor=spec.floor.dof, enbw_bins=fl.enbw_bins):
         notes.append(f"the shorted capture {label_of(prep.shorted)} cannot be told from the analyzer "  # type: ignore[arg-type]
                      f"floor in the band: its voltage noise is not reported")
@@ -365,7 +360,7 @@ def _budgets(spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g:
         "gain_db": gain_budget(value_db=g.gain_db, gain_kind=gain.kind, gain_rel_std=g.gain_rel_std, stated=stated),
     }
     if at_1k is not None and at_1k.noise_figure_db is not None:
-        budgets["nf_at_1khz_db"] = _spot_nf_budget(spec.f, 1000.0, spec.term, spec.floor, lines.term.cleaned,
+        budgets["nf_at_1khz_db"] = spot_nf_budget(spec.f, 1000.0, spec.term, spec.floor, lines.term.cleaned,
                                                    lines.floor.cleaned if lines.floor is not None else None,
                                                    g, gain, stated, rs_ohm, temperature_k)
     nf_band_db = float(power_db(bf.noise_factor)) if bf.noise_factor > 0 else None
@@ -383,7 +378,7 @@ def _repeat_summary(spec: _Spectra, lines: _Lines, fl: _FloorStep, g: GainEstima
     if len(spec.runs) < 2:
         return None
     floor_clean = lines.floor.cleaned if lines.floor is not None else None
-    repeats = _repeats(spec.runs, spec.floor, floor_clean, g, fl.w_band, fl.used, spec.f, band, weighting, rs_ohm,
+    repeats = repeat_values(spec.runs, spec.floor, floor_clean, g, fl.w_band, fl.used, spec.f, band, weighting, rs_ohm,
                        temperature_k, mains_hz=lines.term.mains_hz)
     if abs(repeats.noise_figure_drift_db_per_capture) * (repeats.n - 1) > 2 * max(repeats.noise_figure_std_db, 1e-12):
         notes.append(f"the noise figure drifts by {repeats.noise_figure_drift_db_per_capture:+.3f} dB per "
@@ -455,155 +450,3 @@ def _assemble(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorStep, bf
         files=files, spot=tuple(spots), notes=tuple(notes), budgets=budgets,
         spectra=_spectra_out(spec, lines, fl, bf, g, en_diff=en_diff, flicker=flicker, rs_ohm=rs_ohm,
                              temperature_k=temperature_k))
-
-
-# -- helpers of the steps -------------------------------------------------------------------------
-def _resolved(weights: NDArray[np.float64], measured: NDArray[np.float64], floor: NDArray[np.float64] | None,
-              *, dof_measured: float, dof_floor: float | None, enbw_bins: float) -> bool:
-    """True if the excess of `measured` over `floor` in these weighted bins exceeds 3 sigma."""
-    if floor is None:
-        return True
-    m = float(np.dot(weights, measured))
-    fl = float(np.dot(weights, floor))
-    sm = band_relative_std(weights, measured, dof=dof_measured, enbw_bins=enbw_bins) * m
-    sf = band_relative_std(weights, floor, dof=dof_floor, enbw_bins=enbw_bins) * fl
-    return m - fl > 3.0 * math.hypot(sm, sf)
-
-
-def _line_mask(search: LineSearch, size: int) -> NDArray[np.bool_]:
-    mask = np.zeros(size, dtype=bool)
-    for line in search.lines:
-        mask[line.bins[0]:line.bins[1] + 1] = True
-    return mask
-
-
-def _spots(f, band, fs, p_term, p_floor, p_short, term_clean, floor_clean, short_clean, out_diff,
-           e2_diff, en_diff, rs_ohm, temperature_k, notes) -> list[SpotValue]:
-    """One-third-octave spot values; a band narrower than one bin is not listed."""
-    spot_band = Band(band.low_hz, min(band.high_hz, fs / 2 / 10 ** (1 / 20)))
-    centres = [c for c in third_octave_centres_hz(spot_band)
-               if c[1] * (10 ** (1 / 20) - 10 ** (-1 / 20)) >= p_term.bin_width_hz]
-    spot_w = [third_octave_weights(f, exact) for _label, exact in centres]
-    e2_spot = spot_means(spot_w, e2_diff)
-    out_spot = spot_means(spot_w, out_diff)
-    nf_spot = spot_noise_factor(e2_spot, rs_ohm=rs_ohm, temperature_k=temperature_k)
-    en_spot = spot_means(spot_w, en_diff) if en_diff is not None else None
-    enbw_bins = p_term.enbw_hz / p_term.bin_width_hz
-    floor_dof = p_floor.dof if p_floor is not None else None
-    spots, low_margin = [], []
-    for i, ((label, _exact), w_full) in enumerate(zip(centres, spot_w)):
-        span = _nonzero_span(w_full)  # a band's few bins: the rest weigh nothing
-        w_s, term_s = w_full[span], term_clean[span]
-        floor_s = floor_clean[span] if floor_clean is not None else None
-        ok = e2_spot[i] > 0 and _resolved(w_s, term_s, floor_s, dof_measured=p_term.dof,
-                                          dof_floor=floor_dof, enbw_bins=enbw_bins)
-        m_band = float(np.dot(w_s, term_s))
-        f_band = float(np.dot(w_s, floor_s)) if floor_s is not None else None
-        m_db = float(power_db(m_band / f_band)) if f_band is not None else None
-        if m_db is not None and m_db < 3.0:
-            low_margin.append(label)
-        en_ok = (en_spot is not None and en_spot[i] > 0
-                 and _resolved(w_s, short_clean[span], floor_s, dof_measured=p_short.dof,
-                               dof_floor=floor_dof, enbw_bins=enbw_bins))
-        rel = dut_power_rel_std(
-            measured=m_band, measured_rel_std=band_relative_std(w_s, term_s, dof=p_term.dof, enbw_bins=enbw_bins),
-            floor=f_band, floor_rel_std=(band_relative_std(w_s, floor_s, dof=floor_dof, enbw_bins=enbw_bins)
-                                         if floor_s is not None else None))
-        spots.append(SpotValue(
-            freq_hz=label,
-            input_density_v_per_rthz=math.sqrt(e2_spot[i]) if ok else None,
-            noise_figure_db=float(power_db(nf_spot[i])) if ok and nf_spot[i] > 0 else None,
-            output_density_v_per_rthz=math.sqrt(out_spot[i]) if ok else None,
-            floor_margin_db=m_db,
-            voltage_noise_v_per_rthz=math.sqrt(en_spot[i]) if en_ok else None,
-            # A density's amplitude has half the relative uncertainty of its power: U = 2 * 8.686 * rel / 2 dB.
-            input_density_expanded_db=float(8.686 * rel) if ok and math.isfinite(rel) else None,
-        ))
-    if low_margin:
-        notes.append("less than 3 dB above the analyzer floor at " +
-                     ", ".join(f"{x:g} Hz" for x in low_margin) + ": those spot values are uncertain")
-    if not any(s.input_density_v_per_rthz for s in spots):
-        notes.append("no spot frequency is resolved above the floor")
-    return spots
-
-
-def _nonzero_span(weights: NDArray[np.float64]) -> slice:
-    """The slice from the first to the last non-zero weight."""
-    nz = np.flatnonzero(weights)
-    return slice(int(nz[0]), int(nz[-1]) + 1) if nz.size else slice(0, 0)
-
-
-def _flicker(f, en_diff, e2_diff, s_term, p_term, band, range_hz, free_slope, notes):
-    from ..noise.flicker import fit_flicker
-    target, on = ((en_diff, "shorted (amplifier voltage noise)") if en_diff is not None
-                  else (e2_diff, "terminated (total input noise, source included)"))
-    rng = range_hz if range_hz is not None else (max(band.low_hz, 2 * p_term.bin_width_hz),
-                                                 min(band.high_hz, 10_000.0))
-    try:
-        fit = fit_flicker(f, target, dof=p_term.dof, enbw_bins=p_term.enbw_hz / p_term.bin_width_hz,
-                          range_hz=rng, exclude=_line_mask(s_term, f.size), free_slope=free_slope)
-    except MeasurementError as err:
-        notes.append(f"no 1/f corner: {err}")
-        return None, None
-    if fit.corner_hz < rng[0] / 3:
-        notes.append(f"the 1/f corner ({fit.corner_hz:.2g} Hz) lies below the fit range's bottom "
-                     f"({rng[0]:g} Hz): it is an extrapolation")
-    return fit, on
-
-
-def _qp_ein(capture: NoiseInput, p_term: Psd, p_floor: Psd | None, w_band, g: GainEstimate,
-            notes: list[str]) -> float:
-    from ..dsp.quasipeak import qp_reading
-    if not isinstance(capture, Capture):
-        raise ParameterError("a quasi-peak reading needs a time-domain capture, not a spectrum trace")
-    x = capture.read(max_frames=int(_MAX_QP_SECONDS * capture.sample_rate_hz))
-    reading = qp_reading(x * float(capture.volts_per_fs), sample_rate_hz=capture.sample_rate_hz)
-    qp = reading.median
-    if p_floor is not None:
-        ratio = float(np.dot(w_band, p_floor.psd_per_hz) / np.dot(w_band, p_term.psd_per_hz))
-        qp *= math.sqrt(max(1.0 - ratio, 0.0))
-        notes.append("quasi-peak reading floor-corrected by the weighted RMS ratio of floor to DUT "
-                     "(assumes the same peak-to-RMS behaviour for both noises)")
-    g_1k = math.sqrt(float(np.interp(1000.0, p_term.frequency_hz, g.power_gain)))
-    notes.append(f"quasi-peak: median indication over {reading.seconds_used:.1f} s after settling "
-                 f"(95th percentile {reading.p95 / reading.median:.2f} times higher), referred through "
-                 f"the gain at 1 kHz")
-    return qp / g_1k
-
-
-def _spot_nf_budget(f, centre_hz, p_term, p_floor, term_clean, floor_clean, g, gain, stated, rs_ohm,
-                    temperature_k) -> Budget:
-    w = third_octave_weights(f, centre_hz)
-    enbw_bins = p_term.enbw_hz / p_term.bin_width_hz
-    m = float(np.dot(w, term_clean))
-    m_rel = band_relative_std(w, term_clean, dof=p_term.dof, enbw_bins=enbw_bins)
-    fl = fl_rel = None
-    if p_floor is not None:
-        fl = float(np.dot(w, floor_clean))
-        fl_rel = band_relative_std(w, floor_clean, dof=p_floor.dof, enbw_bins=enbw_bins)
-    e2 = (m - (fl or 0.0)) / float(np.dot(w, g.power_gain)) * w.sum()
-    b = float(w.sum())
-    n0 = 4 * BOLTZMANN_J_PER_K * T0_K * rs_ohm * b
-    nt = float(thermal_density_v2_per_hz(resistance_ohm=rs_ohm, temperature_k=temperature_k)) * b
-    factor = 1 + (e2 - nt) / n0
-    return nf_budget(quantity="nf_at_1khz_db", noise_factor=factor, excess_over_n0=e2 / n0,
-                     dut_rel_std=dut_power_rel_std(measured=m, measured_rel_std=m_rel, floor=fl,
-                                                   floor_rel_std=fl_rel),
-                     floor_corrected=p_floor is not None, gain_kind=gain.kind,
-                     gain_rel_std=g.gain_rel_std, stated=stated, response_rel_std=g.response_rel_std)
-
-
-def _repeats(p_runs, p_floor, floor_clean, g, w_band, used, f, band, weighting, rs_ohm, temperature_k,
-             *, mains_hz) -> RepeatSummary:
-    eins, nfs = [], []
-    for p in p_runs:
-        clean = find_lines(p, mains_hz=mains_hz).cleaned
-        diff = clean - floor_clean if floor_clean is not None else clean
-        e2 = diff / g.power_gain
-        eins.append(float(vrms_to_dbu(math.sqrt(max(float(np.dot(w_band[used], e2[used])), 1e-300)))))
-        nfs.append(float(power_db(max(band_noise_factor(f, e2, band, weighting=weighting, rs_ohm=rs_ohm,
-                                                        temperature_k=temperature_k), 1e-12))))
-    idx = np.arange(len(nfs), dtype=np.float64)
-    slope = float(np.polyfit(idx, nfs, 1)[0]) if len(nfs) > 1 else 0.0
-    return RepeatSummary(len(nfs), tuple(eins), tuple(nfs), float(np.std(eins, ddof=1)),
-                         float(np.std(nfs, ddof=1)), slope)

@@ -1,0 +1,191 @@
+"""The equations of the Y-factor measurement for one band: state spectra, band powers, the model of the
+whole chain (second-stage correction, losses) and its uncertainty budget. Used by
+:mod:`benchnf.measure.yfactor`; equations in :mod:`benchnf.noise.yfactor` and docs/yfactor.md."""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import Any, Union
+
+import numpy as np
+from numpy.typing import NDArray
+
+from ..capture import Capture
+from ..dsp.spectrum import Psd, welch_iq_psd
+from ..dsp.weighting import Band
+from ..errors import CaptureError, ParameterError
+from ..io.sigmf_iq import IqCapture
+from ..noise.floor import band_relative_std
+from ..noise.uncertainty import Budget, propagate
+from ..noise.yfactor import hot_temperature_from_enr, join_output_loss, noise_temperature_from_y, remove_input_loss
+from ..streaming import stream_spectrum
+from ..units import T0_K, fs_to_dbfs
+
+__all__ = ["Source", "state_spectrum", "usable_mask", "subbands", "Powers", "band_powers", "Model",
+           "budget_inputs", "evaluate_budgets", "open_pairs"]
+
+Source = Union[Capture, IqCapture]
+
+
+def state_spectrum(src: Source, seg: int, progress: Callable[[int], None] | None) -> tuple[Psd, float]:
+    """PSD in full-scale units (a ratio method needs no volts) and the RMS level in dBFS."""
+    if isinstance(src, IqCapture):
+        power = [0.0, 0]
+
+        def note(block):
+            power[0] += float(np.sum(block.real ** 2 + block.imag ** 2))
+            power[1] += block.size
+            if progress is not None:
+                progress(block.size)
+
+        psd = welch_iq_psd(src.blocks(), sample_rate_hz=src.sample_rate_hz, segment_length=seg,
+                           centre_hz=src.centre_hz, on_block=note)
+        if power[0] == 0:
+            raise CaptureError(f"{src.label} is silent (every sample is zero)")
+        # IQ full scale: |z| = 1, so a full-scale complex sine has power 1 (0 dBFS).
+        return psd, float(10 * math.log10(power[0] / power[1]))
+    acc, stats = stream_spectrum(src, segment_length=seg, progress=progress)
+    stats.check_noise()
+    return acc.result(), float(fs_to_dbfs(stats.rms_fs))
+
+
+def usable_mask(f: NDArray[np.float64], src: Source, dc_exclude_hz: float | None,
+                 edge_fraction: float, excluded: dict[str, Any]) -> NDArray[np.bool_]:
+    if not isinstance(src, IqCapture):
+        return np.ones(f.size, dtype=bool)
+    if not 0 <= edge_fraction < 0.5:
+        raise ParameterError(f"edge fraction {edge_fraction!r} must lie in [0, 0.5)")
+    span = src.sample_rate_hz
+    df = f[1] - f[0]
+    dc = dc_exclude_hz if dc_exclude_hz is not None else max(3 * df, 0.005 * span)
+    edge = edge_fraction * span / 2
+    lo, hi = src.centre_hz - span / 2 + edge, src.centre_hz + span / 2 - edge
+    mask = (np.abs(f - src.centre_hz) > dc) & (f >= lo) & (f <= hi)
+    excluded.update({"dc_spike_hz": [src.centre_hz - dc, src.centre_hz + dc],
+                     "edges_hz": [[src.centre_hz - span / 2, lo], [hi, src.centre_hz + span / 2]]})
+    return mask
+
+
+def subbands(band: Band, n: int) -> list[Band]:
+    if band.low_hz > 0 and band.high_hz / band.low_hz > 10:
+        edges = np.geomspace(band.low_hz, band.high_hz, n + 1)
+    else:
+        edges = np.linspace(band.low_hz, band.high_hz, n + 1)
+    return [Band(float(a), float(b)) for a, b in zip(edges[:-1], edges[1:])]
+
+
+@dataclass
+class Powers:
+    """Band powers and their relative Welch scatter."""
+
+    hot: float
+    cold: float
+    u_hot: float
+    u_cold: float
+    cal_hot: float | None = None
+    cal_cold: float | None = None
+    u_cal_hot: float = 0.0
+    u_cal_cold: float = 0.0
+
+
+def band_powers(w, p_hot, p_cold, p_floor, p_ch, p_cc) -> Powers:
+    def one(p: Psd | None):
+        if p is None:
+            return None, 0.0
+        s = p.psd_per_hz - (p_floor.psd_per_hz if p_floor is not None else 0.0)
+        enbw = p.enbw_hz / p.bin_width_hz
+        raw = float(np.dot(w, p.psd_per_hz))
+        value = float(np.dot(w, s))
+        rel = band_relative_std(w, p.psd_per_hz, dof=p.dof, enbw_bins=enbw) * raw / value if value > 0 else math.inf
+        if p_floor is not None:
+            fl = float(np.dot(w, p_floor.psd_per_hz))
+            rel = math.hypot(rel * value, band_relative_std(w, p_floor.psd_per_hz, dof=p_floor.dof,
+                                                            enbw_bins=enbw) * fl) / value if value > 0 else math.inf
+        return value, rel
+
+    h, uh = one(p_hot)
+    c, uc = one(p_cold)
+    ch, uch = one(p_ch)
+    cc, ucc = one(p_cc)
+    return Powers(h, c, uh, uc, ch, cc, uch, ucc)  # type: ignore[arg-type]
+
+
+class Model:
+    """The whole chain of equations for one (sub-)band, as a function of its inputs (for the budget)."""
+
+    def __init__(self, source: Any, f_centre: float, loss_before: Any,
+                 loss_after: Any, corrected: bool) -> None:
+        self.source, self.f, self.lb, self.la, self.corrected = source, f_centre, loss_before, loss_after, corrected
+        self.enr0 = (float(source.enr.at(np.array([f_centre]))[0]) if source.enr is not None else None)
+
+    def factors(self, *, hot, cold, cal_hot=None, cal_cold=None, enr_db=None, t_hot=None, t_cold=None):
+        th = (float(hot_temperature_from_enr(enr_db if enr_db is not None else self.enr0))
+              if self.source.enr is not None else (t_hot if t_hot is not None else self.source.t_hot_k))
+        tc = t_cold if t_cold is not None else self.source.cold_k
+        y12 = hot / cold
+        f12 = 1 + float(noise_temperature_from_y(y12, t_hot_k=th, t_cold_k=tc)) / T0_K
+        f2 = g1 = None
+        f1 = f12
+        if self.corrected:
+            y2 = cal_hot / cal_cold
+            f2 = 1 + float(noise_temperature_from_y(y2, t_hot_k=th, t_cold_k=tc)) / T0_K
+            g1 = (hot - cold) / (cal_hot - cal_cold)
+            f2_eff = f2
+            if self.la is not None:
+                f2_eff = float(join_output_loss(f2, self.la.loss_db, self.la.temperature_k))
+                g1 = g1 * 10 ** (self.la.loss_db / 10)
+            f1 = f12 - (f2_eff - 1) / g1
+        if self.lb is not None:
+            f1 = float(remove_input_loss(f1, self.lb.loss_db, self.lb.temperature_k))
+            if g1 is not None:
+                g1 = g1 * 10 ** (self.lb.loss_db / 10)
+        return y12, f12, f2, g1, f1
+
+    def nf_db(self, **kw) -> float:
+        f1 = self.factors(**kw)[4]
+        if not f1 > 0:
+            raise ValueError("noise factor <= 0")
+        return 10 * math.log10(f1)
+
+    def gain_db(self, **kw) -> float:
+        g1 = self.factors(**kw)[3]
+        if not g1 or g1 <= 0:
+            raise ValueError("gain <= 0")
+        return 10 * math.log10(g1)
+
+
+def budget_inputs(pw: Powers, source: Any, corrected: bool) -> dict[str, tuple[float, float, str]]:
+    inp = {"hot": (pw.hot, pw.hot * pw.u_hot, "Welch scatter of the hot band power"),
+           "cold": (pw.cold, pw.cold * pw.u_cold, "Welch scatter of the cold band power")}
+    if corrected:
+        inp["cal_hot"] = (pw.cal_hot, pw.cal_hot * pw.u_cal_hot, "Welch scatter, calibration pair hot")
+        inp["cal_cold"] = (pw.cal_cold, pw.cal_cold * pw.u_cal_cold, "Welch scatter, calibration pair cold")
+    if source.enr is not None:
+        inp["enr_db"] = (None, source.enr_u_db(), f"ENR standard uncertainty {source.enr_u_db():g} dB")  # type: ignore[assignment]
+    else:
+        inp["t_hot"] = (source.t_hot_k, source.temperature_uncertainty_k,
+                        f"hot temperature +/-{source.temperature_uncertainty_k:g} K (standard)")
+    inp["t_cold"] = (source.cold_k, source.temperature_uncertainty_k,
+                     f"cold temperature +/-{source.temperature_uncertainty_k:g} K (standard)")
+    return inp
+
+
+def evaluate_budgets(model: Model, pw: Powers, source: Any, corrected: bool) -> tuple[Budget, Budget | None]:
+    inp = budget_inputs(pw, source, corrected)
+    if "enr_db" in inp:
+        inp["enr_db"] = (model.enr0, inp["enr_db"][1], inp["enr_db"][2])
+    nf = propagate(model.nf_db, inp, quantity="noise_figure_db")
+    gain = propagate(model.gain_db, inp, quantity="gain_db") if corrected else None
+    return nf, gain
+
+
+def open_pairs(hot, cold) -> tuple[list[Source], list[Source]]:
+    hot = list(hot) if isinstance(hot, (list, tuple)) else [hot]
+    cold = list(cold) if isinstance(cold, (list, tuple)) else [cold]
+    if not hot or not cold:
+        raise ParameterError("give at least one hot and one cold capture")
+    if len(hot) != len(cold):
+        raise ParameterError(f"{len(hot)} hot and {len(cold)} cold captures: give them in pairs")
+    return hot, cold
