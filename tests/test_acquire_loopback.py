@@ -110,11 +110,15 @@ def test_killed_recording_is_readable_and_recoverable(tmp_path):
     from benchnf.io import open_capture
     out = tmp_path / "long.wav"
     proc = subprocess.Popen([sys.executable, "-m", "benchnf", "record", "--device", DEVICE, "--seconds", "60",
-                             "--condition", "floor", "-o", str(out), "--quiet"],
+                             "--condition", "terminated", "--rs", "150", "-o", str(out), "--quiet"],
                             stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     time.sleep(4.0)
     proc.kill()
     proc.wait(timeout=10)
+    # The sidecar was written before the first sample: the condition, the device and Rs survive kill -9.
+    side = json.loads((tmp_path / "long.json").read_text())
+    assert (side["status"], side["condition"], side["rs_ohm"], side["device"]) == ("recording", "terminated",
+                                                                                    150.0, DEVICE)
     cap = open_capture(out)  # the header was kept valid: no recovery needed
     assert cap.n_frames > FS // 2 and sum(b.size for b in cap.blocks()) == cap.n_frames
     # A stale header (as older recorders leave it): recover rescues every frame, the file untouched.
@@ -130,17 +134,18 @@ def test_killed_recording_is_readable_and_recoverable(tmp_path):
     assert recover_wav is not None
 
 
-def test_ctrl_c_keeps_what_was_recorded(tmp_path):
+@pytest.mark.parametrize("sig", [signal.SIGINT, signal.SIGTERM], ids=["Ctrl-C", "SIGTERM"])
+def test_ctrl_c_and_sigterm_keep_what_was_recorded(tmp_path, sig):
     out = tmp_path / "stopped.wav"
     proc = subprocess.Popen([sys.executable, "-m", "benchnf", "record", "--device", DEVICE, "--seconds", "60",
                              "--condition", "floor", "-o", str(out), "--quiet"],
                             stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True)
     time.sleep(4.0)  # the interpreter's start-up and the stream's take a second or two
-    proc.send_signal(signal.SIGINT)
+    proc.send_signal(sig)
     _, err = proc.communicate(timeout=20)
     assert proc.returncode == ExitStatus.INTERRUPTED, err
     side = json.loads((tmp_path / "stopped.json").read_text())
-    assert side["interrupted"] is True and side["frames"] > FS // 2
+    assert side["interrupted"] is True and side["frames"] > FS // 2 and side["status"] == "interrupted"
     assert sf.info(str(out)).frames == side["frames"]
 
 
@@ -250,6 +255,14 @@ def test_no_matching_device_gives_exit_3(tmp_path, capsys):
 
 
 def test_impossible_channel_count_is_refused(tmp_path, capsys):
-    rc = main(["record", "--device", DEVICE, "--seconds", "1", "--channels", "99", "--condition", "floor",
+    rc = main(["record", "--device", DEVICE, "--seconds", "1", "--channels", "64", "--condition", "floor",
                "-o", str(tmp_path / "x.wav")])
     assert rc == ExitStatus.BAD_INPUT and "input channels" in capsys.readouterr().err
+
+
+def test_a_start_that_fails_leaves_no_file(tmp_path, capsys):
+    rc = main(["record", "--device", DEVICE, "--rate", "9999999", "--seconds", "1", "--condition", "floor",
+               "-o", str(tmp_path / "never.wav")])
+    err = capsys.readouterr().err.strip().splitlines()  # "recording from ..." then the one error line
+    assert rc == ExitStatus.BAD_INPUT and err[-1].startswith("benchnf: error:") and "Invalid sample rate" in err[-1]
+    assert list(tmp_path.iterdir()) == []

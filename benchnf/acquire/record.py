@@ -136,6 +136,110 @@ def _start_files(path: Path, writer: Writer, sidecar: dict[str, Any], *, sample_
         raise
 
 
+class _Session:
+    """One recording's moving parts: the callback (copies into a queue), the disk thread (drains it),
+    the counters of both, and the clock check afterwards."""
+
+    def __init__(self, fh: Any, *, target: int, on_progress: Callable[[int], None] | None, stop_cls: type) -> None:
+        self.fh, self.target, self.on_progress, self.stop_cls = fh, target, on_progress, stop_cls
+        self.q: queue.Queue = queue.Queue()
+        self.done = threading.Event()
+        self.queued = self.overflows = self.written = self.first_frames = self.max_block = 0
+        self.first: float | None = None
+        self.last: float | None = None
+        self.error: BaseException | None = None
+        self.thread = threading.Thread(target=self._drain, name="benchnf-writer", daemon=True)
+
+    def callback(self, indata: Any, frames: int, _time: Any, status: Any) -> None:
+        now = time.monotonic()
+        if self.first is None:
+            self.first, self.first_frames = now, frames
+        self.last = now
+        self.max_block = max(self.max_block, frames)
+        if status.input_overflow:
+            self.overflows += 1
+        take = min(frames, self.target - self.queued)
+        if take > 0:
+            self.q.put(indata[:take].copy())
+            self.queued += take
+        if self.queued >= self.target:
+            self.done.set()
+            raise self.stop_cls
+
+    def _drain(self) -> None:
+        while True:
+            block = self.q.get()
+            if block is None:
+                return
+            if self.error is not None:
+                continue
+            try:
+                self.fh.write(block)
+                self.written += len(block)
+                if self.on_progress:
+                    self.on_progress(len(block))
+            except (OSError, RuntimeError) as err:  # disk full, device removed...
+                self.error = err
+                self.done.set()
+
+    def close(self) -> None:
+        self.q.put(None)
+        self.thread.join()
+        self.fh.close()
+
+    def clock_check(self, sample_rate_hz: float, interrupted: bool) -> tuple[int, bool]:
+        """Frames delivered between the first and the last callback against the wall clock over the same span
+        (the stream's start-up latency left out); host APIs deliver in bursts, so a few blocks of slack are
+        allowed. Returns the mismatch in frames and whether the capture has dropouts."""
+        if self.first is None or self.last is None:
+            return 0, self.overflows > 0
+        expected = (self.last - self.first) * sample_rate_hz + self.first_frames
+        mismatch = int(abs(self.queued - expected))
+        slack = max(0.02 * expected, 0.2 * sample_rate_hz, 4 * self.max_block)
+        return mismatch, self.overflows > 0 or (not interrupted and mismatch > slack)
+
+
+def _check_channels(dev: DeviceInfo, channels: int) -> DeviceInfo:
+    """Refuse more channels than the device has, before any file is created."""
+    if channels > dev.max_input_channels:
+        raise AcquisitionError(f"{dev.describe()} has {dev.max_input_channels} input channels, not {channels}")
+    return dev
+
+
+def _stream(sd: Any, session: _Session, dev: DeviceInfo, *, path: Path, channels: int, sample_rate_hz: float,
+            seconds: float, stop: threading.Event | None, notes: list[str]) -> tuple[bool, float]:
+    """Run the input stream until the target, a stop or Ctrl-C; returns (interrupted, elapsed seconds)."""
+    interrupted = False
+    t0 = time.monotonic()
+    try:
+        try:
+            stream = sd.InputStream(samplerate=sample_rate_hz, channels=channels, dtype="float32", device=dev.index,
+                                    callback=session.callback, blocksize=0)
+        except sd.PortAudioError as err:
+            session.fh.close()
+            for p in (path, sidecar_candidates(path)[0]):  # nothing was recorded: leave nothing behind
+                p.unlink(missing_ok=True)
+            raise AcquisitionError(f"{dev.describe()} cannot record {channels} channel(s) at {sample_rate_hz:g} Hz: "
+                                   f"{err}") from err
+        session.thread.start()
+        with stream:
+            t0 = time.monotonic()
+            while not session.done.wait(0.1):
+                if stop is not None and stop.is_set():
+                    interrupted = True
+                    break
+                if time.monotonic() - t0 > seconds * 2 + 10:
+                    notes.append("the device delivered too few frames in twice the requested time")
+                    break
+    except KeyboardInterrupt:
+        interrupted = True
+    finally:
+        elapsed = time.monotonic() - t0
+        if session.thread.is_alive():
+            session.close()
+    return interrupted, elapsed
+
+
 def record_to_file(path: str | Path, *, seconds: float, sample_rate_hz: float, channels: int = 1,
                    device: str | None = None, host_api: str | None = None, condition: str | None = None,
                    metadata: dict[str, Any] | None = None, subtype: str = "FLOAT",
@@ -160,112 +264,35 @@ def record_to_file(path: str | Path, *, seconds: float, sample_rate_hz: float, c
     _refuse_existing(path)
     if not (math.isfinite(seconds) and seconds > 0):
         raise AcquisitionError(f"--seconds {seconds!r} must be > 0")
-    dev: DeviceInfo = find_device(device, host_api=host_api, kind="input")
-    if channels > dev.max_input_channels:
-        raise AcquisitionError(f"{dev.describe()} has {dev.max_input_channels} input channels, not {channels}")
+    dev = _check_channels(find_device(device, host_api=host_api, kind="input"), channels)
     notes = [n for n in (rate_note(dev, sample_rate_hz),) if n]
     target = int(round(seconds * sample_rate_hz))
-    big = target * channels * 4 > 2 ** 31
     from .. import __version__
     started = {**(metadata or {}), "condition": condition, "device": dev.name, "host_api": dev.host_api,
                "sample_rate_hz": sample_rate_hz, "channels": channels, "status": "recording",
                "recorded_at": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
                "software": f"benchnf {__version__}"}
     fh = _start_files(path, writer, started, sample_rate_hz=sample_rate_hz, channels=channels, subtype=subtype,
-                      big=big)
+                      big=target * channels * 4 > 2 ** 31)
     try:
         sf._snd.sf_command(fh._file, _SFC_SET_UPDATE_HEADER_AUTO, sf._ffi.NULL, 1)
     except AttributeError:  # pragma: no cover - another soundfile layout: recover covers it
         notes.append("the header is updated only at the end: after a crash use 'benchnf recover'")
-    q: queue.Queue = queue.Queue()
-    state = {"queued": 0, "overflows": 0, "written": 0, "error": None, "first": None, "last": None,
-             "first_frames": 0, "max_block": 0}
-    done = threading.Event()
-
-    def callback(indata, frames, _time, status):
-        now = time.monotonic()
-        if state["first"] is None:
-            state["first"], state["first_frames"] = now, frames
-        state["last"] = now
-        state["max_block"] = max(state["max_block"], frames)
-        if status.input_overflow:
-            state["overflows"] += 1
-        take = min(frames, target - state["queued"])
-        if take > 0:
-            q.put(indata[:take].copy())
-            state["queued"] += take
-        if state["queued"] >= target:
-            done.set()
-            raise sd.CallbackStop
-
-    def writer():
-        while True:
-            block = q.get()
-            if block is None:
-                return
-            if state["error"] is not None:
-                continue
-            try:
-                fh.write(block)
-                state["written"] += len(block)
-                if on_progress:
-                    on_progress(len(block))
-            except (OSError, RuntimeError) as err:  # disk full, device removed...
-                state["error"] = err
-                done.set()
-
-    thread = threading.Thread(target=writer, name="benchnf-writer", daemon=True)
-    thread.start()
-    interrupted = False
-    t0 = time.monotonic()
-    try:
-        try:
-            stream = sd.InputStream(samplerate=sample_rate_hz, channels=channels, dtype="float32", device=dev.index,
-                                    callback=callback, blocksize=0)
-        except sd.PortAudioError as err:
-            fh.close()
-            for p in (path, sidecar_candidates(path)[0]):  # nothing was recorded: leave nothing behind
-                p.unlink(missing_ok=True)
-            raise AcquisitionError(f"{dev.describe()} cannot record {channels} channel(s) at {sample_rate_hz:g} Hz: "
-                                   f"{err}") from err
-        with stream:
-            t0 = time.monotonic()
-            while not done.wait(0.1):
-                if stop is not None and stop.is_set():
-                    interrupted = True
-                    break
-                if time.monotonic() - t0 > seconds * 2 + 10:
-                    notes.append("the device delivered too few frames in twice the requested time")
-                    break
-    except KeyboardInterrupt:
-        interrupted = True
-    finally:
-        elapsed = time.monotonic() - t0
-        q.put(None)
-        thread.join()
-        fh.close()
-    # The clock check: frames delivered between the first and the last callback against the wall clock
-    # over the same span (the start-up latency of the stream is left out).  Host APIs deliver in bursts,
-    # so a few blocks of slack are allowed.
-    if state["first"] is not None and state["last"] is not None:
-        expected = (state["last"] - state["first"]) * sample_rate_hz + state["first_frames"]
-        mismatch = int(abs(state["queued"] - expected))
-        slack = max(0.02 * expected, 0.2 * sample_rate_hz, 4 * state["max_block"])
-    else:
-        expected, mismatch, slack = 0.0, 0, 1.0
-    dropouts = state["overflows"] > 0 or (not interrupted and mismatch > slack)
-    report = RecordingReport(path, state["written"], seconds, elapsed, state["overflows"], mismatch, dropouts,
-                             interrupted, dev.name, dev.host_api, tuple(notes))
+    session = _Session(fh, target=target, on_progress=on_progress, stop_cls=sd.CallbackStop)
+    interrupted, elapsed = _stream(sd, session, dev, path=path, channels=channels, sample_rate_hz=sample_rate_hz,
+                                   seconds=seconds, stop=stop, notes=notes)
+    mismatch, dropouts = session.clock_check(sample_rate_hz, interrupted)
     Writer(overwrite=True).json(sidecar_candidates(path)[0], {  # our own sidecar, completed in place
-        **started, "status": "interrupted" if interrupted else "complete", "frames": state["written"],
-        "elapsed_s": round(elapsed, 3), "input_overflows": state["overflows"],
+        **started, "status": "interrupted" if interrupted else "complete", "frames": session.written,
+        "elapsed_s": round(elapsed, 3), "input_overflows": session.overflows,
         "clock_mismatch_frames": mismatch, "dropouts": bool(dropouts), "interrupted": interrupted})
-    if state["error"] is not None:
-        raise AcquisitionError(f"writing {path} failed after {state['written']} frames ({state['error']}): disk "
+    if session.error is not None:
+        raise AcquisitionError(f"writing {path} failed after {session.written} frames ({session.error}): disk "
                                f"full or not writable; what was recorded is kept")
     if interrupted and stop is None:
         raise KeyboardInterrupt
-    return report
+    return RecordingReport(path, session.written, seconds, elapsed, session.overflows, mismatch, dropouts,
+                           interrupted, dev.name, dev.host_api, tuple(notes))
 
 
 def _chunk_follows(path: Path, offset: int) -> bool:
