@@ -33,84 +33,117 @@ def add_parser(sub: Any) -> None:
     p = sub.add_parser("analyze", help="gain-method noise analysis of captures",
                        description="Gain, input-referred noise density, EIN and noise figure "
                                    "from a terminated-input capture and a tone (or stated gain).")
-    p.add_argument("--terminated", type=Path, required=True, nargs="+", metavar="FILE",
+    for options in (_capture_options, _gain_options, _source_options, _band_options, _limit_options,
+                    _trace_options):
+        options(p)
+    calibration_options(p)
+    output_options(p)
+    p.set_defaults(run=run)
+
+
+def _capture_options(p: argparse.ArgumentParser) -> None:
+    """The captures of the measurement."""
+    a = p.add_argument_group("captures")
+    a.add_argument("--terminated", type=Path, required=True, nargs="+", metavar="FILE",
                    help="DUT output with its input terminated in Rs (several: repeats, pooled, with "
                         "their scatter and drift)")
-    p.add_argument("--floor", type=Path, metavar="FILE",
+    a.add_argument("--floor", type=Path, metavar="FILE",
                    help="analyzer alone with its input terminated (subtracted in linear power)")
-    p.add_argument("--shorted", type=Path, metavar="FILE",
+    a.add_argument("--shorted", type=Path, metavar="FILE",
                    help="DUT output with its input shorted (voltage noise alone)")
-    g = p.add_mutually_exclusive_group(required=True)
+
+
+def _gain_options(p: argparse.ArgumentParser) -> None:
+    """How the gain is known."""
+    a = p.add_argument_group("gain")
+    g = a.add_mutually_exclusive_group(required=True)
     g.add_argument("--tone", type=Path, metavar="FILE", help="DUT output driven by a known sine")
     g.add_argument("--gain-db", type=gain_db, metavar="G",
                    help="stated voltage gain from source EMF to output, dB")
-    p.add_argument("--tone-input-vrms", type=positive_volts, metavar="V",
+    a.add_argument("--tone-input-vrms", type=positive_volts, metavar="V",
                    help="RMS of the tone at the source EMF (default: the tone sidecar's "
                         "tone_input_vrms)")
-    p.add_argument("--tone-input-channel", type=channel_index, metavar="N",
+    a.add_argument("--tone-input-channel", type=channel_index, metavar="N",
                    help="the tone capture's channel that records the DUT input (two-channel gain)")
-    p.add_argument("--tone-hz", type=positive_hz, metavar="F",
+    a.add_argument("--tone-hz", type=positive_hz, metavar="F",
                    help="stated tone frequency; the tone must be found there")
-    p.add_argument("--gain-frequency-hz", type=positive_hz, default=1000.0, metavar="F",
+    a.add_argument("--gain-frequency-hz", type=positive_hz, default=1000.0, metavar="F",
                    help="frequency a --gain-db holds at (default 1000)")
-    p.add_argument("--response", type=Path, metavar="FILE",
+    a.add_argument("--response", type=Path, metavar="FILE",
                    help="two-channel capture of a broadband stimulus, DUT input and output, "
                         "for the shape of the response")
-    p.add_argument("--response-channels", type=channel_index, nargs=2, default=[0, 1],
+    a.add_argument("--response-channels", type=channel_index, nargs=2, default=[0, 1],
                    metavar=("IN", "OUT"), help="channels of --response (default 0 1)")
-    p.add_argument("--zin-ohm", type=positive_ohm, metavar="OHM",
+    a.add_argument("--zin-ohm", type=positive_ohm, metavar="OHM",
                    help="DUT input impedance, when the tone level was taken at the DUT's terminals")
-    p.add_argument("--rs", type=positive_ohm, metavar="OHM",
+
+
+def _source_options(p: argparse.ArgumentParser) -> None:
+    """The source resistance and its temperature."""
+    a = p.add_argument_group("source")
+    a.add_argument("--rs", type=positive_ohm, metavar="OHM",
                    help="source resistance (default: the terminated sidecar's rs_ohm)")
-    p.add_argument("--temperature-k", type=resistor_kelvin, metavar="K",
+    a.add_argument("--temperature-k", type=resistor_kelvin, metavar="K",
                    help="the source resistor's temperature (default: sidecar, else 290 K)")
-    bands = p.add_mutually_exclusive_group()
+
+
+def _band_options(p: argparse.ArgumentParser) -> None:
+    """Band, weighting, detector, hum, 1/f and SNR."""
+    a = p.add_argument_group("band and reading")
+    bands = a.add_mutually_exclusive_group()
     bands.add_argument("--band", type=non_negative_hz, nargs=2, metavar=("LO", "HI"),
                        help="integration band in Hz (default 20 20000)")
     bands.add_argument("--band-preset", choices=["audio", "wide", "no-hum"],
                        help="audio 20 Hz-20 kHz, wide 22 Hz-22 kHz, no-hum 400 Hz-22 kHz")
-    p.add_argument("--weighting", choices=["none", "A", "C", "468", "468-2k"],
+    a.add_argument("--weighting", choices=["none", "A", "C", "468", "468-2k"],
                    help="frequency weighting of band figures: IEC 61672-1 A or C, ITU-R BS.468-4 "
                         "(0 dB at 1 kHz) or 468-2k (0 dB at 2 kHz, for an RMS detector); default none")
-    p.add_argument("--detector", choices=["rms", "qp"], default="rms",
+    a.add_argument("--detector", choices=["rms", "qp"], default="rms",
                    help="rms, or qp: the BS.468-4 quasi-peak meter (with --weighting 468 only)")
-    p.add_argument("--mains-hz", type=mains_hz, metavar="F",
+    a.add_argument("--mains-hz", type=mains_hz, metavar="F",
                    help="mains fundamental for the hum families (default: found, 50 or 60)")
-    p.add_argument("--flicker-range", type=positive_hz, nargs=2, metavar=("LO", "HI"),
+    a.add_argument("--flicker-range", type=positive_hz, nargs=2, metavar=("LO", "HI"),
                    help="range of the 1/f fit in Hz (default: band bottom to 10 kHz)")
-    p.add_argument("--flicker-free-slope", action="store_true",
+    a.add_argument("--flicker-free-slope", action="store_true",
                    help="fit the 1/f exponent too, instead of fixing it at 1")
-    refs = p.add_mutually_exclusive_group()
+    refs = a.add_mutually_exclusive_group()
     refs.add_argument("--reference-vrms", type=positive_volts, metavar="V",
                       help="output reference level for an SNR figure, V RMS")
     refs.add_argument("--reference-dbu", type=finite_db, metavar="L",
                       help="output reference level for an SNR figure, dBu")
-    p.add_argument("--calibration-limit-pct", type=non_negative_pct, default=1.0, metavar="P",
+
+
+def _limit_options(p: argparse.ArgumentParser) -> None:
+    """Limits of the stated quantities (uncertainty budget), dropouts, spectrum, channel."""
+    a = p.add_argument_group("uncertainty and reading")
+    a.add_argument("--calibration-limit-pct", type=non_negative_pct, default=1.0, metavar="P",
                    help="meter accuracy, +/- %% of reading (default 1)")
-    p.add_argument("--tone-limit-pct", type=non_negative_pct, default=1.0, metavar="P",
+    a.add_argument("--tone-limit-pct", type=non_negative_pct, default=1.0, metavar="P",
                    help="tone level at the source known to +/- %% (default 1)")
-    p.add_argument("--resistor-limit-pct", type=non_negative_pct, default=1.0, metavar="P",
+    a.add_argument("--resistor-limit-pct", type=non_negative_pct, default=1.0, metavar="P",
                    help="source resistor tolerance, +/- %% (default 1)")
-    p.add_argument("--temperature-limit-k", type=non_negative_pct, default=2.0, metavar="K",
+    a.add_argument("--temperature-limit-k", type=non_negative_pct, default=2.0, metavar="K",
                    help="source resistor temperature known to +/- K (default 2)")
-    p.add_argument("--explain", action="store_true", help="list every uncertainty contribution")
-    p.add_argument("--accept-dropouts", action="store_true",
+    a.add_argument("--explain", action="store_true", help="list every uncertainty contribution")
+    a.add_argument("--accept-dropouts", action="store_true",
                    help="use captures whose sidecar records dropouts (refused otherwise)")
-    p.add_argument("--rbw-hz", type=positive_hz, metavar="F",
+
+
+def _trace_options(p: argparse.ArgumentParser) -> None:
+    """Instrument CSV traces (docs/csv.md)."""
+    a = p.add_argument_group("instrument traces")
+    a.add_argument("--rbw-hz", type=positive_hz, metavar="F",
                    help="instrument CSV traces: resolution bandwidth (else the file's '# rbw_hz')")
-    p.add_argument("--trace-detector", choices=["rms", "sample", "log"],
+    a.add_argument("--trace-detector", choices=["rms", "sample", "log"],
                    help="instrument CSV traces: how the trace was averaged (log reads noise 2.51 dB low)")
-    p.add_argument("--reference-ohm", type=positive_ohm, metavar="OHM",
+    a.add_argument("--reference-ohm", type=positive_ohm, metavar="OHM",
                    help="instrument CSV traces in dBm: reference impedance (default 50)")
-    p.add_argument("--enbw-ratio", type=positive_hz, metavar="R",
+    a.add_argument("--enbw-ratio", type=positive_hz, metavar="R",
                    help="instrument CSV traces: noise bandwidth over RBW (default 1)")
-    p.add_argument("--segment", type=segment_samples, metavar="N",
+    a.add_argument("--segment", type=segment_samples, metavar="N",
                    help="Welch segment length in samples (default about 10 Hz bins)")
-    p.add_argument("--channel", type=channel_index, metavar="N",
+    a.add_argument("--channel", type=channel_index, metavar="N",
                    help="channel of the noise and tone captures (default: sidecar, else 0)")
-    calibration_options(p)
-    output_options(p)
-    p.set_defaults(run=run)
 
 
 def request_from_args(args: argparse.Namespace) -> Any:

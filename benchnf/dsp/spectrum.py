@@ -11,21 +11,16 @@ from __future__ import annotations
 import math
 import os
 from collections.abc import Callable, Iterable
-from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from ..errors import MeasurementError, ParameterError
+from .psd import WINDOWS, Psd, default_segment_length, make_window, welch_dof, window_enbw_bins
 
 __all__ = ["Psd", "WelchAccumulator", "welch_psd", "welch_dof", "window_enbw_bins", "pool_psds",
            "make_window", "default_segment_length", "WINDOWS", "welch_iq_psd"]
-
-#: Windows offered: name -> scipy.signal.get_window name.  Hann for noise,
-#: flat-top for tone levels.
-WINDOWS = {"hann": "hann", "flattop": "flattop", "blackmanharris": "blackmanharris",
-           "hamming": "hamming", "boxcar": "boxcar"}
 
 #: Segments per FFT call: many, to spread Python's per-call cost.  Measured here on a whole
 #: analysis at 32768-sample segments, 8 beat 1, 2, 4 and 32 (by 3-10 %).
@@ -33,162 +28,6 @@ _SEGMENTS_PER_BATCH = 8
 #: Bins where the window's transform is below this fraction of its peak are rounding noise
 #: (a cosine-sum window's transform is exactly zero beyond its few terms).
 _WINDOW_SUPPORT_RTOL = 1e-12
-
-
-def make_window(name: str, segment_length: int) -> NDArray[np.float64]:
-    """A periodic (DFT-even) window, as scipy.signal.welch uses."""
-    from scipy import signal
-    if name not in WINDOWS:
-        raise ParameterError(f"window {name!r} is not one of {', '.join(WINDOWS)}")
-    return signal.get_window(WINDOWS[name], segment_length, fftbins=True).astype(np.float64)
-
-
-def window_enbw_bins(window: ArrayLike) -> float:
-    """Equivalent noise bandwidth of a window in bins, ``N sum(w^2) / (sum w)^2``.
-
-    References
-    ----------
-    .. [1] F. J. Harris, "On the use of windows for harmonic analysis with the
-           discrete Fourier transform", Proc. IEEE 66(1), 51-83, 1978, eq. (11)
-           and Table 1 (Hann: 1.50 bins).
-    """
-    w = np.asarray(window, dtype=np.float64)
-    return float(w.size * np.sum(w * w) / np.sum(w) ** 2)
-
-
-def welch_dof(window: ArrayLike, hop: int, n_segments: int) -> float:
-    """Equivalent degrees of freedom of a Welch average for Gaussian noise.
-
-    .. math::
-
-        \\nu = \\frac{2K}{1 + 2\\sum_{m=1}^{K-1}(1 - m/K)\\,\\rho(m)},\\qquad
-        \\rho(m) = \\frac{\\left(\\sum_n w_n w_{n+mS}\\right)^2}{\\left(\\sum_n w_n^2\\right)^2}
-
-    for K segments of window w advanced by S samples.  For Hann at 50 %
-    overlap this is ``36 K^2 / (19 K - 1)``.
-
-    Parameters
-    ----------
-    window : array_like
-        The window.
-    hop : int
-        Segment advance S in samples.
-    n_segments : int
-        Number of averaged segments K >= 1.
-
-    References
-    ----------
-    .. [1] P. D. Welch, "The use of fast Fourier transform for the estimation
-           of power spectra", IEEE Trans. Audio Electroacoust. 15(2), 1967.
-    .. [2] D. B. Percival and A. T. Walden, "Spectral Analysis for Physical
-           Applications", Cambridge, 1993, eq. (292b).
-    """
-    w = np.asarray(window, dtype=np.float64)
-    k = int(n_segments)
-    if k < 1:
-        raise ParameterError(f"n_segments={n_segments!r} must be >= 1")
-    energy = float(np.dot(w, w))
-    total = 0.0
-    for m in range(1, k):
-        shift = m * hop
-        if shift >= w.size:
-            break
-        rho = (float(np.dot(w[: w.size - shift], w[shift:])) / energy) ** 2
-        total += (1.0 - m / k) * rho
-    return 2.0 * k / (1.0 + 2.0 * total)
-
-
-def default_segment_length(sample_rate_hz: float) -> int:
-    """Power of two giving bins of 3 Hz or finer (16384 at 48 kHz, 32768 at 96 kHz).
-
-    Fine enough that the one-third-octave band at 20 Hz (4.6 Hz wide) spans
-    more than one bin.
-    """
-    return int(2 ** math.ceil(math.log2(max(sample_rate_hz / 3.0, 16.0))))
-
-
-@dataclass(frozen=True)
-class Psd:
-    """A one-sided power spectral density and how it was estimated.
-
-    Attributes
-    ----------
-    frequency_hz : numpy.ndarray
-        Bin centre frequencies, 0 to fs/2.
-    psd_per_hz : numpy.ndarray
-        Density in `unit`^2/Hz (V^2/Hz when calibrated, FS^2/Hz otherwise).
-    unit : str
-        ``"V"`` or ``"FS"`` (full scale).
-    sample_rate_hz, segment_length, hop, window
-        Parameters of the estimate.
-    enbw_hz : float
-        Equivalent noise bandwidth of one bin (the RBW) in Hz.
-    n_averages : int
-        Number of segments averaged.
-    dof : float
-        Equivalent degrees of freedom of each bin (see :func:`welch_dof`).
-    """
-
-    frequency_hz: NDArray[np.float64]
-    psd_per_hz: NDArray[np.float64]
-    unit: str
-    sample_rate_hz: float
-    segment_length: int
-    hop: int
-    window: str
-    enbw_hz: float
-    n_averages: int
-    dof: float
-
-    def __post_init__(self) -> None:
-        for name in ("frequency_hz", "psd_per_hz"):
-            arr = np.array(getattr(self, name), dtype=np.float64)
-            arr.setflags(write=False)
-            object.__setattr__(self, name, arr)
-
-    @property
-    def bin_width_hz(self) -> float:
-        """Spacing of the bins, fs/N, in Hz."""
-        return self.sample_rate_hz / self.segment_length
-
-    @property
-    def psd_v2_per_hz(self) -> NDArray[np.float64]:
-        """The density in V^2/Hz; raises if the spectrum is not calibrated."""
-        if self.unit != "V":
-            from ..errors import CalibrationError
-            raise CalibrationError("this spectrum is in full-scale units; calibrate the capture "
-                                   "to get volts")
-        return self.psd_per_hz
-
-    @property
-    def power_per_bin(self) -> NDArray[np.float64]:
-        """Tone-scaled spectrum (``unit``^2 per bin): density times ENBW.
-
-        An on-bin sine of amplitude A reads A^2/2 in its peak bin.
-        """
-        return self.psd_per_hz * self.enbw_hz
-
-    def scaled(self, factor_v_per_unit: float, unit: str = "V") -> "Psd":
-        """Return the spectrum with amplitudes multiplied by `factor_v_per_unit`."""
-        from dataclasses import replace
-        return replace(self, psd_per_hz=self.psd_per_hz * factor_v_per_unit ** 2, unit=unit)
-
-    def confidence_factors(self, level: float = 0.95) -> tuple[float, float]:
-        """Multipliers (lower, upper) giving a `level` chi-square interval for each bin.
-
-        ``[nu S / chi2_{nu, (1+level)/2},  nu S / chi2_{nu, (1-level)/2}]``.
-
-        References
-        ----------
-        .. [1] J. S. Bendat and A. G. Piersol, "Random Data", 4th ed., Wiley
-               2010, sec. 8.5.4.
-        """
-        from scipy import stats
-        if not 0 < level < 1:
-            raise ParameterError(f"level={level!r} must lie between 0 and 1")
-        nu = self.dof
-        return (nu / float(stats.chi2.ppf(0.5 + level / 2, nu)),
-                nu / float(stats.chi2.ppf(0.5 - level / 2, nu)))
 
 
 class _BatchRfft:

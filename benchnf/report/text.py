@@ -35,16 +35,22 @@ def _pm(r: AnalysisResult, key: str) -> str:
 
 def format_summary(r: AnalysisResult, *, max_spots: int | None = None, max_spurs: int = 8,
                    explain: bool = False) -> str:
-    """A plain-text summary for the terminal (ASCII only).
+    """A plain-text summary for the terminal (ASCII only): conditions, results, hum and spurs, spot
+    values, uncertainty (with `explain`, every budget contribution by contribution) and notes."""
+    lines = _conditions(r) + _results(r) + _spur_table(r, max_spurs) + _spot_table(r, max_spots)
+    lines += _uncertainty(r, explain)
+    if r.notes:
+        lines += ["", "Notes"] + [f"  * {n}" for n in r.notes]
+    return "\n".join(lines) + "\n"
 
-    With `explain`, every uncertainty budget is listed contribution by contribution.
-    """
+
+def _conditions(r: AnalysisResult) -> list[str]:
     lo, hi = r.band_hz
     band = f"{lo:g} Hz-{hi / 1000:g} kHz" if hi >= 1000 else f"{lo:g}-{hi:g} Hz"
     floor = (f"analyzer floor subtracted, DUT {r.floor_margin_db:.1f} dB above it in band"
              if r.floor_corrected else "analyzer floor NOT subtracted (no floor capture)")
     detector = ("quasi-peak (ITU-R BS.468-4 meter)" if r.detector == "qp" else "RMS")
-    lines = [
+    return [
         "benchnf - gain-method noise analysis",
         "",
         "Conditions",
@@ -58,6 +64,11 @@ def format_summary(r: AnalysisResult, *, max_spots: int | None = None, max_spurs
         (f"  calibration   {r.volts_per_fs:.6g} V per full scale" if r.volts_per_fs is not None else
          "  calibration   instrument data in volts"),
         f"  gain from     {r.gain_reference}",
+    ]
+
+
+def _results(r: AnalysisResult) -> list[str]:
+    lines = [
         "",
         "Results",
         f"  gain                 {r.gain_db:8.3f} dB{_pm(r, 'gain_db')} at {r.gain_frequency_hz:.1f} Hz",
@@ -88,38 +99,43 @@ def format_summary(r: AnalysisResult, *, max_spots: int | None = None, max_spurs
         lines.append(f"  repeats              {rp.n} captures pooled; scatter EIN {rp.ein_std_db:.3f} dB, "
                      f"NF {rp.noise_figure_std_db:.3f} dB (1 sigma); drift "
                      f"{rp.noise_figure_drift_db_per_capture:+.3f} dB per capture")
-    if r.spurs:
-        mains = f"mains {r.mains_hz:g} Hz" if r.mains_hz else "no mains family found"
-        lines += ["", f"Hum and spurs ({len(r.spurs)} lines, {mains}; strongest first)",
-                  f"  {'freq Hz':>9}  {'output':>10}  {'at input':>10}  {'above noise':>11}  family"]
-        for sp in r.spurs[:max_spurs]:
-            fam = sp.family + (f" x{sp.harmonic}" if sp.harmonic else "")
-            lines.append(f"  {sp.freq_hz:>9.1f}  {si_volts(sp.output_vrms):>10}  {si_volts(sp.input_vrms):>10}  "
-                         f"{sp.excess_db:>8.1f} dB  {fam}")
-        if len(r.spurs) > max_spurs:
-            lines.append(f"  ... {len(r.spurs) - max_spurs} more in the JSON")
-        for hint in r.hum_hints:
-            lines.append(f"  hint: {hint}")
+    return lines
+
+
+def _spur_table(r: AnalysisResult, max_spurs: int) -> list[str]:
+    if not r.spurs:
+        return []
+    mains = f"mains {r.mains_hz:g} Hz" if r.mains_hz else "no mains family found"
+    lines = ["", f"Hum and spurs ({len(r.spurs)} lines, {mains}; strongest first)",
+             f"  {'freq Hz':>9}  {'output':>10}  {'at input':>10}  {'above noise':>11}  family"]
+    for sp in r.spurs[:max_spurs]:
+        fam = sp.family + (f" x{sp.harmonic}" if sp.harmonic else "")
+        lines.append(f"  {sp.freq_hz:>9.1f}  {si_volts(sp.output_vrms):>10}  {si_volts(sp.input_vrms):>10}  "
+                     f"{sp.excess_db:>8.1f} dB  {fam}")
+    if len(r.spurs) > max_spurs:
+        lines.append(f"  ... {len(r.spurs) - max_spurs} more in the JSON")
+    return lines + [f"  hint: {hint}" for hint in r.hum_hints]
+
+
+def _spot_table(r: AnalysisResult, max_spots: int | None) -> list[str]:
     spots = list(r.spot)
     if max_spots is not None and len(spots) > max_spots:
-        step = math.ceil(len(spots) / max_spots)
-        spots = spots[::step]
-    lines += ["", "Spot values (one-third-octave band means)",
-              f"  {'freq Hz':>8}  {'input nV/rtHz':>13}  {'NF dB':>6}  {'margin dB':>9}  "
-              f"{'en nV/rtHz':>10}"]
+        spots = spots[::math.ceil(len(spots) / max_spots)]
+    lines = ["", "Spot values (one-third-octave band means)",
+             f"  {'freq Hz':>8}  {'input nV/rtHz':>13}  {'NF dB':>6}  {'margin dB':>9}  {'en nV/rtHz':>10}"]
     for s in spots:
         lines.append(f"  {s.freq_hz:>8g}  {density_text(s.input_density_v_per_rthz):>13}  "
                      f"{_db(s.noise_figure_db):>6}  {_db(s.floor_margin_db, 1):>9}  "
                      f"{density_text(s.voltage_noise_v_per_rthz):>10}")
-    if explain:
-        lines += ["", f"Uncertainty budgets (standard uncertainties in dB; {r.uncertainty['stated']})"]
-        for name, budget in r.budgets.items():
-            lines.append(f"  {name}: {budget.value_db:.3f} dB, combined {budget.combined_db:.3f} dB, "
-                         f"expanded {budget.expanded_db:.3f} dB (k=2)")
-            for c in budget.contributions:
-                lines.append(f"    {c.u_db:8.4f}  {c.name} ({c.note})")
-    else:
-        lines += ["", "Uncertainties are expanded (k=2) per the GUM; --explain lists each budget."]
-    if r.notes:
-        lines += ["", "Notes"] + [f"  * {n}" for n in r.notes]
-    return "\n".join(lines) + "\n"
+    return lines
+
+
+def _uncertainty(r: AnalysisResult, explain: bool) -> list[str]:
+    if not explain:
+        return ["", "Uncertainties are expanded (k=2) per the GUM; --explain lists each budget."]
+    lines = ["", f"Uncertainty budgets (standard uncertainties in dB; {r.uncertainty['stated']})"]
+    for name, budget in r.budgets.items():
+        lines.append(f"  {name}: {budget.value_db:.3f} dB, combined {budget.combined_db:.3f} dB, "
+                     f"expanded {budget.expanded_db:.3f} dB (k=2)")
+        lines += [f"    {c.u_db:8.4f}  {c.name} ({c.note})" for c in budget.contributions]
+    return lines

@@ -1,0 +1,71 @@
+"""House rules that keep the code easy to walk (the team's design notes): small functions and modules,
+imports that point inward, a fast --help. Structural checks, no outside reference needed."""
+
+import ast
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+PKG = Path(__file__).resolve().parent.parent / "benchnf"
+MAX_FUNCTION_LINES = 80  # code lines of one function, its docstring not counted
+MAX_MODULE_LINES = 500
+
+# Lower layers never import higher ones: (layer, layers it must not import).
+FORBIDDEN = {
+    "dsp": ("noise", "measure", "check", "report", "cli", "write", "acquire", "io"),
+    "noise": ("measure", "check", "report", "cli", "acquire"),
+    "io": ("measure", "check", "report", "cli", "noise"),  # a trace reader makes a dsp Psd
+    "measure": ("check", "report", "cli"),
+    "report": ("cli", "measure.gain_method", "measure.requests"),
+    "write": ("measure", "check", "report", "cli", "io", "dsp", "noise"),
+}
+
+
+def _modules():
+    return sorted(p for p in PKG.rglob("*.py") if "__pycache__" not in p.parts)
+
+
+def _code_lines(node: ast.AST) -> int:
+    lines = node.end_lineno - node.lineno + 1
+    body = getattr(node, "body", [])
+    if body and isinstance(body[0], ast.Expr) and isinstance(getattr(body[0], "value", None), ast.Constant) \
+            and isinstance(body[0].value.value, str):
+        lines -= body[0].end_lineno - body[0].lineno + 1
+    return lines
+
+
+def test_no_function_is_longer_than_80_code_lines():
+    long = []
+    for path in _modules():
+        for node in ast.walk(ast.parse(path.read_text())):
+            if isinstance(node, (ast.FunctionDef, ast.AsyncFunctionDef)) and _code_lines(node) > MAX_FUNCTION_LINES:
+                long.append(f"{path.relative_to(PKG)}:{node.lineno} {node.name} ({_code_lines(node)})")
+    assert not long, long
+
+
+def test_no_module_is_longer_than_500_lines():
+    big = [f"{p.relative_to(PKG)} ({n})" for p in _modules()
+           if (n := len(p.read_text().splitlines())) > MAX_MODULE_LINES]
+    assert not big, big
+
+
+@pytest.mark.parametrize("layer", sorted(FORBIDDEN))
+def test_lower_layers_do_not_import_higher_ones(layer):
+    bad = []
+    for path in (PKG / layer).rglob("*.py"):
+        for node in ast.walk(ast.parse(path.read_text())):
+            if isinstance(node, ast.ImportFrom) and node.level >= 2 and node.module:
+                for higher in FORBIDDEN[layer]:
+                    if node.module == higher or node.module.startswith(higher + "."):
+                        bad.append(f"{path.relative_to(PKG)}:{node.lineno} imports ..{node.module}")
+    assert not bad, bad
+
+
+def test_help_loads_no_numpy():
+    code = ("import sys\nfrom benchnf.cli import main\n"
+            "try:\n    main(['--help'])\nexcept SystemExit:\n    pass\n"
+            "print('numpy' in sys.modules)")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
+    assert out.strip().splitlines()[-1] == "False"
