@@ -37,6 +37,7 @@ case "${1:-}" in
     ensure_venv
     cd "$here"
     "$venv/bin/ruff" check --quiet . || { echo "dev.sh: ruff found problems (above)" >&2; exit 1; }
+    "$venv/bin/mypy" --no-error-summary || { echo "dev.sh: mypy found type errors (above)" >&2; exit 1; }
     set +e
     "$venv/bin/python" -m pytest "$@"
     rc=$?

@@ -54,7 +54,7 @@ def run_demo(*, output: Path = Path("benchnf-results"), quiet: bool = False, wri
     truth = json.loads((src / "ground_truth.json").read_text())
     lines = [
         "benchnf demo: a three-stage moving-coil head amplifier (INVENTED DATA), 20 ohm source",
-        f"calibration from {ref.path.name}: {cal.volts_per_fs:.6g} V per full scale",
+        f"calibration from {ref.label}: {cal.volts_per_fs:.6g} V per full scale",
         "",
         summary,
         "Against the model the demo captures were synthesised from (captures_demo/ground_truth.json):",

@@ -37,11 +37,13 @@ class LiveSnapshot:
     density: np.ndarray
 
     def line(self) -> str:
+        if self.band_rms is None:
+            return f"[{self.seconds_averaged:6.1f} s] band noise -"
         level = (f"{vrms_to_dbu(self.band_rms):7.2f} dBu ({self.band_rms * 1e6:8.3f} uV)" if self.unit == "V"
                  else f"{fs_to_dbfs(self.band_rms):7.2f} dBFS")
         hum = (f"strongest line {self.strongest_line_hz:7.1f} Hz at "
                f"{20 * math.log10(self.strongest_line_rms / self.band_rms):+6.1f} dB re band"
-               if self.strongest_line_hz else "no lines")
+               if self.strongest_line_hz and self.strongest_line_rms else "no lines")
         return f"[{self.seconds_averaged:6.1f} s] band noise {level}; {hum}"
 
 
@@ -125,7 +127,7 @@ def run_live(*, device: str | None, host_api: str | None, sample_rate_hz: float,
                         continue
                     updates += 1
                     print("\r" + snap.line(), end="", file=out, flush=True)
-                    if window and fig is not None:
+                    if window and fig is not None and ax is not None:
                         if curve is None:
                             (curve,) = ax.plot(snap.frequency_hz[1:], np.sqrt(snap.density[1:]))
                         else:

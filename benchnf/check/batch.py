@@ -170,7 +170,7 @@ def junit_xml(outcomes: list[UnitOutcome], *, profile: str) -> str:
              f'failures="{failures}" errors="{errors}">']
     for o in outcomes:
         lines.append(f'  <testcase classname="benchnf.check" name={quoteattr(o.serial)}>')
-        if o.verdict == "FAIL":
+        if o.verdict == "FAIL" and o.check is not None:
             failed = [v for v in o.check["limits"] if v["verdict"] == "FAIL"]
             text = "; ".join(f"{v['name']}: {v['measured']} vs {v['limit']}" for v in failed)
             lines.append(f'    <failure message={quoteattr(text)}>{escape(text)}</failure>')

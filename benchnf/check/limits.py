@@ -148,22 +148,22 @@ def check_results(results: dict[str, Any], profile: Profile, *, unit: str = "uni
     spots = results.get("spot", [])
     rank = {"PASS": 0, "MARGINAL": 1, "FAIL": 2}
     for mask in profile.masks:
-        worst: tuple[int, float, float, float, float | None] | None = None
+        worst_row: tuple[int, float, float, float, float | None] | None = None
         for s in spots:
             v = s.get(mask.quantity)
-            lim = mask.at(float(s["freq_hz"]))
-            if lim is None or v is None:
+            at = mask.at(float(s["freq_hz"]))
+            if at is None or v is None:
                 continue
-            margin = (lim - v) if mask.quantity == "noise_figure_db" else 20 * math.log10(lim / v)
+            margin = (at - v) if mask.quantity == "noise_figure_db" else 20 * math.log10(at / v)
             u = s.get("input_density_expanded_db") if mask.quantity != "noise_figure_db" else None
             key = (rank[_classify(margin, u)], -margin)
-            if worst is None or key > (worst[0], -worst[1]):
-                worst = (key[0], margin, float(s["freq_hz"]), float(v), u)
-        if worst is None:
+            if worst_row is None or key > (worst_row[0], -worst_row[1]):
+                worst_row = (key[0], margin, float(s["freq_hz"]), float(v), u)
+        if worst_row is None:
             verdicts.append(LimitVerdict(f"mask {mask.quantity}", None, "mask", None, "dB", None, "FAIL",
                                          "no spot value lies inside the mask's span"))
             continue
-        _r, margin, f_worst, value, u = worst
+        _r, margin, f_worst, value, u = worst_row
         verdict = _classify(margin, u)
         verdicts.append(LimitVerdict(f"mask {mask.quantity} (worst at {f_worst:g} Hz)", value,
                                      f"mask {mask.at(f_worst):.4g}", margin, "dB", u, verdict,

@@ -220,7 +220,7 @@ def profile_from_data(data: dict[str, Any], *, where: str | Path) -> Profile:
             raise ParameterError(f"profile {path}: {err}") from None
     if not (limits or masks or hum):
         raise ParameterError(f"profile {path} holds no limits")
-    return Profile(str(data.get("name", path.stem)), dict(cond), tuple(limits), tuple(masks), tuple(hum),
+    return Profile(str(data.get("name", Path(path).stem)), dict(cond), tuple(limits), tuple(masks), tuple(hum),
                    str(data.get("notes", "")), str(path))
 
 
@@ -286,7 +286,7 @@ def profile_from_results(results: list[dict[str, Any]], *, margin_db: float = 1.
              for r in results]
     freqs = sorted(set.intersection(*(set(k for k, v in s.items() if v) for s in spots))) if spots else []
     if len(freqs) >= 2:
-        worst = [max(s[f] for s in spots) * 10 ** (margin_db / 20) for f in freqs]
+        worst = [max(v for s in spots if (v := s[f]) is not None) * 10 ** (margin_db / 20) for f in freqs]
         masks.append(Mask("input_density_v_per_rthz", tuple(float(f) for f in freqs), tuple(worst),
                           "worst good spot density + its uncertainty + margin"))
     hum = []

@@ -253,7 +253,7 @@ class WelchAccumulator:
         density = self._detrended_power_sum() / (self._count * self.sample_rate_hz * float(np.dot(self.window, self.window)))
         density[1: n // 2 + (n % 2)] *= 2.0  # not DC, nor Nyquist when N is even
         return Psd(
-            frequency_hz=np.fft.rfftfreq(n, 1.0 / self.sample_rate_hz),
+            frequency_hz=np.asarray(np.fft.rfftfreq(n, 1.0 / self.sample_rate_hz), dtype=np.float64),
             psd_per_hz=density * scale ** 2,
             unit=unit,
             sample_rate_hz=self.sample_rate_hz,
@@ -309,7 +309,7 @@ def welch_psd(samples: ArrayLike | Iterable[ArrayLike], *, sample_rate_hz: float
     seg = default_segment_length(sample_rate_hz) if segment_length is None else segment_length
     acc = WelchAccumulator(sample_rate_hz=sample_rate_hz, segment_length=seg, window=window,
                            overlap=overlap)
-    blocks = [samples] if isinstance(samples, (np.ndarray, list, tuple)) else samples
+    blocks: Iterable[Any] = [samples] if isinstance(samples, (np.ndarray, list, tuple)) else samples  # type: ignore[assignment]
     for block in blocks:
         block = np.asarray(block, dtype=np.float64)
         if on_block is not None:

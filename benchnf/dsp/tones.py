@@ -158,8 +158,8 @@ def _solve_normal(rows: NDArray[np.float64], x: NDArray[np.float64]) -> NDArray[
     scale[scale == 0] = 1.0
     unit = gram / np.outer(scale, scale)
     if np.linalg.cond(unit) > _NORMAL_EQUATIONS_MAX_COND:  # under a period or so: QR-based instead
-        return np.linalg.lstsq(rows.T, x, rcond=None)[0]
-    return np.linalg.solve(unit, (rows @ x) / scale) / scale
+        return np.asarray(np.linalg.lstsq(rows.T, x, rcond=None)[0], dtype=np.float64)
+    return np.asarray(np.linalg.solve(unit, (rows @ x) / scale) / scale, dtype=np.float64)
 
 
 def fit_sine(samples: ArrayLike, *, sample_rate_hz: float, frequency_hz: float | None = None,

@@ -142,7 +142,7 @@ def open_capture(path: str | Path, *, channel: int | None = None, condition: str
 
     def direct_reader(block_frames: int, ch: int, into: BlockSink | None) -> Iterator[NDArray[np.float64]]:
         try:
-            yield from iter_channel_blocks(path, direct, n_frames, ch, block_frames, into)
+            yield from iter_channel_blocks(path, direct, n_frames, ch, block_frames, into)  # type: ignore[arg-type]
         except EOFError as err:
             raise CaptureError(f"{path} is truncated: its header promises {n_frames} frames but "
                                f"only {err} could be read; record it again") from err

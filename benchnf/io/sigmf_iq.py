@@ -9,7 +9,7 @@ one recording (alternating noise-source states).
 
 from __future__ import annotations
 
-from collections.abc import Iterator
+from collections.abc import Iterator, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -156,7 +156,7 @@ def open_wav_iq(path: str | Path, *, centre_hz: float) -> IqCapture:
 
 
 def write_sigmf(base: str | Path, samples: NDArray[np.complexfloating], *, sample_rate_hz: float,
-                centre_hz: float, datatype: str = "ci16_le", annotations: list[tuple[str, int, int]] = (),
+                centre_hz: float, datatype: str = "ci16_le", annotations: Sequence[tuple[str, int, int]] = (),
                 description: str = "") -> Path:
     """Write complex samples (full scale 1.0) as a SigMF recording; never overwrite."""
     sigmffile = require("sigmf.sigmffile", extra=None, purpose="writing SigMF recordings")

@@ -170,7 +170,7 @@ def measure_gain(setup: GainSetup, *, frequency_hz: NDArray[np.float64], rs_ohm:
             if vpfs is None:
                 tone.volts_per_fs_or_raise("a gain from a one-channel tone")
             in_vrms = float(setup.tone_input_vrms)  # type: ignore[arg-type]
-            gain = out_fit.rms * float(vpfs) / in_vrms
+            gain = out_fit.rms * float(vpfs) / in_vrms  # type: ignore[arg-type]  # raised above when None
             what = f"tone at {out_fit.frequency_hz:.1f} Hz, {in_vrms:.4g} V RMS stated at the source"
         f_gain = out_fit.frequency_hz
         gain_rel_std = math.sqrt(rel_var)

@@ -36,7 +36,7 @@ _MAX_QP_SECONDS = 30.0
 def resolved(weights: NDArray[np.float64], measured: NDArray[np.float64], floor: NDArray[np.float64] | None,
               *, dof_measured: float, dof_floor: float | None, enbw_bins: float) -> bool:
     """True if the excess of `measured` over `floor` in these weighted bins exceeds 3 sigma."""
-    if floor is None:
+    if floor is None or dof_floor is None:
         return True
     m = float(np.dot(weights, measured))
     fl = float(np.dot(weights, floor))
@@ -77,20 +77,20 @@ def spot_values(f, band, fs, p_term, p_floor, p_short, term_clean, floor_clean, 
         m_db = float(power_db(m_band / f_band)) if f_band is not None else None
         if m_db is not None and m_db < 3.0:
             low_margin.append(label)
-        en_ok = (en_spot is not None and en_spot[i] > 0
+        en_ok = (en_spot is not None and short_clean is not None and en_spot[i] > 0
                  and resolved(w_s, short_clean[span], floor_s, dof_measured=p_short.dof,
                                dof_floor=floor_dof, enbw_bins=enbw_bins))
         rel = dut_power_rel_std(
             measured=m_band, measured_rel_std=band_relative_std(w_s, term_s, dof=p_term.dof, enbw_bins=enbw_bins),
             floor=f_band, floor_rel_std=(band_relative_std(w_s, floor_s, dof=floor_dof, enbw_bins=enbw_bins)
-                                         if floor_s is not None else None))
+                                         if floor_s is not None and floor_dof is not None else None))
         spots.append(SpotValue(
             freq_hz=label,
             input_density_v_per_rthz=math.sqrt(e2_spot[i]) if ok else None,
             noise_figure_db=float(power_db(nf_spot[i])) if ok and nf_spot[i] > 0 else None,
             output_density_v_per_rthz=math.sqrt(out_spot[i]) if ok else None,
             floor_margin_db=m_db,
-            voltage_noise_v_per_rthz=math.sqrt(en_spot[i]) if en_ok else None,
+            voltage_noise_v_per_rthz=math.sqrt(en_spot[i]) if en_ok and en_spot is not None else None,
             # A density's amplitude has half the relative uncertainty of its power: U = 2 * 8.686 * rel / 2 dB.
             input_density_expanded_db=float(8.686 * rel) if ok and math.isfinite(rel) else None,
         ))
@@ -133,7 +133,8 @@ def qp_ein(capture: NoiseInput, p_term: Psd, p_floor: Psd | None, w_band, g: Gai
     if not isinstance(capture, Capture):
         raise ParameterError("a quasi-peak reading needs a time-domain capture, not a spectrum trace")
     x = capture.read(max_frames=int(_MAX_QP_SECONDS * capture.sample_rate_hz))
-    reading = qp_reading(x * float(capture.volts_per_fs), sample_rate_hz=capture.sample_rate_hz)
+    reading = qp_reading(x * capture.volts_per_fs_or_raise("a quasi-peak reading"),
+                         sample_rate_hz=capture.sample_rate_hz)
     qp = reading.median
     if p_floor is not None:
         ratio = float(np.dot(w_band, p_floor.psd_per_hz) / np.dot(w_band, p_term.psd_per_hz))

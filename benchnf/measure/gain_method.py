@@ -229,7 +229,7 @@ def _validate(*, rs_ohm: float, temperature_k: float, weighting: str, detector: 
 def _prepare(*, terminated: NoiseInput | Sequence[NoiseInput], floor: NoiseInput | None,
              shorted: NoiseInput | None, gain: GainSetup, band: Band, segment_length: int | None) -> _Prepared:
     """One sample rate, one calibration, a trace that covers the band, the segment length."""
-    runs = list(terminated) if isinstance(terminated, (list, tuple)) else [terminated]
+    runs: list[NoiseInput] = list(terminated) if isinstance(terminated, (list, tuple)) else [terminated]  # type: ignore[list-item]
     if not runs:
         raise ParameterError("give at least one terminated capture")
     first = runs[0]

@@ -134,7 +134,8 @@ def resolve_gain_method(req: GainMethodRequest) -> dict[str, Any]:
         response = open_capture(req.response, channel=req.response_channels[1])
     gain = GainSetup(tone=tone, tone_input_vrms=vin, tone_input_channel=req.tone_input_channel,
                      tone_frequency_hz=req.tone_hz, gain_db=req.gain_db, gain_frequency_hz=req.gain_frequency_hz,
-                     response=response, response_channels=tuple(req.response_channels), zin_ohm=req.zin_ohm)
+                     response=response, response_channels=(req.response_channels[0], req.response_channels[1]),
+                     zin_ohm=req.zin_ohm)
     if req.flicker_range_hz is not None and req.flicker_range_hz[0] >= req.flicker_range_hz[1]:
         raise ParameterError(f"--flicker-range {req.flicker_range_hz[0]:g} {req.flicker_range_hz[1]:g}: the low "
                              f"edge must be below the high edge")

@@ -186,7 +186,7 @@ def measured_budget(*, taps: Sequence[tuple[str, Capture, GainSetup]], rs_ohm: f
         if unexplained:
             notes.append(f"unexplained noise at stage {k + 1} ({name}): it adds "
                          f"{math.sqrt(max(added, 0)) * 1e9:.3f} nV/rtHz (referred to the input) where the part "
-                         f"data predict {math.sqrt(max(pred, 0)) * 1e9:.3f} nV/rtHz "
+                         f"data predict {math.sqrt(max(pred or 0.0, 0)) * 1e9:.3f} nV/rtHz "
                          f"(difference beyond twice its uncertainty)")
         results.append((name, ref.gain_db, mean, std, added, added_std, pred))
         prev_mean, prev_std = mean, std
@@ -246,7 +246,8 @@ def extract_en_in(*, sweep: Sequence[tuple[Capture | Psd, float, float, GainSetu
     fs = first.sample_rate_hz
     for cap, *_ in sweep:
         if isinstance(cap, Capture) and cap.sample_rate_hz != fs:
-            raise CaptureError(f"{cap.label} was recorded at {cap.sample_rate_hz:g} Hz but {first.label} at "
+            first_label = getattr(first, "label", "the first capture")
+            raise CaptureError(f"{cap.label} was recorded at {cap.sample_rate_hz:g} Hz but {first_label} at "
                                f"{fs:g} Hz: record the sweep at one rate")
     seg = default_segment_length(fs) if segment_length is None else int(segment_length)
     p_floor = capture_psd(floor, segment_length=seg) if floor is not None else None

@@ -156,14 +156,15 @@ class Model:
         return 10 * math.log10(g1)
 
 
-def budget_inputs(pw: Powers, source: Any, corrected: bool) -> dict[str, tuple[float, float, str]]:
-    inp = {"hot": (pw.hot, pw.hot * pw.u_hot, "Welch scatter of the hot band power"),
+def budget_inputs(pw: Powers, source: Any, corrected: bool) -> dict[str, tuple[Any, float, str]]:
+    inp: dict[str, tuple[Any, float, str]] = {"hot": (pw.hot, pw.hot * pw.u_hot, "Welch scatter of the hot band power"),
            "cold": (pw.cold, pw.cold * pw.u_cold, "Welch scatter of the cold band power")}
     if corrected:
-        inp["cal_hot"] = (pw.cal_hot, pw.cal_hot * pw.u_cal_hot, "Welch scatter, calibration pair hot")
-        inp["cal_cold"] = (pw.cal_cold, pw.cal_cold * pw.u_cal_cold, "Welch scatter, calibration pair cold")
+        ch, cc = float(pw.cal_hot), float(pw.cal_cold)  # type: ignore[arg-type]  # a pair is given when corrected
+        inp["cal_hot"] = (ch, ch * pw.u_cal_hot, "Welch scatter, calibration pair hot")
+        inp["cal_cold"] = (cc, cc * pw.u_cal_cold, "Welch scatter, calibration pair cold")
     if source.enr is not None:
-        inp["enr_db"] = (None, source.enr_u_db(), f"ENR standard uncertainty {source.enr_u_db():g} dB")  # type: ignore[assignment]
+        inp["enr_db"] = (None, source.enr_u_db(), f"ENR standard uncertainty {source.enr_u_db():g} dB")
     else:
         inp["t_hot"] = (source.t_hot_k, source.temperature_uncertainty_k,
                         f"hot temperature +/-{source.temperature_uncertainty_k:g} K (standard)")

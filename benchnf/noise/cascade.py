@@ -280,7 +280,8 @@ def voltage_cascade(chain: Chain) -> CascadeResult:
         r_src = st.output_ohm
     n0 = 4 * BOLTZMANN_J_PER_K * T0_K * chain.source_ohm
     f_total = 1 + total / n0
-    shares = tuple(StageShare(st.name, 1 + c / n0, st.gain_db, c, c / total if total > 0 else 0.0,
+    shares = tuple(StageShare(st.name, 1 + c / n0, float(st.gain_db), c,  # type: ignore[arg-type]
+                              c / total if total > 0 else 0.0,
                               10 * math.log10(1 + cum / n0), st.source) for st, c, cum in parts)
     return CascadeResult(10 * math.log10(f_total), (f_total - 1) * T0_K, 20 * math.log10(gain_before), shares,
                          "voltage", math.sqrt(source + total),
@@ -318,8 +319,9 @@ def where_to_spend(chain: Chain, *, improvement_db: float = 1.0) -> list[tuple[s
             new = replace(st, nf_db=10 * math.log10(better_f), te_k=None, loss_db=None,
                           gain_db=st.gain_db)
         else:
-            new = replace(st, en_v_per_rthz=st.en_v_per_rthz * 10 ** (-improvement_db / 20),
-                          in_a_per_rthz=st.in_a_per_rthz * 10 ** (-improvement_db / 20))
+            scale = 10 ** (-improvement_db / 20)
+            new = replace(st, en_v_per_rthz=None if st.en_v_per_rthz is None else st.en_v_per_rthz * scale,
+                          in_a_per_rthz=None if st.in_a_per_rthz is None else st.in_a_per_rthz * scale)
         out.append((st.name, base.noise_figure_db - _predict(chain.replace_stage(i, new)).noise_figure_db))
     return sorted(out, key=lambda x: x[1], reverse=True)
 

@@ -109,18 +109,18 @@ def fit_flicker(frequency_hz: ArrayLike, density_v2_per_hz: ArrayLike, *, dof: f
                                f"(the noise is white there, or the range is too narrow)")
     from scipy import special
     pcov = pcov * enbw_bins
-    err = [float(e) for e in np.sqrt(np.diag(pcov))]
+    std = [float(e) for e in np.sqrt(np.diag(pcov))]
     # The mean of ln(S_est) lies below ln(S) by ln(nu/2) - psi(nu/2) (about 1/nu): undo it.
     log_bias = math.log(dof / 2) - float(special.digamma(dof / 2))
     white = math.exp((popt[0] + log_bias) / 2)
     corner = math.exp(popt[1])
     return FlickerFit(
         white_density_v_per_rthz=white,
-        white_density_std_v_per_rthz=white * err[0] / 2,
+        white_density_std_v_per_rthz=white * std[0] / 2,
         corner_hz=corner,
-        corner_std_hz=corner * err[1],
+        corner_std_hz=corner * std[1],
         slope=float(popt[2]) if free_slope else 1.0,
-        slope_std=float(err[2]) if free_slope else 0.0,
+        slope_std=float(std[2]) if free_slope else 0.0,
         range_hz=(float(range_hz[0]), float(range_hz[1])),
         n_bins=int(use.sum()),
     )

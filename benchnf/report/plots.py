@@ -100,8 +100,8 @@ def plot_input_density(r: AnalysisResult, *, ax: "Axes | None" = None) -> "Axes"
         ax.loglog(ff, np.sqrt(fit.model_v2_per_hz(ff)) * 1e9, color="k", lw=1.0, ls="-.",
                   label=f"1/f fit: {fit.white_density_v_per_rthz * 1e9:.3f} nV/\u221aHz, "
                         f"corner {fit.corner_hz:.0f} Hz")
-    thermal = np.sqrt(thermal_density_v2_per_hz(resistance_ohm=r.rs_ohm,
-                                                temperature_k=r.temperature_k)) * 1e9
+    thermal = float(np.sqrt(thermal_density_v2_per_hz(resistance_ohm=r.rs_ohm,
+                                                      temperature_k=r.temperature_k))) * 1e9
     ax.axhline(thermal, color="tab:red", ls="--", lw=1.0,
                label=f"\u221a(4kTRs) = {thermal:.3f} nV/\u221aHz at {r.temperature_k:.1f} K")
     ax.set_ylabel("Input-referred noise density (nV/\u221aHz)")
