@@ -44,7 +44,6 @@ def run_demo(*, output: Path = Path("benchnf-results"), quiet: bool = False, wri
             tone=src / "tone.flac", response=src / "response.flac", calibration=cal, band_hz=(20.0, 20_000.0),
             weighting="none"))
         result = analyze_gain_method(**inputs)
-        terminated, tone = inputs["terminated"][0], inputs["gain"].tone
     out = writer.fresh_folder(Path(output))
     writer.json(out / "calibration.json", cal.to_dict())
     writer.json(out / "results.json", result.to_dict())
@@ -69,7 +68,7 @@ def run_demo(*, output: Path = Path("benchnf-results"), quiet: bool = False, wri
         f"{truth['voltage_noise_corner_hz']:7.1f} Hz",
         "",
     ]
-    lines += _stage_demos(src, out, cal, tone, terminated, writer)
+    lines += _stage_demos(src, out, cal, writer)
     lines += _yfactor_demos(src, out, truth, writer)
     lines += _check_demo(src, out, writer, ref_cal_path=out / "calibration.json")
     for w in caught:
@@ -88,32 +87,20 @@ def _figures(writer: Writer, out: Path, figures: list) -> None:
         writer.figure(out / name, fig)
 
 
-def _stage_demos(src: Path, out: Path, cal, tone, terminated, writer: Writer) -> list[str]:
+def _stage_demos(src: Path, out: Path, cal, writer: Writer) -> list[str]:
     """The head amplifier's measured stage budget against its part data, and en/in from an Rs sweep."""
-    from .measure import GainSetup
-    from .calibration import apply_calibration
-    from .io import open_capture
-    from .noise.cascade import load_chain
+    from .measure.stage_requests import BudgetRequest, CaptureOptions, SweepRequest, run_budget, run_en_in
     from .report.plots import budget_figures, eni_figures
     from .report.stages_text import format_budget, format_eni
-    from .measure.stages import extract_en_in, measured_budget
-
-    def cap(name: str):
-        return apply_calibration(open_capture(src / f"{name}.flac"), cal)
-
-    def gain(tone_cap):
-        return GainSetup(tone=tone_cap, tone_input_vrms=float(tone_cap.metadata["tone_input_vrms"]))
-
-    chain = load_chain(src / "head_amp_chain.toml")
-    taps = [(chain.stages[0].name, cap("tap1"), gain(cap("tap1_tone"))),
-            (chain.stages[1].name, cap("tap2"), gain(cap("tap2_tone"))),
-            (chain.stages[2].name, terminated, gain(tone))]
-    floor = cap("floor")
-    budget = measured_budget(taps=taps, rs_ohm=float(terminated.metadata["rs_ohm"]),
-                             temperature_k=float(terminated.metadata["temperature_k"]), floor=floor, chain=chain)
-    sweep = [(c, float(c.metadata["rs_ohm"]), float(c.metadata.get("temperature_k", 296.15)), gain(tone))
-             for c in (cap("shorted"), terminated, cap("rs_100"), cap("rs_1000"))]
-    eni = extract_en_in(sweep=sweep, floor=floor)
+    options = CaptureOptions(calibration=cal)
+    budget = run_budget(BudgetRequest(
+        taps=((src / "tap1.flac", src / "tap1_tone.flac"), (src / "tap2.flac", src / "tap2_tone.flac"),
+              (src / "terminated.flac", src / "tone.flac")),
+        chain=src / "head_amp_chain.toml", floor=src / "floor.flac", options=options))
+    eni = run_en_in(SweepRequest(
+        captures=tuple((src / f"{name}.flac", rs, None) for name, rs in (("shorted", 0.0), ("terminated", 20.0),
+                                                                          ("rs_100", 100.0), ("rs_1000", 1000.0))),
+        tone=src / "tone.flac", floor=src / "floor.flac", options=options))
     writer.json(out / "budget.json", budget.to_dict())
     writer.json(out / "eni.json", eni.to_dict())
     _figures(writer, out, budget_figures(budget) + eni_figures(eni))

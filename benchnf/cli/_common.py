@@ -7,13 +7,11 @@ from __future__ import annotations
 
 import argparse
 import sys
-import warnings
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from pathlib import Path
 from typing import Any
 
-from ..errors import BenchError, BenchWarning
 from ..write import Writer
 from ._types import (
     channel_index,
@@ -62,47 +60,12 @@ def progress(total_frames: int, *, quiet: bool, label: str) -> Iterator[Callable
         bar.close()
 
 
-def print_warnings(caught: list[warnings.WarningMessage]) -> None:
-    for w in caught:
-        if issubclass(w.category, BenchWarning):
-            print(f"benchnf: warning: {w.message}", file=sys.stderr)
 
 
-def load_calibration(args: argparse.Namespace):
-    if getattr(args, "calibration", None) is None:
-        return None
-    from ..calibration import Calibration
-    return Calibration.load(args.calibration)
 
 
-def open_input(path: Path | None, *, condition: str | None, args: argparse.Namespace, cal,
-               channel: int | None = None):
-    """Open a capture with the calibration that applies: --volts-per-fs, --calibration, sidecar."""
-    if path is None:
-        return None
-    from ..measure import open_calibrated
-    if path.suffix.lower() in (".csv", ".txt"):
-        from ..io.csv_trace import load_csv
-        # Instrument CSV is in volts already: no sound-card calibration applies.
-        return load_csv(path, rbw_hz=args.rbw_hz, detector=args.trace_detector,
-                        reference_ohm=args.reference_ohm, enbw_ratio=args.enbw_ratio)
-    return open_calibrated(path, channel=args.channel if channel is None else channel, condition=condition,
-                           volts_per_fs=args.volts_per_fs, calibration=cal,
-                           calibration_name=f"calibration {getattr(args, 'calibration', None)}",
-                           tolerance_pct=getattr(args, "calibration_limit_pct", 1.0),
-                           accept_dropouts=getattr(args, "accept_dropouts", False))
 
 
-def gain_for(args: argparse.Namespace, cal, tone_path: Path | None):
-    from ..measure import GainSetup
-    if tone_path is not None:
-        tone = open_input(tone_path, condition="tone", args=args, cal=cal)
-        vin = args.tone_input_vrms if args.tone_input_vrms is not None else tone.metadata.get("tone_input_vrms")
-        return GainSetup(tone=tone, tone_input_vrms=vin, tone_frequency_hz=getattr(args, "tone_hz", None),
-                         zin_ohm=getattr(args, "zin_ohm", None))
-    if args.gain_db is None:
-        raise BenchError("give the gain: --tone FILE with --tone-input-vrms, or --gain-db G")
-    return GainSetup(gain_db=args.gain_db, zin_ohm=getattr(args, "zin_ohm", None))
 
 
 def verdict_table(rows: list[tuple[str, str, str]]) -> str:

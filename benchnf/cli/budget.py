@@ -6,12 +6,8 @@ import argparse
 from pathlib import Path
 from typing import Any
 
-from ..errors import BenchError
 from ..write import Writer
 from ._common import (
-    gain_for,
-    load_calibration,
-    open_input,
     sweep_options,
     write_outputs,
 )
@@ -25,7 +21,7 @@ def add_parser(sub: Any) -> None:
                                    "output (the chain's input terminated) with a tone capture for each tap's "
                                    "gain, beside the prediction from the chain file.")
     p.add_argument("chain", type=Path, nargs="?", metavar="CHAIN.toml", help="stated part data (optional)")
-    p.add_argument("--tap", nargs=2, action="append", required=True, metavar=("NOISE", "TONE"),
+    p.add_argument("--tap", nargs=2, action="append", required=True, type=Path, metavar=("NOISE", "TONE"),
                    help="noise at one stage's output and a tone capture there; repeat in chain order")
     p.add_argument("--tone-input-vrms", type=positive_volts, metavar="V",
                    help="tone RMS at the source (default: each tone sidecar's tone_input_vrms)")
@@ -39,26 +35,14 @@ def add_parser(sub: Any) -> None:
 
 
 def run(args: argparse.Namespace, writer: Writer) -> int:
-    from ..dsp.weighting import Band
-    from ..noise.cascade import load_chain
-    from ..report.stages_text import format_budget
-    from ..measure.stages import measured_budget
-    chain = load_chain(args.chain) if args.chain else None
-    cal = load_calibration(args)
-    taps = []
-    for i, (noise, tone) in enumerate(args.tap, 1):
-        name = chain.stages[i - 1].name if chain is not None and i <= len(chain.stages) else f"tap {i}"
-        taps.append((name, open_input(Path(noise), condition=None, args=args, cal=cal),
-                     gain_for(args, cal, Path(tone))))
-    rs = args.rs if args.rs is not None else taps[0][1].metadata.get("rs_ohm")
-    if rs is None or not rs > 0:
-        raise BenchError("give the source resistance the chain's input is terminated in: --rs OHM")
-    temperature = args.temperature_k or taps[0][1].metadata.get("temperature_k", 290.0)
-    result = measured_budget(taps=taps, rs_ohm=float(rs), temperature_k=float(temperature),
-                             floor=open_input(args.floor, condition="floor", args=args, cal=cal), chain=chain,
-                             band=Band(*args.band), segment_length=args.segment)
-    print(format_budget(result), end="")
+    from ..measure.stage_requests import BudgetRequest, CaptureOptions, run_budget
     from ..report.plots import budget_figures
+    from ..report.stages_text import format_budget
+    result = run_budget(BudgetRequest(
+        taps=tuple((Path(n), Path(t)) for n, t in args.tap), chain=args.chain, tone_input_vrms=args.tone_input_vrms,
+        gain_db=args.gain_db, rs_ohm=args.rs, temperature_k=args.temperature_k, floor=args.floor,
+        band_hz=tuple(args.band), segment_length=args.segment,
+        options=CaptureOptions(channel=args.channel, volts_per_fs=args.volts_per_fs, calibration=args.calibration)))
+    print(format_budget(result), end="")
     write_outputs(args, writer, result.to_dict(), lambda: budget_figures(result))
     return ExitStatus.OK
-

@@ -6,12 +6,8 @@ import argparse
 from pathlib import Path
 from typing import Any
 
-from ..errors import BenchError
 from ..write import Writer
 from ._common import (
-    gain_for,
-    load_calibration,
-    open_input,
     sweep_options,
     write_outputs,
 )
@@ -50,36 +46,14 @@ def _sweep_item(text: str) -> tuple[Path, float, Path | None]:
 
 
 def run(args: argparse.Namespace, writer: Writer) -> int:
-    from ..dsp.weighting import Band
-    from ..report.stages_text import format_eni
-    from ..measure.stages import extract_en_in
-    cal = load_calibration(args)
-    sweep = []
-    temps = []
-    for path, rs, tone in args.captures:
-        cap = open_input(path, condition=None, args=args, cal=cal)
-        t_side = getattr(cap, "metadata", {}).get("temperature_k")
-        temps.append(t_side)
-        sweep.append([cap, rs, t_side, gain_for(args, cal, tone or args.tone)])
-    stated = {t for t in temps if t is not None}
-    if args.temperature_k is not None:
-        if len(stated) > 1:
-            raise BenchError("the sweep's sidecars state different temperatures; --temperature-k would hide "
-                             "that: remove it, or correct the sidecars")
-        for item in sweep:
-            item[2] = args.temperature_k
-    else:
-        if len(stated) > 1 and None in temps:
-            raise BenchError("some captures of the sweep state their temperature and others do not: state "
-                             "it for every capture (sidecar temperature_k) or give --temperature-k")
-        for item in sweep:
-            if item[2] is None:
-                item[2] = 290.0
-    result = extract_en_in(sweep=[tuple(x) for x in sweep], floor=open_input(args.floor, condition="floor", args=args,
-                                                                        cal=cal),
-                           band=Band(*args.band), segment_length=args.segment)
-    print(format_eni(result), end="")
+    from ..measure.stage_requests import CaptureOptions, SweepRequest, run_en_in
     from ..report.plots import eni_figures
+    from ..report.stages_text import format_eni
+    result = run_en_in(SweepRequest(
+        captures=tuple(args.captures), tone=args.tone, gain_db=args.gain_db, tone_input_vrms=args.tone_input_vrms,
+        zin_ohm=args.zin_ohm, temperature_k=args.temperature_k, floor=args.floor, band_hz=tuple(args.band),
+        segment_length=args.segment,
+        options=CaptureOptions(channel=args.channel, volts_per_fs=args.volts_per_fs, calibration=args.calibration)))
+    print(format_eni(result), end="")
     write_outputs(args, writer, result.to_dict(), lambda: eni_figures(result))
     return ExitStatus.OK
-

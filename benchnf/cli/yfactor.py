@@ -6,7 +6,6 @@ import argparse
 from pathlib import Path
 from typing import Any
 
-from ..errors import BenchError
 from ..write import Writer
 from ._common import output_options, progress, write_outputs
 from ._types import (
@@ -76,61 +75,23 @@ def add_parser(sub: Any) -> None:
 
 
 def run(args: argparse.Namespace, writer: Writer) -> int:
-    from ..dsp.weighting import Band
-    from ..noise.yfactor import EnrTable, load_enr_table
-    from ..report.yfactor_text import format_yfactor
-    from ..measure.yfactor import HotColdSource, Loss, analyze_yfactor
-
-    if args.annotated is not None:
-        rec = _open_rf(args.annotated, args)
-        if not getattr(rec, "segments", ()):
-            raise BenchError(f"{args.annotated} has no annotations labelled hot and cold")
-        hot, cold = rec.segment("hot"), rec.segment("cold")
-    else:
-        if not args.hot or not args.cold:
-            raise BenchError("give --hot and --cold captures (or one --annotated recording)")
-        hot = [_open_rf(p, args) for p in args.hot]
-        cold = [_open_rf(p, args) for p in args.cold]
-    t_cold = args.t_cold_k if args.t_cold_k is not None else (
-        args.t_cold_c + 273.15 if args.t_cold_c is not None else None)
-    t_hot = args.t_hot_k if args.t_hot_k is not None else (
-        args.t_hot_c + 273.15 if args.t_hot_c is not None else None)
-    enr = None
-    if args.enr_db is not None:
-        enr = EnrTable.constant(args.enr_db)
-    elif args.enr_table is not None:
-        enr = load_enr_table(args.enr_table)
-    source = HotColdSource(enr=enr, t_hot_k=t_hot, t_cold_k=t_cold, enr_uncertainty_db=args.enr_uncertainty_db,
-                           temperature_uncertainty_k=args.temperature_uncertainty_k)
-    band = Band(*args.band) if args.band else None
-    total = sum(getattr(c, "n_frames", 0) for c in (*hot, *cold))
-    with progress(total, quiet=args.quiet, label="analysing") as tick:
-        result = analyze_yfactor(
-            hot=hot, cold=cold, source=source, cal_hot=_open_rf(args.cal_hot, args),
-            cal_cold=_open_rf(args.cal_cold, args), floor=_open_rf(args.floor, args), band=band,
-            segment_length=args.segment, n_rows=args.rows, spot_hz=args.spot or (),
-            loss_before=Loss(*args.loss_before) if args.loss_before else None,
-            loss_after=Loss(*args.loss_after) if args.loss_after else None,
-            dc_exclude_hz=args.dc_exclude_hz, edge_fraction=args.edge_fraction, progress=tick)
-    print(format_yfactor(result, explain=args.explain), end="")
+    from ..measure.yfactor import analyze_yfactor
+    from ..measure.yfactor_request import YFactorRequest, resolve_yfactor
     from ..report.plots import yfactor_figures
+    from ..report.yfactor_text import format_yfactor
+    inputs = resolve_yfactor(YFactorRequest(
+        hot=tuple(args.hot or ()), cold=tuple(args.cold or ()), annotated=args.annotated, cal_hot=args.cal_hot,
+        cal_cold=args.cal_cold, floor=args.floor, enr_db=args.enr_db, enr_table=args.enr_table,
+        t_hot_k=args.t_hot_k, t_hot_c=args.t_hot_c, t_cold_k=args.t_cold_k, t_cold_c=args.t_cold_c,
+        enr_uncertainty_db=args.enr_uncertainty_db, temperature_uncertainty_k=args.temperature_uncertainty_k,
+        loss_before=tuple(args.loss_before) if args.loss_before else None,
+        loss_after=tuple(args.loss_after) if args.loss_after else None,
+        band_hz=tuple(args.band) if args.band else None, spot_hz=tuple(args.spot or ()), rows=args.rows,
+        segment_length=args.segment, iq=args.iq, centre_hz=args.centre_hz, channel=args.channel,
+        dc_exclude_hz=args.dc_exclude_hz, edge_fraction=args.edge_fraction))
+    total = sum(getattr(c, "n_frames", 0) for c in (*inputs["hot"], *inputs["cold"]))
+    with progress(total, quiet=args.quiet, label="analysing") as tick:
+        result = analyze_yfactor(**inputs, progress=tick)
+    print(format_yfactor(result, explain=args.explain), end="")
     write_outputs(args, writer, result.to_dict(), lambda: yfactor_figures(result))
     return ExitStatus.OK
-
-
-def _open_rf(path: Path | None, args: argparse.Namespace):
-    """A hot/cold capture: SigMF IQ, two-channel audio as I/Q (--iq), or a real audio channel."""
-    if path is None:
-        return None
-    name = path.name.lower()
-    if name.endswith((".sigmf-meta", ".sigmf-data", ".sigmf")):
-        from ..io.sigmf_iq import open_sigmf
-        return open_sigmf(path)
-    if args.iq:
-        from ..io.sigmf_iq import open_wav_iq
-        if args.centre_hz is None:
-            raise BenchError("--iq needs the receiver's centre frequency: give --centre-hz F")
-        return open_wav_iq(path, centre_hz=args.centre_hz)
-    from ..io import open_capture
-    return open_capture(path, channel=args.channel)
-

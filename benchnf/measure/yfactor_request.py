@@ -1,0 +1,107 @@
+"""What a user asks of a Y-factor measurement, resolved: hot/cold states opened the same way (SigMF IQ,
+two-channel audio as I/Q, or one real audio channel), the source from an ENR or two temperatures, and
+the losses. Every front end builds a :class:`YFactorRequest` and calls :func:`resolve_yfactor`."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from ..errors import ParameterError
+
+__all__ = ["YFactorRequest", "open_state", "resolve_yfactor", "run_yfactor"]
+
+_ZERO_C_K = 273.15
+
+
+@dataclass(frozen=True)
+class YFactorRequest:
+    """Paths and stated values of a Y-factor measurement; None means not stated."""
+
+    hot: tuple[Path, ...] = ()
+    cold: tuple[Path, ...] = ()
+    annotated: Path | None = None
+    cal_hot: Path | None = None
+    cal_cold: Path | None = None
+    floor: Path | None = None
+    enr_db: float | None = None
+    enr_table: Path | None = None
+    t_hot_k: float | None = None
+    t_hot_c: float | None = None
+    t_cold_k: float | None = None
+    t_cold_c: float | None = None
+    enr_uncertainty_db: float | None = None
+    temperature_uncertainty_k: float = 0.5
+    loss_before: tuple[float, float] | None = None
+    loss_after: tuple[float, float] | None = None
+    band_hz: tuple[float, float] | None = None
+    spot_hz: tuple[float, ...] = ()
+    rows: int = 16
+    segment_length: int | None = None
+    iq: bool = False
+    centre_hz: float | None = None
+    channel: int = 0
+    dc_exclude_hz: float | None = None
+    edge_fraction: float = 0.1
+
+
+def open_state(path: Path | None, *, iq: bool = False, centre_hz: float | None = None, channel: int = 0) -> Any:
+    """A hot/cold capture: SigMF IQ, two-channel audio as I/Q (`iq`), or a real audio channel."""
+    if path is None:
+        return None
+    if path.name.lower().endswith((".sigmf-meta", ".sigmf-data", ".sigmf")):
+        from ..io.sigmf_iq import open_sigmf
+        return open_sigmf(path)
+    if iq:
+        from ..io.sigmf_iq import open_wav_iq
+        if centre_hz is None:
+            raise ParameterError("--iq needs the receiver's centre frequency: give --centre-hz F")
+        return open_wav_iq(path, centre_hz=centre_hz)
+    from ..io import open_capture
+    return open_capture(path, channel=channel)
+
+
+def _kelvin(k: float | None, c: float | None) -> float | None:
+    return k if k is not None else (c + _ZERO_C_K if c is not None else None)
+
+
+def _states(req: YFactorRequest) -> tuple[list[Any], list[Any]]:
+    def one(p: Path) -> Any:
+        return open_state(p, iq=req.iq, centre_hz=req.centre_hz, channel=req.channel)
+    if req.annotated is not None:
+        rec = one(req.annotated)
+        if not getattr(rec, "segments", ()):
+            raise ParameterError(f"{req.annotated} has no annotations labelled hot and cold")
+        return rec.segment("hot"), rec.segment("cold")
+    if not req.hot or not req.cold:
+        raise ParameterError("give --hot and --cold captures (or one --annotated recording)")
+    return [one(p) for p in req.hot], [one(p) for p in req.cold]
+
+
+def resolve_yfactor(req: YFactorRequest) -> dict[str, Any]:
+    """Open every state and build the source and losses; the keyword arguments of analyze_yfactor."""
+    from ..dsp.weighting import Band
+    from ..noise.yfactor import EnrTable, load_enr_table
+    from .yfactor import HotColdSource, Loss
+    hot, cold = _states(req)
+    enr = EnrTable.constant(req.enr_db) if req.enr_db is not None else (
+        load_enr_table(req.enr_table) if req.enr_table is not None else None)
+    source = HotColdSource(enr=enr, t_hot_k=_kelvin(req.t_hot_k, req.t_hot_c), t_cold_k=_kelvin(req.t_cold_k, req.t_cold_c),
+                           enr_uncertainty_db=req.enr_uncertainty_db,
+                           temperature_uncertainty_k=req.temperature_uncertainty_k)
+
+    def state(p: Path | None) -> Any:
+        return open_state(p, iq=req.iq, centre_hz=req.centre_hz, channel=req.channel)
+    return dict(hot=hot, cold=cold, source=source, cal_hot=state(req.cal_hot), cal_cold=state(req.cal_cold),
+                floor=state(req.floor), band=Band(*req.band_hz) if req.band_hz else None,
+                segment_length=req.segment_length, n_rows=req.rows, spot_hz=req.spot_hz,
+                loss_before=Loss(*req.loss_before) if req.loss_before else None,
+                loss_after=Loss(*req.loss_after) if req.loss_after else None,
+                dc_exclude_hz=req.dc_exclude_hz, edge_fraction=req.edge_fraction)
+
+
+def run_yfactor(req: YFactorRequest, *, progress: Any = None) -> Any:
+    """Resolve the request and run the Y-factor analysis; the frozen YFactorResult."""
+    from .yfactor import analyze_yfactor
+    return analyze_yfactor(**resolve_yfactor(req), progress=progress)
