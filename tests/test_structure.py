@@ -69,3 +69,21 @@ def test_help_loads_no_numpy():
             "print('numpy' in sys.modules)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
     assert out.strip().splitlines()[-1] == "False"
+
+
+def test_every_option_a_message_names_exists():
+    """A message that tells the user to give --some-option must name an option the parser knows."""
+    import re
+
+    from benchnf.cli import build_parser
+    parser = build_parser()
+    known = set(parser._option_string_actions)
+    for action in parser._subparsers._group_actions:  # type: ignore[union-attr]
+        for sub in action.choices.values():
+            known |= set(sub._option_string_actions)
+    named = set()
+    for path in _modules():
+        for node in ast.walk(ast.parse(path.read_text())):
+            if isinstance(node, ast.Constant) and isinstance(node.value, str):
+                named |= set(re.findall(r"(?<![\w-])--[a-z][a-z0-9-]+", node.value))
+    assert not sorted(named - known), sorted(named - known)

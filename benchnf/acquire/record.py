@@ -44,7 +44,7 @@ class Recorder(Protocol):
 
 
 class FakeRecorder:
-    """Deterministic recorder for tests and --fake: a tone plus seeded white noise."""
+    """Deterministic recorder for tests: a tone plus seeded white noise."""
 
     def __init__(self, tone_hz: float = 1000.0, tone_amplitude_fs: float = 0.5, noise_rms_fs: float = 1e-4,
                  seed: int = 0) -> None:
