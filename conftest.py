@@ -1,3 +1,3 @@
 """Root pytest configuration: keep module-level scripts out of doctest collection."""
 
-collect_ignore = ["benchnf/__main__.py", "captures_demo/generate.py"]
+collect_ignore = ["benchnf/__main__.py", "benchnf/captures_demo/generate.py"]

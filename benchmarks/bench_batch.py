@@ -15,7 +15,7 @@ from pathlib import Path
 
 from benchnf.check.batch import check_batch
 
-DEMO = Path(__file__).resolve().parents[1] / "captures_demo"
+DEMO = Path(__file__).resolve().parents[1] / "benchnf" / "captures_demo"
 
 
 def main() -> None:

@@ -13,11 +13,11 @@ __all__ = ["demo_folder", "run_demo"]
 
 
 def demo_folder() -> Path:
-    """The captures_demo/ folder of the source tree."""
-    folder = Path(__file__).resolve().parent.parent / "captures_demo"
+    """The demo captures, shipped inside the package (``benchnf/captures_demo``), installed or not."""
+    folder = Path(__file__).resolve().parent / "captures_demo"
     if not (folder / "terminated.flac").is_file():
-        raise BenchError(f"the demo captures are not at {folder}: run from a benchnf source "
-                         f"checkout, or regenerate them with 'python captures_demo/generate.py'")
+        raise BenchError(f"the demo captures are not at {folder}: this installation is incomplete; "
+                         f"reinstall benchnf with pip")
     return folder
 
 

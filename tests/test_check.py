@@ -18,7 +18,7 @@ from benchnf.errors import ParameterError
 
 from synth import Bench
 
-DEMO = Path(__file__).parents[1] / "captures_demo"
+DEMO = Path(__file__).parents[1] / "benchnf" / "captures_demo"
 
 
 def _results(**over):

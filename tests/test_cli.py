@@ -195,7 +195,7 @@ def test_demo_recovers_its_ground_truth_and_never_reuses_a_folder(tmp_path, caps
     assert (tmp_path / "results-2" / "results.json").is_file()
     assert "Results written to" in printed
     data = json.loads((target / "results.json").read_text())
-    truth = json.loads((Path(__file__).parents[1] / "captures_demo" / "ground_truth.json").read_text())
+    truth = json.loads((Path(__file__).parents[1] / "benchnf" / "captures_demo" / "ground_truth.json").read_text())
     assert data["gain_db"] == pytest.approx(truth["gain_db_at_1khz"], abs=0.02)
     assert data["nf_at_1khz_db"] == pytest.approx(truth["nf_at_1khz_db"], abs=0.3)
     assert data["input_density_at_1khz_v_per_rthz"] == pytest.approx(

@@ -67,7 +67,7 @@ def test_the_suite_has_at_least_150_cases():
 def test_sigmf_base_name_with_a_dot_reads_its_own_files(tmp_path):
     # 'hot.2.sigmf-meta' used to be read as 'hot.sigmf-*' (demo captures, INVENTED DATA).
     from benchnf.io.sigmf_iq import open_sigmf
-    demo = Path(__file__).resolve().parent.parent / "captures_demo"
+    demo = Path(__file__).resolve().parent.parent / "benchnf" / "captures_demo"
     for ext in (".sigmf-meta", ".sigmf-data"):
         shutil.copy(demo / f"vhf_hot{ext}", tmp_path / f"hot.2{ext}")
         shutil.copy(demo / f"vhf_cold{ext}", tmp_path / f"hot{ext}")

@@ -14,7 +14,7 @@ from benchnf.errors import ParameterError
 from benchnf.measure import agree
 from benchnf.measure.requests import GainMethodRequest, run_gain_method
 
-DEMO = Path(__file__).resolve().parent.parent / "captures_demo"
+DEMO = Path(__file__).resolve().parent.parent / "benchnf" / "captures_demo"
 
 
 def test_the_first_place_that_states_a_value_names_it_and_others_must_agree():

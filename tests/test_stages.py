@@ -148,5 +148,5 @@ def test_cli_eni_contract_and_bad_input(tmp_path, capsys):
 
 def test_demo_chain_file_loads():
     from pathlib import Path
-    chain = load_chain(Path(__file__).parents[1] / "captures_demo" / "head_amp_chain.toml")
+    chain = load_chain(Path(__file__).parents[1] / "benchnf" / "captures_demo" / "head_amp_chain.toml")
     assert [s.name for s in chain.stages] == ["input pair", "second stage", "output buffer"]

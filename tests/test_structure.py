@@ -24,7 +24,8 @@ FORBIDDEN = {
 
 
 def _modules():
-    return sorted(p for p in PKG.rglob("*.py") if "__pycache__" not in p.parts)
+    # The demo data's generator is a script that ships beside the captures, not part of the library.
+    return sorted(p for p in PKG.rglob("*.py") if "__pycache__" not in p.parts and "captures_demo" not in p.parts)
 
 
 def _code_lines(node: ast.AST) -> int:
@@ -87,3 +88,17 @@ def test_every_option_a_message_names_exists():
             if isinstance(node, ast.Constant) and isinstance(node.value, str):
                 named |= set(re.findall(r"(?<![\w-])--[a-z][a-z0-9-]+", node.value))
     assert not sorted(named - known), sorted(named - known)
+
+
+def test_the_version_is_written_once():
+    """pyproject.toml takes the version from benchnf.__version__ (dynamic); the installed metadata agrees."""
+    from importlib.metadata import version
+    try:
+        import tomllib
+    except ModuleNotFoundError:  # Python 3.10
+        import tomli as tomllib
+
+    import benchnf
+    project = tomllib.loads((PKG.parent / "pyproject.toml").read_text())
+    assert "version" not in project["project"] and "version" in project["project"]["dynamic"]
+    assert version("benchnf") == benchnf.__version__

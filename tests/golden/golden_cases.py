@@ -21,7 +21,7 @@ import numpy as np
 import soundfile as sf
 
 HERE = Path(__file__).resolve().parent
-DEMO = HERE.parent.parent / "captures_demo"
+DEMO = HERE.parent.parent / "benchnf" / "captures_demo"
 sys.path.insert(0, str(HERE.parent))
 
 from synth import Bench  # noqa: E402

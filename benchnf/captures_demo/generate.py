@@ -19,7 +19,7 @@ Model
 * Sound card: 2.0 V per full scale (peak), input noise 15 nV/rtHz white with
   a 50 Hz 1/f corner, 24-bit FLAC.
 
-Run ``python captures_demo/generate.py`` to rewrite the files; it refuses to
+Run ``python benchnf/captures_demo/generate.py`` to rewrite the files; it refuses to
 overwrite unless given ``--force``.
 """
 
