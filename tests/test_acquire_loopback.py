@@ -76,7 +76,7 @@ def test_play_and_record_level_and_alignment(tmp_path):
     from benchnf.acquire.signals import align_lag, make_signal
     from benchnf.dsp.tones import fit_sine
     out = tmp_path / "tone.wav"
-    assert main(["playrec", "--device", DEVICE, "--signal", "tone", "--tone-hz", "997", "--level-dbfs", "-20",
+    assert main(["excite", "--device", DEVICE, "--signal", "tone", "--tone-hz", "997", "--level-dbfs", "-20",
                  "--seconds", "2", "--channels", "2", "-o", str(out), "--quiet"]) == 0
     x, fs = sf.read(str(out))
     fit = fit_sine(x[4800:, 0], sample_rate_hz=fs)

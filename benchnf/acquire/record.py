@@ -79,8 +79,8 @@ class SoundcardRecorder:
             raise AcquisitionError(f"{n_frames} frames at {sample_rate_hz:g} Hz from {self.input.describe()} "
                                    f"failed: {err}") from err
 
-    def playrec(self, signal: NDArray[np.float32], *, sample_rate_hz: float, channels: int = 1,
-                output_device: str | None = None) -> NDArray[np.float32]:
+    def play_and_record(self, signal: NDArray[np.float32], *, sample_rate_hz: float, channels: int = 1,
+                        output_device: str | None = None) -> NDArray[np.float32]:
         """Play `signal` (frames, or frames x out-channels) and record at once, on one device if possible."""
         out = find_device(output_device or self.device_name, kind="output")
         try:

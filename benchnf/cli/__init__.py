@@ -23,9 +23,9 @@ from . import (
     demo,
     devices,
     eni,
+    excite,
     live,
     measure,
-    playrec,
     profile,
     record,
     recover,
@@ -36,7 +36,7 @@ from .status import ExitStatus
 
 __all__ = ["main", "build_parser", "ExitStatus"]
 
-COMMANDS = (analyze, calibrate, yfactor, cascade, budget, eni, profile, check, batch, devices, record, playrec,
+COMMANDS = (analyze, calibrate, yfactor, cascade, budget, eni, profile, check, batch, devices, record, excite,
             measure, live, calibrate_output, recover, demo)
 
 

@@ -93,8 +93,9 @@ def _band_options(p: argparse.ArgumentParser) -> None:
     bands = a.add_mutually_exclusive_group()
     bands.add_argument("--band", type=non_negative_hz, nargs=2, metavar=("LO", "HI"),
                        help="integration band in Hz (default 20 20000)")
-    bands.add_argument("--band-preset", choices=["audio", "wide", "no-hum"],
-                       help="audio 20 Hz-20 kHz, wide 22 Hz-22 kHz, no-hum 400 Hz-22 kHz")
+    bands.add_argument("--band-preset", choices=["audio", "audio-22k", "above-hum"],
+                       help="audio 20 Hz-20 kHz, audio-22k 22 Hz-22 kHz, above-hum from the 8th harmonic of "
+                            "the mains frequency found to 20 kHz")
     a.add_argument("--weighting", choices=["none", "A", "C", "468", "468-2k"],
                    help="frequency weighting of band figures: IEC 61672-1 A or C, ITU-R BS.468-4 "
                         "(0 dB at 1 kHz) or 468-2k (0 dB at 2 kHz, for an RMS detector); default none")
@@ -152,7 +153,7 @@ def request_from_args(args: argparse.Namespace) -> Any:
     from ..measure.requests import GainMethodRequest, TraceOptions
     from ..noise.uncertainty import StatedUncertainty
     from ..units import dbu_to_vrms
-    band = BAND_PRESETS[args.band_preset] if args.band_preset else None
+    band = BAND_PRESETS.get(args.band_preset) if args.band_preset else None
     return GainMethodRequest(
         terminated=tuple(args.terminated), floor=args.floor, shorted=args.shorted, tone=args.tone,
         tone_input_vrms=args.tone_input_vrms, tone_input_channel=args.tone_input_channel, tone_hz=args.tone_hz,
@@ -170,7 +171,8 @@ def request_from_args(args: argparse.Namespace) -> Any:
         stated=StatedUncertainty(calibration_pct=args.calibration_limit_pct, tone_level_pct=args.tone_limit_pct,
                                  resistor_pct=args.resistor_limit_pct, temperature_k=args.temperature_limit_k),
         reference_output_vrms=(float(dbu_to_vrms(args.reference_dbu)) if args.reference_dbu is not None
-                               else args.reference_vrms))
+                               else args.reference_vrms),
+        band_above_mains=args.band_preset == "above-hum")
 
 
 def run(args: argparse.Namespace, writer: Writer) -> int:

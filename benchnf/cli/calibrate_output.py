@@ -41,7 +41,7 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     from ..acquire.signals import align_lag
     rec = SoundcardRecorder(args.device, host_api=args.host_api)
     play = np.concatenate([sig, np.zeros(int(0.5 * cal.sample_rate_hz), dtype=np.float32)])
-    x = rec.playrec(np.column_stack([play, play]), sample_rate_hz=cal.sample_rate_hz, channels=cal.channel + 1)
+    x = rec.play_and_record(np.column_stack([play, play]), sample_rate_hz=cal.sample_rate_hz, channels=cal.channel + 1)
     lag = max(align_lag(x[:, cal.channel], sig), 0)
     edge = int(0.1 * cal.sample_rate_hz)  # leave the ends, where the tone starts and stops
     part = x[lag + edge:lag + sig.size - edge, cal.channel].astype(np.float64)

@@ -22,7 +22,8 @@ from numpy.typing import ArrayLike, NDArray
 from ..errors import ParameterError
 
 __all__ = ["WEIGHTINGS", "weighting_power_gain", "a_weighting_db", "c_weighting_db",
-           "itu468_weighting_db", "itu468_response", "Band", "BAND_PRESETS", "parse_band"]
+           "itu468_weighting_db", "itu468_response", "Band", "BAND_PRESETS", "parse_band",
+           "above_hum_band", "ABOVE_HUM_HARMONIC"]
 
 # IEC 61672-1:2013, Annex E, equations (E.1)-(E.6): pole frequencies in Hz.
 _F1_HZ = 20.598997
@@ -218,11 +219,26 @@ class Band:
         return f"{fmt(self.low_hz)}-{fmt(self.high_hz)}"
 
 
-#: Named bands.  20 Hz-20 kHz is the AES17 audio band; 22 Hz-22 kHz is a
-#: common wider audio band and 400 Hz-22 kHz a common band that leaves out
-#: hum (both from memory, no clause cited).
-BAND_PRESETS = {"audio": Band(20.0, 20_000.0), "wide": Band(22.0, 22_000.0),
-                "no-hum": Band(400.0, 22_000.0)}
+#: Named fixed bands.  20 Hz-20 kHz is the AES17 audio band; 22 Hz-22 kHz a common wider audio band
+#: (from memory, no clause cited).
+BAND_PRESETS = {"audio": Band(20.0, 20_000.0), "audio-22k": Band(22.0, 22_000.0)}
+
+#: The 'above-hum' band starts at this harmonic of the mains frequency found, so that the mains family and
+#: its strongest rectifier harmonics lie below it (common practice), and ends at 20 kHz.
+ABOVE_HUM_HARMONIC = 8
+ABOVE_HUM_HIGH_HZ = 20_000.0
+#: Assumed when no mains family is found (the lower of the two mains frequencies, so the band is wider).
+ABOVE_HUM_DEFAULT_MAINS_HZ = 50.0
+
+
+def above_hum_band(mains_hz: float | None) -> Band:
+    """The band from the 8th harmonic of the mains frequency (50 Hz when none was found) to 20 kHz.
+
+    >>> above_hum_band(60.0).label()
+    '480 Hz-20 kHz'
+    """
+    mains = mains_hz if mains_hz else ABOVE_HUM_DEFAULT_MAINS_HZ
+    return Band(ABOVE_HUM_HARMONIC * mains, ABOVE_HUM_HIGH_HZ)
 
 
 def parse_band(text: str) -> Band:

@@ -31,7 +31,7 @@ from ..capture import Capture
 from ..dsp.integrate import band_bin_weights
 from ..dsp.spectrum import Psd, default_segment_length, pool_psds
 from ..dsp.spurs import LineSearch, find_lines, hum_hints
-from ..dsp.weighting import Band, weighting_power_gain
+from ..dsp.weighting import ABOVE_HUM_HARMONIC, Band, above_hum_band, weighting_power_gain
 from ..errors import BenchWarning, CaptureError, MeasurementError, ParameterError
 from ..noise.floor import band_relative_std, check_band_margin, subtract_floor
 from ..noise.gain_method import (
@@ -125,7 +125,7 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
                         weighting: str = "none", detector: str = "rms", segment_length: int | None = None,
                         mains_hz: float | None = None, flicker_range_hz: tuple[float, float] | None = None,
                         flicker_free_slope: bool = False, stated: StatedUncertainty = StatedUncertainty(),
-                        reference_output_vrms: float | None = None,
+                        reference_output_vrms: float | None = None, band_above_mains: bool = False,
                         progress: Progress | None = None) -> AnalysisResult:
     """Gain, input-referred noise density, EIN and noise figure from captures.
 
@@ -163,6 +163,9 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
         Limits of the user-stated quantities, for the uncertainty budget.
     reference_output_vrms : float, optional
         Output level for an SNR figure.
+    band_above_mains : bool
+        Replace `band` by :func:`~benchnf.dsp.weighting.above_hum_band` of the mains frequency found
+        (the ``above-hum`` preset).
     progress : callable, optional
         Called with the number of frames read, as reading proceeds.
 
@@ -187,9 +190,14 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
     notes: list[str] = []
     with _notes_from_warnings(notes):
         spec = _spectra(prep, progress=progress)
+        lines = _lines(spec, mains_hz=mains_hz)
+        if band_above_mains:
+            band = above_hum_band(lines.term.mains_hz)
+            notes.append(f"band {band.label()}: from harmonic {ABOVE_HUM_HARMONIC} of the mains frequency "
+                         + (f"found ({lines.term.mains_hz:g} Hz)" if lines.term.mains_hz else
+                            "(none found: 50 Hz assumed)"))
         g = measure_gain(gain, frequency_hz=spec.f, rs_ohm=rs_ohm, segment_length=prep.seg,
                          output_volts_per_fs=prep.vpfs, band=band)
-        lines = _lines(spec, mains_hz=mains_hz)
         fl = _floor(spec, lines, band=band, weighting=weighting, what=f"terminated capture {label_of(prep.runs[0])}",
                     notes=notes)
     bf = _band_figures(spec, fl, g, band=band, weighting=weighting, rs_ohm=rs_ohm, temperature_k=temperature_k)

@@ -70,6 +70,7 @@ class GainMethodRequest:
     flicker_free_slope: bool = False
     stated: Any = None
     reference_output_vrms: float | None = None
+    band_above_mains: bool = False
 
 
 def _calibration(req: GainMethodRequest) -> tuple[Any, str]:
@@ -143,7 +144,7 @@ def resolve_gain_method(req: GainMethodRequest) -> dict[str, Any]:
                 gain=gain, rs_ohm=float(rs), temperature_k=float(temperature), band=Band(*band), weighting=weighting,
                 detector=req.detector, segment_length=req.segment_length, mains_hz=req.mains_hz,
                 flicker_range_hz=req.flicker_range_hz, flicker_free_slope=req.flicker_free_slope, stated=stated,
-                reference_output_vrms=req.reference_output_vrms)
+                reference_output_vrms=req.reference_output_vrms, band_above_mains=req.band_above_mains)
 
 
 def run_gain_method(req: GainMethodRequest, *, progress: Any = None) -> Any:

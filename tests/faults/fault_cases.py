@@ -248,7 +248,7 @@ def _outputs() -> list[Case]:
                                                "{d}/floor.wav"], 2),
         ("record -o over a capture's sidecar", nothing, ["record", "--seconds", "1", "--condition", "tone", "-o",
                                                          "{d}/tone.flac"], 2),
-        ("playrec -o over a capture", nothing, ["playrec", "-o", "{d}/tone.wav"], 2),
+        ("excite -o over a capture", nothing, ["excite", "-o", "{d}/tone.wav"], 2),
         ("calibrate-output -o over the calibration", nothing, ["calibrate-output", "--calibration", "{d}/cal.json",
                                                               "-o", "{d}/cal.json"], 2),
     ]

@@ -37,7 +37,7 @@ CASES: dict[str, tuple[list[str], list[str]]] = {
                         ["out/rep.json"]),
     "analyze_468_qp": ([*_ANALYZE, "--weighting", "468", "--detector", "qp", "--json", "{tmp}/out/qp.json"],
                        ["out/qp.json"]),
-    "analyze_a_weighted_wide": ([*_ANALYZE, "--weighting", "A", "--band-preset", "wide"], []),
+    "analyze_a_weighted_wide": ([*_ANALYZE, "--weighting", "A", "--band-preset", "audio-22k"], []),
     "analyze_stated_gain": (["analyze", "--terminated", "{demo}/terminated.flac", "--floor", "{demo}/floor.flac",
                              "--gain-db", "36", "--volts-per-fs", "2.0", "--quiet"], []),
     "analyze_two_channel_tone": (["analyze", "--terminated", "{tmp}/term_a.wav", "--floor", "{tmp}/floor.wav",

@@ -1,4 +1,4 @@
-"""benchnf playrec."""
+"""benchnf excite: play a stimulus into the DUT and record its response on the same device, aligned."""
 
 from __future__ import annotations
 
@@ -19,7 +19,8 @@ from .status import ExitStatus
 
 
 def add_parser(sub: Any) -> None:
-    p = sub.add_parser("playrec", help="play a tone, multitone, sweep or noise and record at once, aligned")
+    p = sub.add_parser("excite", help="play a tone, multitone, sweep or noise into the DUT and record its "
+                                      "response on the same device, aligned")
     device_options(p)
     p.add_argument("--signal", choices=["tone", "multitone", "sweep", "noise"], default="tone")
     p.add_argument("--tone-hz", type=positive_hz, default=1000.0, metavar="F")
@@ -52,7 +53,7 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     pad = np.zeros(int(0.5 * args.rate), dtype=np.float32)  # room for the latency at the end
     play = np.concatenate([sig, pad])
     say_rate_note(args.device, args.host_api, args.rate)
-    rec = SoundcardRecorder(args.device, host_api=args.host_api).playrec(
+    rec = SoundcardRecorder(args.device, host_api=args.host_api).play_and_record(
         np.column_stack([play] * args.play_channels), sample_rate_hz=args.rate, channels=args.channels)
     lag = align_lag(rec[:, args.reference_channel], sig)
     lag = max(lag, 0)
