@@ -12,22 +12,28 @@ __all__ = ["positive_ohm", "positive_volts", "positive_hz", "non_negative_hz", "
            "whole_count", "loss_db", "mains_hz"]
 
 
-def _number(text: str, what: str, ok: Callable[[float], bool]) -> float:
+def _number(text: str, what: str, ok: Callable[[float], bool], units: tuple[str, ...] = ()) -> float:
+    """`text` in any form of :func:`benchnf.notation.parse_number`, checked against `ok`."""
+    from ..notation import parse_number
     try:
-        value = float(text)
+        value = parse_number(text, units=units)
     except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a number ({what})") from None
+        raise argparse.ArgumentTypeError(f"{text!r} is not a number ({what}; forms like 150, 2k2, 150R, 1m, "
+                                         f"10u, 1.5e3 are accepted)") from None
     if not (math.isfinite(value) and ok(value)):
         raise argparse.ArgumentTypeError(f"{text!r} is not {what}")
     return value
 
 
+_OHM = ("ohm", "ohms", "\u03a9")
+
+
 def positive_ohm(text: str) -> float:
-    return _number(text, "a resistance > 0 ohm and at most 1 Gohm", lambda v: 0 < v <= 1e9)
+    return _number(text, "a resistance > 0 ohm and at most 1 Gohm", lambda v: 0 < v <= 1e9, _OHM)
 
 
 def source_ohm(text: str) -> float:
-    return _number(text, "a source resistance from 0 (shorted) to 1 Gohm", lambda v: 0 <= v <= 1e9)
+    return _number(text, "a source resistance from 0 (shorted) to 1 Gohm", lambda v: 0 <= v <= 1e9, _OHM)
 
 
 def update_rate(text: str) -> float:
@@ -43,25 +49,25 @@ def mains_hz(text: str) -> float:
 
 
 def positive_volts(text: str) -> float:
-    return _number(text, "a voltage > 0 V and at most 1 kV", lambda v: 0 < v <= 1e3)
+    return _number(text, "a voltage > 0 V and at most 1 kV", lambda v: 0 < v <= 1e3, ("V", "Vrms"))
 
 
 def positive_hz(text: str) -> float:
-    return _number(text, "a positive frequency in Hz", lambda v: v > 0)
+    return _number(text, "a positive frequency in Hz", lambda v: v > 0, ("Hz",))
 
 
 def non_negative_hz(text: str) -> float:
-    return _number(text, "a frequency >= 0 Hz", lambda v: v >= 0)
+    return _number(text, "a frequency >= 0 Hz", lambda v: v >= 0, ("Hz",))
 
 
 def kelvin(text: str) -> float:
     """A noise temperature: a hot load or a source's equivalent temperature may be far above room."""
-    return _number(text, "a temperature above 0 K and at most 1e7 K", lambda v: 0 < v <= 1e7)
+    return _number(text, "a temperature above 0 K and at most 1e7 K", lambda v: 0 < v <= 1e7, ("K",))
 
 
 def resistor_kelvin(text: str) -> float:
     """A resistor's physical temperature."""
-    return _number(text, "a resistor temperature above 0 K and at most 1000 K", lambda v: 0 < v <= 1000)
+    return _number(text, "a resistor temperature above 0 K and at most 1000 K", lambda v: 0 < v <= 1000, ("K",))
 
 
 def celsius(text: str) -> float:
@@ -124,7 +130,7 @@ def segment_samples(text: str) -> int:
 
 
 def positive_seconds(text: str) -> float:
-    return _number(text, "a duration > 0 s", lambda v: v > 0)
+    return _number(text, "a duration > 0 s", lambda v: v > 0, ("s",))
 
 
 def channel_count(text: str) -> int:

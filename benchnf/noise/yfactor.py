@@ -185,10 +185,23 @@ class EnrTable:
         return np.interp(f, self.frequency_hz, self.enr_db)
 
 
+_FREQUENCY_UNITS = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9}
+
+
+def _header_frequency_scale(first_field: str, path: Path) -> float:
+    """Hz per unit of the frequency column, from its header (``Freq MHz``, ``frequency (GHz)``, ...)."""
+    import re
+    found = [u for u in re.findall(r"[a-z]+", first_field.lower()) if u in _FREQUENCY_UNITS]
+    if len(found) > 1:
+        raise ParameterError(f"ENR table {path}: the header {first_field!r} names two frequency units")
+    return _FREQUENCY_UNITS[found[0]] if found else 1.0
+
+
 def load_enr_table(path: str | Path) -> EnrTable:
     """Read an ENR table: TOML (``points = [[f_hz, enr_db], ...]``, ``cold_k``,
     ``enr_uncertainty_db``, ``name``) or CSV (``frequency_hz,enr_db`` with
-    optional ``# cold_k = ...`` lines).  See docs/yfactor.md."""
+    optional ``# cold_k = ...`` lines; a header naming Hz, kHz, MHz or GHz for the
+    first column sets its unit, e.g. ``Freq MHz,ENR dB``).  See docs/yfactor.md."""
     path = Path(path)
     if not path.is_file():
         raise ParameterError(f"ENR table {path}: no such file")
@@ -209,7 +222,7 @@ def load_enr_table(path: str | Path) -> EnrTable:
                                low_open=True),
                         None if u is None else number(u, where=where, key="enr_uncertainty_db", low=0.0, high=10.0),
                         str(data.get("name", path.stem)))
-    rows, cold = [], T0_K
+    rows, cold, scale = [], T0_K, 1.0
     for line in path.read_text(encoding="utf-8").splitlines():
         line = line.strip()
         if not line:
@@ -223,10 +236,11 @@ def load_enr_table(path: str | Path) -> EnrTable:
             continue
         parts = [p.strip() for p in line.replace(";", ",").split(",")]
         try:
-            rows.append([float(parts[0]), float(parts[1])])
+            rows.append([float(parts[0]) * scale, float(parts[1])])
         except (ValueError, IndexError):
             if rows:
                 raise ParameterError(f"ENR table {path}: row {line!r} is not two numbers") from None
+            scale = _header_frequency_scale(parts[0], path)
     if not rows:
         raise ParameterError(f"ENR table {path} holds no rows of frequency_hz,enr_db")
     arr = np.array(rows)

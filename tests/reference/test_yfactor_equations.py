@@ -111,3 +111,13 @@ def test_enr_table_interpolates_and_refuses_outside(tmp_path):
     with pytest.raises(ParameterError, match="unknown keys"):
         load_enr_table(bad)
     assert EnrTable.constant(5.0).at(np.array([1.0, 1e9])).tolist() == [5.0, 5.0]
+
+
+@pytest.mark.parametrize(("header", "scale"), [("frequency_hz,enr_db", 1.0), ("Freq MHz,ENR dB", 1e6),
+                                               ("frequency (GHz);ENR (dB)", 1e9), ("f kHz,enr", 1e3)])
+def test_enr_csv_header_sets_the_frequency_unit(tmp_path, header, scale):
+    # A noise source's calibration sheet commonly lists frequency in MHz or GHz (common practice).
+    p = tmp_path / "enr.csv"
+    p.write_text(f"{header}\n100,5.6\n200,5.4\n".replace(",", ";" if ";" in header else ","))
+    table = load_enr_table(p)
+    np.testing.assert_allclose(table.frequency_hz, [100 * scale, 200 * scale])
