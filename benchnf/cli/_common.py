@@ -23,7 +23,7 @@ from ._types import (
 
 # Attributes of a parsed command line that name files benchnf writes (everything else that is a path
 # is an input, protected by the writer).
-OUTPUT_OPTIONS = ("json", "plot", "output", "report", "history", "out_dir")
+OUTPUT_OPTIONS = ("json", "plot", "output", "report", "history", "out_dir", "spectra")
 
 
 def input_paths(args: argparse.Namespace) -> list[Path]:

@@ -141,6 +141,8 @@ def _trace_options(p: argparse.ArgumentParser) -> None:
                    help="instrument CSV traces in dBm: reference impedance (default 50)")
     a.add_argument("--enbw-ratio", type=positive_hz, metavar="R",
                    help="instrument CSV traces: noise bandwidth over RBW (default 1)")
+    a.add_argument("--spectra", type=Path, metavar="FILE.csv",
+                   help="write every bin's densities, noise figure and their Welch uncertainty as CSV")
     a.add_argument("--segment", type=segment_samples, metavar="N",
                    help="Welch segment length in samples (default about 10 Hz bins)")
     a.add_argument("--channel", type=channel_index, metavar="N",
@@ -187,4 +189,8 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
         result = analyze_gain_method(**inputs, progress=tick)
     print(format_summary(result, explain=args.explain), end="")
     write_outputs(args, writer, result.to_dict(), lambda: analysis_figures(result))
+    if args.spectra:
+        from ..report.spectra_csv import spectra_csv
+        writer.text(args.spectra, spectra_csv(result))
+        print(f"spectra written to {args.spectra}")
     return ExitStatus.OK

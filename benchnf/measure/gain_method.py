@@ -407,7 +407,7 @@ def _spectra_out(spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures
         input_v2_per_hz=np.where(bf.e2_diff > 0, bf.e2_diff, np.nan),
         voltage_noise_v2_per_hz=np.where(en_diff > 0, en_diff, np.nan) if en_diff is not None else None,
         noise_figure_db=nf_curve, power_gain=g.power_gain, band_weights=fl.w_band, lines=tuple(lines.term.lines),
-        flicker=flicker)
+        flicker=flicker, floor_dof=spec.floor.dof if spec.floor is not None else None)
 
 
 def _assemble(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g: GainEstimate, *,

@@ -82,6 +82,7 @@ class AnalysisSpectra:
     band_weights: NDArray[np.float64]
     lines: tuple[Any, ...]
     flicker: Any
+    floor_dof: float | None = None
 
 
 @dataclass(frozen=True)
