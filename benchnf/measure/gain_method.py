@@ -41,6 +41,7 @@ from ..noise.gain_method import (
 )
 from ..noise.uncertainty import Budget, StatedUncertainty, dut_power_rel_std, ein_budget, gain_budget, nf_budget
 from ..units import BOLTZMANN_J_PER_K, T0_K, power_db, thermal_density_v2_per_hz, vrms_to_dbu, vrms_to_dbv
+from .assumptions import NO_FLOOR
 from .gain import GainEstimate, GainSetup, measure_gain
 from .noise_inputs import NoiseInput, Progress, capture_psd, check_rates, label_of, path_of, with_vpfs
 from .gain_details import flicker_fit, qp_ein, repeat_values, resolved, spot_nf_budget, spot_values
@@ -126,7 +127,7 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
                         mains_hz: float | None = None, flicker_range_hz: tuple[float, float] | None = None,
                         flicker_free_slope: bool = False, stated: StatedUncertainty = StatedUncertainty(),
                         reference_output_vrms: float | None = None, band_above_mains: bool = False,
-                        progress: Progress | None = None) -> AnalysisResult:
+                        assumptions: Sequence[str] = (), progress: Progress | None = None) -> AnalysisResult:
     """Gain, input-referred noise density, EIN and noise figure from captures.
 
     Parameters
@@ -166,6 +167,8 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
     band_above_mains : bool
         Replace `band` by :func:`~benchnf.dsp.weighting.above_hum_band` of the mains frequency found
         (the ``above-hum`` preset).
+    assumptions : sequence of str
+        Notes from the resolution of the inputs (e.g. a temperature nobody stated), listed first.
     progress : callable, optional
         Called with the number of frames read, as reading proceeds.
 
@@ -187,7 +190,7 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
               reference_output_vrms=reference_output_vrms)
     prep = _prepare(terminated=terminated, floor=floor, shorted=shorted, gain=gain, band=band,
                     segment_length=segment_length)
-    notes: list[str] = []
+    notes: list[str] = list(assumptions)
     with _notes_from_warnings(notes):
         spec = _spectra(prep, progress=progress)
         lines = _lines(spec, mains_hz=mains_hz)
@@ -298,8 +301,7 @@ def _floor(spec: _Spectra, lines: _Lines, *, band: Band, weighting: str, what: s
     m_band = float(np.dot(w_band[used], term_clean[used]))
     m_rel = band_relative_std(w_band, term_clean, dof=p_term.dof, enbw_bins=enbw_bins)
     if p_floor is None:
-        notes.append("no floor capture given: the analyzer's own noise is included in every "
-                     "figure (they read high)")
+        notes.append(NO_FLOOR)
         return _FloorStep(w_band, used, enbw_bins, m_band, m_rel, None, None, None, term_clean, p_term.psd_per_hz)
     floor_clean = lines.floor.cleaned  # type: ignore[union-attr]
     f_band = float(np.dot(w_band[used], floor_clean[used]))

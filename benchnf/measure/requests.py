@@ -14,6 +14,7 @@ from pathlib import Path
 from typing import Any
 
 from ..errors import ParameterError
+from .assumptions import temperature_assumed
 from .inputs import agree, distinct_files, open_calibrated
 
 __all__ = ["GainMethodRequest", "TraceOptions", "resolve_gain_method", "run_gain_method", "DEFAULT_BAND_HZ"]
@@ -116,9 +117,10 @@ def resolve_gain_method(req: GainMethodRequest) -> dict[str, Any]:
     if rs is None:
         raise ParameterError("give the source resistance with --rs OHM (the terminated capture's sidecar does "
                              "not state it)")
-    temperature = agree("source temperature", [("the stated --temperature-k", req.temperature_k),
-                                               (side, meta.get("temperature_k")), (where, cond.get("temperature_k"))],
-                        default=DEFAULT_TEMPERATURE_K, unit=" K")
+    t_sources = [("the stated --temperature-k", req.temperature_k), (side, meta.get("temperature_k")),
+                 (where, cond.get("temperature_k"))]
+    temperature = agree("source temperature", t_sources, default=DEFAULT_TEMPERATURE_K, unit=" K")
+    assumptions = [] if any(v is not None for _, v in t_sources) else [temperature_assumed(DEFAULT_TEMPERATURE_K)]
     band = agree("band", [("the stated band", req.band_hz), (where, cond.get("band_hz"))], default=DEFAULT_BAND_HZ,
                  unit=" Hz")
     weighting = agree("weighting", [("the stated --weighting", req.weighting), (where, cond.get("weighting"))],
@@ -144,7 +146,8 @@ def resolve_gain_method(req: GainMethodRequest) -> dict[str, Any]:
                 gain=gain, rs_ohm=float(rs), temperature_k=float(temperature), band=Band(*band), weighting=weighting,
                 detector=req.detector, segment_length=req.segment_length, mains_hz=req.mains_hz,
                 flicker_range_hz=req.flicker_range_hz, flicker_free_slope=req.flicker_free_slope, stated=stated,
-                reference_output_vrms=req.reference_output_vrms, band_above_mains=req.band_above_mains)
+                reference_output_vrms=req.reference_output_vrms, band_above_mains=req.band_above_mains,
+                assumptions=tuple(assumptions))
 
 
 def run_gain_method(req: GainMethodRequest, *, progress: Any = None) -> Any:

@@ -12,6 +12,7 @@ from pathlib import Path
 from typing import Any
 
 from ..errors import ParameterError
+from .assumptions import temperature_assumed
 from .inputs import agree, open_calibrated
 from .requests import DEFAULT_TEMPERATURE_K
 
@@ -100,8 +101,11 @@ def run_en_in(req: SweepRequest) -> Any:
     sweep = [(cap, rs, t, _gain(req.options, tone or req.tone, tone_input_vrms=req.tone_input_vrms,
                                 gain_db=req.gain_db, zin_ohm=req.zin_ohm))
              for cap, (_p, rs, tone), t in zip(caps, req.captures, temps)]
+    stated = req.temperature_k is not None or any(getattr(c, "metadata", {}).get("temperature_k") is not None
+                                                  for c in caps)
     return extract_en_in(sweep=sweep, floor=req.options.open(req.floor, "floor"), band=Band(*req.band_hz),
-                         segment_length=req.segment_length)
+                         segment_length=req.segment_length,
+                         assumptions=() if stated else (temperature_assumed(DEFAULT_TEMPERATURE_K),))
 
 
 @dataclass(frozen=True)
@@ -139,6 +143,8 @@ def run_budget(req: BudgetRequest) -> Any:
     temperature = agree("source temperature", [("--temperature-k", req.temperature_k),
                                                (side, meta.get("temperature_k"))],
                         default=DEFAULT_TEMPERATURE_K, unit=" K")
+    stated = req.temperature_k is not None or meta.get("temperature_k") is not None
     return measured_budget(taps=taps, rs_ohm=float(rs), temperature_k=float(temperature),
                            floor=req.options.open(req.floor, "floor"), chain=chain, band=Band(*req.band_hz),
-                           segment_length=req.segment_length)
+                           segment_length=req.segment_length,
+                           assumptions=() if stated else (temperature_assumed(DEFAULT_TEMPERATURE_K),))

@@ -19,6 +19,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from .._json import json_safe
+from .assumptions import NO_FLOOR
 from .gain import GainSetup, measure_gain
 from .noise_inputs import capture_psd
 from ..capture import Capture
@@ -118,7 +119,8 @@ class BudgetResult:
 
 def measured_budget(*, taps: Sequence[tuple[str, Capture, GainSetup]], rs_ohm: float,
                     temperature_k: float = T0_K, floor: Capture | None = None, chain: Chain | None = None,
-                    band: Band = Band(400.0, 20_000.0), segment_length: int | None = None) -> BudgetResult:
+                    band: Band = Band(400.0, 20_000.0), segment_length: int | None = None,
+                    assumptions: Sequence[str] = ()) -> BudgetResult:
     """What each stage adds, measured at taps after each stage, against the chain's prediction.
 
     Parameters
@@ -171,7 +173,7 @@ def measured_budget(*, taps: Sequence[tuple[str, Capture, GainSetup]], rs_ohm: f
         else:  # Friis: the amplifier part of F - 1, in density terms at this Rs
             n0 = 4 * BOLTZMANN_J_PER_K * T0_K * rs_ohm
             predicted_cum = [s.contribution * n0 for s in prediction.stages]
-    notes: list[str] = []
+    notes: list[str] = [*assumptions, *([] if floor is not None else [NO_FLOOR])]
     results = []
     prev_mean, prev_std = source, 0.0
     means = []
@@ -228,7 +230,8 @@ class EniResult:
 
 def extract_en_in(*, sweep: Sequence[tuple[Capture | Psd, float, float, GainSetup]], floor: Capture | None = None,
                   band: Band = Band(20.0, 20_000.0), segment_length: int | None = None,
-                  curve_hz: Sequence[float] = (100.0, 1000.0, 10_000.0)) -> EniResult:
+                  curve_hz: Sequence[float] = (100.0, 1000.0, 10_000.0),
+                  assumptions: Sequence[str] = ()) -> EniResult:
     """en and in per one-third-octave band from captures at two or more source resistances.
 
     Parameters
@@ -278,7 +281,8 @@ def extract_en_in(*, sweep: Sequence[tuple[Capture | Psd, float, float, GainSetu
                                                    in_a_per_rthz=v["in_a_per_rthz"],
                                                    correlation=v["correlation"] or 0.0))
             curves[f"{v['freq_hz']:g}"] = {"rs_ohm": grid.tolist(), "noise_figure_db": nf.tolist()}
-    notes = ["best SNR always comes at the lowest source impedance, not at Ropt: Ropt only minimises the "
+    notes = [*assumptions, *([] if floor is not None else [NO_FLOOR]),
+             "best SNR always comes at the lowest source impedance, not at Ropt: Ropt only minimises the "
              "amplifier's noise relative to the source's own"]
     if fit.correlation is None:
         notes.append("two source resistances: en and in fitted as uncorrelated (three or more give the "

@@ -67,38 +67,53 @@ def _conditions(r: AnalysisResult) -> list[str]:
     ]
 
 
+def _weighted(weighting: str) -> str:
+    return "unweighted" if weighting == "none" else f"{weighting}-weighted"
+
+
+def _row(label: str, text: str) -> str:
+    return f"  {label:<40} {text}"
+
+
 def _results(r: AnalysisResult) -> list[str]:
+    """Each line says its detector and weighting; comparisons are between like readings only."""
+    w = _weighted(r.weighting)
+    detector = "quasi-peak" if r.detector == "qp" else "RMS"
     lines = [
         "",
         "Results",
-        f"  gain                 {r.gain_db:8.3f} dB{_pm(r, 'gain_db')} at {r.gain_frequency_hz:.1f} Hz",
-        f"  EIN                  {r.ein_dbu:8.2f} dBu{_pm(r, 'ein_db')}   ({r.ein_dbv:.2f} dBV, "
-        f"{si_volts(r.ein_vrms)}; hum and spurs excluded, {r.ein_with_spurs_dbu:.2f} dBu with them)",
-        f"  thermal limit of Rs  {r.thermal_ein_dbu:8.2f} dBu   (EIN is "
-        f"{r.ein_dbu - r.thermal_ein_dbu:.2f} dB above it)",
-        f"  noise figure, band   {_db(r.noise_figure_db):>8} dB{_pm(r, 'noise_figure_db')}",
-        f"  noise figure, 1 kHz  {_db(r.nf_at_1khz_db):>8} dB{_pm(r, 'nf_at_1khz_db')}",
-        f"  input noise, 1 kHz   {density_text(r.input_density_at_1khz_v_per_rthz):>8} nV/rtHz",
-        f"  output noise         {si_volts(r.output_noise_vrms):>10} ({r.output_noise_dbu:.2f} dBu; "
-        f"{si_volts(r.output_noise_uncorrected_vrms)} before floor subtraction)",
+        _row("gain", f"{r.gain_db:8.3f} dB{_pm(r, 'gain_db')} at {r.gain_frequency_hz:.1f} Hz"),
+        _row(f"EIN ({detector}, {w})", f"{r.ein_dbu:8.2f} dBu{_pm(r, 'ein_db')}   ({r.ein_dbv:.2f} dBV, "
+             f"{si_volts(r.ein_vrms)}; hum and spurs excluded, {r.ein_with_spurs_dbu:.2f} dBu with them)"),
+    ]
+    if r.detector == "qp":
+        lines.append(_row(f"EIN (RMS, {w})", f"{r.ein_rms_dbu:8.2f} dBu   (the same noise on an RMS detector)"))
+    lines += [
+        _row(f"thermal limit of Rs (RMS, {w})", f"{r.thermal_ein_dbu:8.2f} dBu   (the RMS EIN is "
+             f"{r.ein_rms_dbu - r.thermal_ein_dbu:.2f} dB above it)"),
+        _row(f"noise figure, band ({w})", f"{_db(r.noise_figure_db):>8} dB{_pm(r, 'noise_figure_db')}"),
+        _row("noise figure, 1 kHz (1/3 octave)", f"{_db(r.nf_at_1khz_db):>8} dB{_pm(r, 'nf_at_1khz_db')}"),
+        _row("input noise, 1 kHz (1/3 octave)", f"{density_text(r.input_density_at_1khz_v_per_rthz):>8} nV/rtHz"),
+        _row(f"output noise (RMS, {w})", f"{si_volts(r.output_noise_vrms):>8} ({r.output_noise_dbu:.2f} dBu, hum "
+             f"and spurs excluded; {si_volts(r.output_noise_uncorrected_vrms)} before floor subtraction, hum and "
+             f"spurs included)"),
     ]
     if r.voltage_noise_band_vrms is not None or r.voltage_noise_at_1khz_v_per_rthz is not None:
-        lines.append(f"  voltage noise (shorted input)  "
-                     f"{density_text(r.voltage_noise_at_1khz_v_per_rthz)} nV/rtHz at 1 kHz, "
-                     f"{si_volts(r.voltage_noise_band_vrms)} in band")
+        lines.append(_row("voltage noise (shorted input)", f"{density_text(r.voltage_noise_at_1khz_v_per_rthz):>8} "
+                          f"nV/rtHz at 1 kHz, {si_volts(r.voltage_noise_band_vrms)} RMS in band ({w})"))
     if r.flicker_corner_hz is not None:
         slope = "" if r.flicker_slope == 1.0 else f", slope {r.flicker_slope:.2f}"
-        lines.append(f"  1/f corner           {r.flicker_corner_hz:8.1f} Hz +/- {2 * r.flicker_corner_std_hz:.1f} "
-                     f"(k=2), white level {density_text(r.white_density_v_per_rthz)} nV/rtHz{slope}; "
-                     f"fitted on the {r.flicker_fit_on}")
+        lines.append(_row("1/f corner", f"{r.flicker_corner_hz:8.1f} Hz +/- {2 * r.flicker_corner_std_hz:.1f} "
+                          f"(k=2), white level {density_text(r.white_density_v_per_rthz)} nV/rtHz{slope}; "
+                          f"fitted on the {r.flicker_fit_on}"))
     if r.snr_db is not None:
-        lines.append(f"  SNR                  {r.snr_db:8.2f} dB re {si_volts(r.reference_output_vrms)} at "
-                     f"the output (same band and weighting)")
+        lines.append(_row(f"SNR (RMS, {w})", f"{r.snr_db:8.2f} dB re {si_volts(r.reference_output_vrms)} at "
+                          f"the output (same band)"))
     if r.repeats is not None:
         rp = r.repeats
-        lines.append(f"  repeats              {rp.n} captures pooled; scatter EIN {rp.ein_std_db:.3f} dB, "
-                     f"NF {rp.noise_figure_std_db:.3f} dB (1 sigma); drift "
-                     f"{rp.noise_figure_drift_db_per_capture:+.3f} dB per capture")
+        lines.append(_row("repeats", f"{rp.n} captures pooled; scatter EIN {rp.ein_std_db:.3f} dB, "
+                          f"NF {rp.noise_figure_std_db:.3f} dB (1 sigma); drift "
+                          f"{rp.noise_figure_drift_db_per_capture:+.3f} dB per capture"))
     return lines
 
 
