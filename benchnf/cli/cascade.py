@@ -22,16 +22,16 @@ def add_parser(sub: Any) -> None:
     p.add_argument("--improve-db", type=positive_db, default=1.0, metavar="DB",
                    help="improvement tried on each stage for the ranking (default 1 dB)")
     p.add_argument("--what-if", nargs="+", metavar=("STAGE", "KEY=VALUE"),
-                   help="swap one stage's data, e.g. --what-if 2 nf_db=1.2 or --what-if 1 en_v_per_rthz=3e-10")
+                   help="swap one stage's data: --what-if STAGE KEY=VALUE ..., keys gain, nf, te, loss, temperature_k, "
+                        "en, in, output_ohm (or their full names), e.g. --what-if 2 nf=1.2 or --what-if 1 en=0.3n")
     p.add_argument("--json", type=Path, metavar="OUT.json")
     common_options(p)
     p.set_defaults(run=run)
 
 
 def run(args: argparse.Namespace, writer: Writer) -> int:
-    from dataclasses import replace as dc_replace
-
-    from ..noise.cascade import load_chain, predict, what_if, where_to_spend
+    from ..noise.cascade import load_chain, predict, stage_with, what_if, where_to_spend
+    from ..notation import parse_number
     from ..report.stages_text import format_cascade
     chain = load_chain(args.chain)
     result = predict(chain)
@@ -43,21 +43,15 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
         index = int(target) - 1 if target.isdigit() else (names.index(target) if target in names else -1)
         if not 0 <= index < len(names):
             raise BenchError(f"--what-if: no stage {target!r} (stages: {', '.join(names)}, or 1..{len(names)})")
-        changes: dict[str, Any] = {}
+        changes: dict[str, float] = {}
         for pair in pairs:
             key, _, value = pair.partition("=")
-            if key not in ("gain_db", "nf_db", "te_k", "en_v_per_rthz", "in_a_per_rthz", "output_ohm"):
-                raise BenchError(f"--what-if: {key!r} is not a stage value one can swap")
             try:
-                changes[key] = float(value)
+                changes[key] = parse_number(value)
             except ValueError:
-                raise BenchError(f"--what-if: {pair!r} is not KEY=NUMBER") from None
-        if "nf_db" in changes:
-            changes.setdefault("te_k", None)
-        if "te_k" in changes and changes["te_k"] is not None:
-            changes.setdefault("nf_db", None)
-        stage = dc_replace(chain.stages[index], **changes, source="what-if")
-        _, other = what_if(chain, index, stage)
+                raise BenchError(f"--what-if: {pair!r} is not KEY=NUMBER (e.g. nf=1.2, te=90, loss=0.5, "
+                                 f"en=1n)") from None
+        _, other = what_if(chain, index, stage_with(chain.stages[index], changes))
         alternative = (f"{names[index]} had " + ", ".join(pairs), other)
     print(format_cascade(result, spend=spend, improve_db=args.improve_db, what_if=alternative), end="")
     if args.json:
@@ -68,4 +62,3 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
         writer.json(args.json, data)
         print(f"\nJSON written to {args.json}")
     return ExitStatus.OK
-

@@ -43,7 +43,7 @@ from ..errors import ParameterError
 from ..units import BOLTZMANN_J_PER_K, T0_K
 
 __all__ = ["Stage", "Chain", "CascadeResult", "StageShare", "load_chain", "friis", "voltage_cascade",
-           "where_to_spend", "what_if", "predict"]
+           "where_to_spend", "what_if", "predict", "stage_with", "WHAT_IF_KEYS"]
 
 _STAGE_KEYS = {"name", "gain_db", "gain_linear", "voltage_gain_db", "nf_db", "te_k", "loss_db", "temperature_k",
                "en_v_per_rthz", "in_a_per_rthz", "output_ohm", "source", "notes"}
@@ -304,26 +304,61 @@ def _predict(chain: Chain) -> CascadeResult:
 
 
 def where_to_spend(chain: Chain, *, improvement_db: float = 1.0) -> list[tuple[str, float]]:
-    """For each stage, how much the total NF falls if that stage's NF falls by `improvement_db`.
+    """For each stage, how much the chain's NF falls if that stage's own noise falls by `improvement_db`.
 
-    Returned ranked, largest saving first, as (stage name, saving in dB).
-    In the audio form, the stage's en is scaled by the same factor instead.
+    One rule for every stage, active or passive: its own noise power falls by the factor
+    ``r = 10^(-improvement_db/10)``. In the Friis form that is its noise temperature,
+    ``Te' = r Te`` (so ``F' = 1 + r (F - 1)``, since ``F = 1 + Te/T0``); in the voltage form its en and
+    in both fall by ``sqrt(r)``. Nothing is clamped: a quiet stage saves little because its Te is small.
+
+    Returns (stage name, saving in dB), largest saving first.
+
+    References
+    ----------
+    .. [1] H. T. Friis, "Noise figures of radio receivers", Proc. IRE 32(7), 1944.
+    .. [2] IEEE Std 161 (noise factor and effective input noise temperature, F = 1 + Te/T0).
     """
     base = _predict(chain)
+    r = 10 ** (-improvement_db / 10)
     out = []
     for i, st in enumerate(chain.stages):
         if base.form == "friis":
-            f = st.noise_factor
-            better_f = max(1.0, 1 + (f - 1) * 10 ** (-improvement_db / 10)) if st.loss_db is not None \
-                else max(1.0, f / 10 ** (improvement_db / 10))
-            new = replace(st, nf_db=10 * math.log10(better_f), te_k=None, loss_db=None,
+            new = replace(st, nf_db=10 * math.log10(1 + r * (st.noise_factor - 1)), te_k=None, loss_db=None,
                           gain_db=st.gain_db)
         else:
-            scale = 10 ** (-improvement_db / 20)
+            scale = math.sqrt(r)
             new = replace(st, en_v_per_rthz=None if st.en_v_per_rthz is None else st.en_v_per_rthz * scale,
                           in_a_per_rthz=None if st.in_a_per_rthz is None else st.in_a_per_rthz * scale)
         out.append((st.name, base.noise_figure_db - _predict(chain.replace_stage(i, new)).noise_figure_db))
     return sorted(out, key=lambda x: x[1], reverse=True)
+
+
+#: What --what-if may change on a stage, by its key or a short name.
+WHAT_IF_KEYS = {"gain_db": "gain_db", "gain": "gain_db", "nf_db": "nf_db", "nf": "nf_db", "te_k": "te_k",
+                "te": "te_k", "loss_db": "loss_db", "loss": "loss_db", "temperature_k": "temperature_k",
+                "en_v_per_rthz": "en_v_per_rthz", "en": "en_v_per_rthz", "in_a_per_rthz": "in_a_per_rthz",
+                "in": "in_a_per_rthz", "output_ohm": "output_ohm"}
+
+
+def stage_with(stage: Stage, changes: dict[str, float]) -> Stage:
+    """`stage` with some values swapped (keys of WHAT_IF_KEYS); the noise statement stays consistent.
+
+    A new nf_db replaces te_k and a loss (the gain stays); a new te_k replaces nf_db and a loss; a new loss
+    replaces nf_db and te_k and, unless a gain is given too, sets the gain to minus the loss.
+    """
+    unknown = [k for k in changes if k not in WHAT_IF_KEYS]
+    if unknown:
+        raise ParameterError(f"--what-if: {', '.join(repr(k) for k in unknown)} is not a stage value one can swap; "
+                             f"the keys are {', '.join(WHAT_IF_KEYS)}")
+    new: dict[str, Any] = {WHAT_IF_KEYS[k]: v for k, v in changes.items()}
+    if "nf_db" in new:
+        new.update(te_k=None, loss_db=None)
+    elif "te_k" in new:
+        new.update(nf_db=None, loss_db=None)
+    elif "loss_db" in new:
+        new.update(nf_db=None, te_k=None)
+        new.setdefault("gain_db", -new["loss_db"])
+    return replace(stage, **new, source="what-if")
 
 
 def what_if(chain: Chain, index: int, replacement: Stage) -> tuple[CascadeResult, CascadeResult]:

@@ -27,7 +27,8 @@ def format_cascade(r: CascadeResult, *, spend: list[tuple[str, float]] | None = 
         lines.append(f"  {s.name[:24]:24s} {_n(s.gain_db, '.2f'):>8} {s.noise_factor:8.4f} "
                      f"{100 * s.share_of_excess:6.1f}% {s.cumulative_noise_figure_db:8.3f}  {s.source}")
     if spend:
-        lines += ["", f"Where to spend: total NF saved if one stage's noise fell by {improve_db:g} dB"]
+        lines += ["", f"Where to spend: total NF saved if one stage's own noise (its noise temperature, or its "
+                      f"en and in) fell by {improve_db:g} dB"]
         for name, saving in spend:
             lines.append(f"  {saving:7.3f} dB  {name}")
     if what_if:

@@ -112,3 +112,34 @@ def test_voltage_cascade_matches_ngspice_noise_analysis(tmp_path):
                    Stage("s2", gain_db=20 * math.log10(p["a2"]), en_v_per_rthz=p["ge2"] * unit,
                          in_a_per_rthz=p["gi2"] * unit)), source_ohm=rs, temperature_k=T0_K)
     assert voltage_cascade(chain).input_density_v_per_rthz == pytest.approx(spice, rel=1e-4)
+
+
+def test_where_to_spend_lowers_each_stage_noise_temperature_hand_worked():
+    # Friis (1944) with F = 1 + Te/T0 (IEEE Std 161); worked by hand here (computed): stage 1 G 15 dB,
+    # NF 2 dB; stage 2 G 20 dB, NF 10 dB: F = 1.58489 + 9/31.6228 = 1.86950 (2.7173 dB, REFERENCES.md).
+    # Lowering stage 1's Te by 3 dB: F1' = 1 + 0.58489 * 0.501187 = 1.29314, F = 1.57775 (1.98037 dB),
+    # saving 0.73688 dB; stage 2: F2' = 1 + 9 * 0.501187 = 5.51069, F = 1.72753 (2.37426 dB), saving 0.34299 dB.
+    from benchnf.noise.cascade import Chain, Stage, where_to_spend
+    chain = Chain((Stage("lna", gain_db=15.0, nf_db=2.0), Stage("rx", gain_db=20.0, nf_db=10.0)))
+    spend = dict(where_to_spend(chain, improvement_db=3.0))
+    assert spend["lna"] == pytest.approx(0.73688, abs=2e-5)
+    assert spend["rx"] == pytest.approx(0.34299, abs=2e-5)
+
+
+def test_a_quiet_stage_saves_more_when_improved_more():
+    # The old rule lowered NF in dB and clamped at 0 dB, so a 0.6 dB stage saved the same for 1 and 3 dB.
+    from benchnf.noise.cascade import Chain, Stage, where_to_spend
+    chain = Chain((Stage("lna", gain_db=20.0, nf_db=0.6), Stage("rx", gain_db=20.0, nf_db=8.0)))
+    one, three = (dict(where_to_spend(chain, improvement_db=x))["lna"] for x in (1.0, 3.0))
+    assert 0 < one < three
+
+
+def test_what_if_swaps_a_loss_and_lists_the_keys():
+    from benchnf.errors import ParameterError
+    from benchnf.noise.cascade import Chain, Stage, predict, stage_with, what_if
+    chain = Chain((Stage("cable", loss_db=1.0, temperature_k=290.0), Stage("lna", gain_db=20.0, nf_db=1.0)))
+    _, shorter = what_if(chain, 0, stage_with(chain.stages[0], {"loss": 0.5}))
+    # A matched loss at T0 adds its loss to the NF (common practice; REFERENCES.md): 0.5 dB less of it.
+    assert predict(chain).noise_figure_db - shorter.noise_figure_db == pytest.approx(0.5, abs=1e-9)
+    with pytest.raises(ParameterError, match="the keys are gain_db, gain, nf_db"):
+        stage_with(chain.stages[1], {"colour": 1.0})
