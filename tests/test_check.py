@@ -211,3 +211,26 @@ def test_html_report_renders_in_headless_chromium(tmp_path):
     img = np.asarray(__import__("matplotlib.image", fromlist=["imread"]).imread(shot))
     assert img.std() > 0.05  # not blank: text, a table, a figure
     assert (np.abs(img[..., :3] - img[0, 0, :3]).sum(axis=-1) > 0.3).mean() > 0.01
+
+
+def test_profile_masks_skip_bands_too_narrow_to_carry_a_figure():
+    # Spot bands narrower than 10 spectrum bins are left out of a new profile's mask (their own scatter would
+    # flag good units MARGINAL at random). Demo-like results: fs 48 kHz, 16384-sample segments (2.93 Hz bins).
+    from benchnf.check.profile import MIN_MASK_BINS, profile_from_results
+    spots = [{"freq_hz": f, "input_density_v_per_rthz": 1e-9, "input_density_expanded_db": 0.5}
+             for f in (20.0, 25.0, 50.0, 100.0, 125.0, 160.0, 1000.0, 10000.0)]
+    r = {**_results(), "sample_rate_hz": 48_000.0, "segment_length": 16384, "spot": spots}
+    mask = profile_from_results([r], margin_db=1.0).masks[0]
+    lowest = MIN_MASK_BINS * 48_000.0 / 16384 / (10 ** 0.05 - 10 ** -0.05)
+    assert min(mask.frequency_hz) >= lowest > 100.0 and 160.0 in mask.frequency_hz
+
+
+def test_batch_states_conditions_as_analyze_does_and_refuses_a_disagreement(tmp_path, capsys):
+    # Demo units (INVENTED DATA) are at 20 ohm, as is the demo profile; stating 150 ohm must be refused.
+    rc = main(["batch", str(DEMO / "units"), "--profile", str(DEMO / "known_good_profile.toml"), "--floor",
+               str(DEMO / "floor.flac"), "--volts-per-fs", "2", "--rs", "150", "--workers", "1", "--quiet",
+               "-o", str(tmp_path / "out")])
+    captured = capsys.readouterr()
+    assert rc == ExitStatus.BAD_INPUT
+    assert "source resistance is 150 ohm in the stated --rs but 20 ohm in the sidecar" in captured.out
+    assert captured.err.strip().startswith("benchnf: error: 3 unit(s) could not be checked")

@@ -2,8 +2,8 @@
 
 A unit folder holds either a ``results.json`` (from ``benchnf analyze --json``)
 or captures: a terminated-input capture and a tone capture, found by their
-sidecar's ``condition`` or by their names (``terminated.*``, ``tone.*``,
-``floor.*``).  A unit whose captures are missing or bad is reported as an
+sidecar's ``condition`` or by their names (``terminated.*`` or ``term.*``, ``tone.*``,
+``floor.*``, ``shorted.*`` or ``short.*``).  A unit whose captures are missing or bad is reported as an
 error; the others are still checked.
 """
 
@@ -27,6 +27,9 @@ from .profile import Profile, load_profile
 __all__ = ["UnitOutcome", "find_units", "check_unit", "check_batch", "summary_csv", "junit_xml",
            "HISTORY_HEADER", "history_lines"]
 
+#: File names (without extension) taken for a role when no sidecar states the condition.
+_STEM_ROLES = {"term": "terminated", "terminated": "terminated", "tone": "tone", "floor": "floor",
+               "short": "shorted", "shorted": "shorted"}
 _AUDIO = (".wav", ".flac", ".aif", ".aiff", ".w64", ".rf64", ".caf")
 
 
@@ -67,7 +70,7 @@ def _role_files(unit: Path) -> dict[str, Path]:
                     cond = json.loads(side.read_text()).get("condition")
                 except (OSError, ValueError):
                     cond = None
-        role = cond or p.stem.lower()
+        role = cond or _STEM_ROLES.get(p.stem.lower(), p.stem.lower())
         if role in ("terminated", "tone", "floor", "shorted"):
             roles.setdefault(role, p)
     return roles
@@ -105,7 +108,9 @@ def _analyse(unit: Path, profile: Profile, settings: dict[str, Any]) -> dict[str
     request = GainMethodRequest(
         terminated=(roles["terminated"],), floor=Path(floor) if floor else None, tone=roles["tone"],
         tone_input_vrms=settings.get("tone_input_vrms"), volts_per_fs=settings.get("volts_per_fs"),
-        calibration=settings.get("calibration"),
+        calibration=settings.get("calibration"), rs_ohm=settings.get("rs_ohm"),
+        temperature_k=settings.get("temperature_k"), band_hz=settings.get("band_hz"),
+        weighting=settings.get("weighting"),
         conditions={k: (tuple(v) if isinstance(v, list) else v) for k, v in c.items()},
         condition_source=f"the profile's conditions (unit {unit.name})")
     return run_gain_method(request).to_dict()

@@ -224,6 +224,19 @@ def profile_from_data(data: dict[str, Any], *, where: str | Path) -> Profile:
                    str(data.get("notes", "")), str(path))
 
 
+#: A mask point needs a one-third-octave band this many spectrum bins wide: over fewer, a spot value's own
+#: scatter (relative std about sqrt(2 / (nu * bins))) makes good units read MARGINAL at random.
+MIN_MASK_BINS = 10
+_THIRD_OCTAVE_WIDTH = 10 ** (1 / 20) - 10 ** (-1 / 20)  # band width over centre frequency, 0.2316
+
+
+def _lowest_mask_hz(results: list[dict[str, Any]]) -> float:
+    """The lowest spot frequency whose band holds MIN_MASK_BINS bins in every good unit's spectrum."""
+    widths = [float(r["sample_rate_hz"]) / float(r["segment_length"]) for r in results
+              if r.get("sample_rate_hz") and r.get("segment_length")]
+    return MIN_MASK_BINS * max(widths) / _THIRD_OCTAVE_WIDTH if widths else 0.0
+
+
 # The figures a profile sets limits on; a results file that carries one must carry a number.
 _PROFILED = ("gain_db", "ein_dbu", "noise_figure_db", "nf_at_1khz_db")
 
@@ -244,6 +257,12 @@ def profile_from_results(results: list[dict[str, Any]], *, margin_db: float = 1.
         raise ParameterError(f"--margin-db {margin_db!r} must be >= 0")
     keys = ("rs_ohm", "band_hz", "weighting", "sample_rate_hz")
     cond = {k: results[0].get(k) for k in keys if results[0].get(k) is not None}
+    temps = [float(r["temperature_k"]) for r in results if isinstance(r.get("temperature_k"), (int, float))]
+    if temps:  # checks allow 5 K either side (check/limits.py), so the good units must agree as closely
+        if max(temps) - min(temps) > 5.0:
+            raise ParameterError(f"the known-good units were measured at {min(temps):g} to {max(temps):g} K: "
+                                 f"more than 5 K apart; make one profile per temperature")
+        cond["temperature_k"] = round(sum(temps) / len(temps), 2)
     for r in results[1:]:
         for k in keys:
             if r.get(k) != results[0].get(k):
@@ -285,6 +304,7 @@ def profile_from_results(results: list[dict[str, Any]], *, margin_db: float = 1.
                              if s.get("input_density_v_per_rthz") else None) for s in r.get("spot", [])}
              for r in results]
     freqs = sorted(set.intersection(*(set(k for k, v in s.items() if v) for s in spots))) if spots else []
+    freqs = [f for f in freqs if f >= _lowest_mask_hz(results)]
     if len(freqs) >= 2:
         worst = [max(v for s in spots if (v := s[f]) is not None) * 10 ** (margin_db / 20) for f in freqs]
         masks.append(Mask("input_density_v_per_rthz", tuple(float(f) for f in freqs), tuple(worst),
@@ -296,7 +316,7 @@ def profile_from_results(results: list[dict[str, Any]], *, margin_db: float = 1.
                   for r in results]
         top = max(levels) if levels else 0.0
         if top > 0:
-            hum.append(HumLimit(family, top * 10 ** (2 * margin_db / 20) * 2, "worst good x 2 + margin"))
+            hum.append(HumLimit(family, top * 2 * 10 ** (margin_db / 20), "worst good x 2 + margin"))
         elif noise.size:
             # No such lines on the good units: allow none stronger than 20 dB below the broadband noise.
             hum.append(HumLimit(family, float(noise.min()) * 0.1 * 10 ** (margin_db / 20),

@@ -9,7 +9,7 @@ from typing import Any
 
 from ..write import Writer
 from ._common import calibration_options, common_options, progress, verdict_table
-from ._types import positive_volts, whole_count
+from ._types import non_negative_hz, positive_ohm, positive_volts, resistor_kelvin, whole_count
 from .status import ExitStatus
 
 
@@ -25,6 +25,14 @@ def add_parser(sub: Any) -> None:
     p.add_argument("--floor", type=Path, metavar="FILE", help="analyzer floor for units without their own")
     p.add_argument("--tone-input-vrms", type=positive_volts, metavar="V",
                    help="tone level at the source, when the tone sidecars do not state it")
+    p.add_argument("--rs", type=positive_ohm, metavar="OHM",
+                   help="source resistance (must agree with the sidecars and the profile)")
+    p.add_argument("--temperature-k", type=resistor_kelvin, metavar="K",
+                   help="source resistor temperature (must agree with the sidecars and the profile)")
+    p.add_argument("--band", type=non_negative_hz, nargs=2, metavar=("LO", "HI"),
+                   help="integration band in Hz (must agree with the profile)")
+    p.add_argument("--weighting", choices=["none", "A", "C", "468", "468-2k"],
+                   help="weighting (must agree with the profile)")
     p.add_argument("--history", type=Path, metavar="FILE", help="history CSV to append to (default DIR/history.csv)")
     p.add_argument("--workers", type=whole_count, metavar="N", help="parallel processes (default: the cores)")
     calibration_options(p)
@@ -53,7 +61,8 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
         writer.target(writer.child(out, name))  # refused now, before any unit is analysed
     settings = {"calibration": str(args.calibration) if args.calibration else None,
                 "volts_per_fs": args.volts_per_fs, "floor": str(args.floor) if args.floor else None,
-                "tone_input_vrms": args.tone_input_vrms}
+                "tone_input_vrms": args.tone_input_vrms, "rs_ohm": args.rs, "temperature_k": args.temperature_k,
+                "band_hz": tuple(args.band) if args.band else None, "weighting": args.weighting}
     with progress(len(units), quiet=args.quiet, label="checking") as tick:
         outcomes = check_batch(Path(args.units), str(args.profile), settings=settings, workers=args.workers,
                                progress=tick)
