@@ -70,6 +70,8 @@ class PlanStep:
     tone_input_vrms: float | None = None
     cautions: tuple[str, ...] = ()
     name: str = ""
+    rs_ohm: float | None = None
+    temperature_k: float | None = None
 
     @property
     def file_stem(self) -> str:
@@ -109,8 +111,10 @@ def load_plan(path: str | Path) -> Plan:
         cautions = tuple(st.get("cautions", _DEFAULT_CAUTIONS.get(cond, [])))
         if set(cautions) - set(CAUTIONS):
             raise ParameterError(f"plan {path} step {i}: cautions must be among {', '.join(CAUTIONS)}")
-        step = PlanStep(cond, float(sec), str(st.get("prompt", "")), st.get("tone_hz"), st.get("tone_input_vrms"),
-                        cautions, str(st.get("name", "")))
+        nums = _step_numbers(st, f"plan {path} step {i}")
+        step = PlanStep(cond, float(sec), str(st.get("prompt", "")), tone_hz=nums["tone_hz"],
+                        tone_input_vrms=nums["tone_input_vrms"], cautions=cautions, name=str(st.get("name", "")),
+                        rs_ohm=nums["rs_ohm"], temperature_k=nums["temperature_k"])
         if step.file_stem in names:
             raise ParameterError(f"plan {path} step {i}: a second step named {step.file_stem!r}; give it a name")
         names.add(step.file_stem)
@@ -125,6 +129,18 @@ def load_plan(path: str | Path) -> Plan:
         raise ParameterError(f"plan {path}: [analysis] must be a table")
     return Plan(str(data.get("name", path.stem)), tuple(steps), data.get("device"), data.get("host_api"),
                 rate, int(channels), data.get("out_dir"), dict(data.get("analysis", {})))
+
+
+# A step's numbers and the ranges they must lie in (None: not stated).
+_STEP_RANGES = {"tone_hz": (0.0, 1e7), "tone_input_vrms": (0.0, 1e3), "rs_ohm": (0.0, 1e9), "temperature_k": (0.0, 1e3)}
+
+
+def _step_numbers(st: dict[str, Any], where: str) -> dict[str, float | None]:
+    """A step's numbers, checked for type and range (None where the step does not state one)."""
+    from ..io.toml_file import number
+    return {k: (None if st.get(k) is None else number(st[k], where=where, key=k, low=lo, high=hi,
+                                                      low_open=k != "rs_ohm"))
+            for k, (lo, hi) in _STEP_RANGES.items()}
 
 
 def check_capture(path: Path, *, step: PlanStep, floor_path: Path | None) -> list[str]:

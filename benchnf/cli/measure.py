@@ -32,8 +32,9 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
           "destroy a sound-card input. Follow local codes and licensed practice.")
 
     def record(path: Path, step) -> None:
-        meta = {k: v for k, v in (("rs_ohm", plan.analysis.get("rs_ohm")),
-                                  ("temperature_k", plan.analysis.get("temperature_k")),
+        rs = step.rs_ohm if step.rs_ohm is not None else plan.analysis.get("rs_ohm")
+        temperature = step.temperature_k if step.temperature_k is not None else plan.analysis.get("temperature_k")
+        meta = {k: v for k, v in (("rs_ohm", rs), ("temperature_k", temperature),
                                   ("tone_hz", step.tone_hz), ("tone_input_vrms", step.tone_input_vrms))
                 if v is not None}
         if step.condition == "floor":

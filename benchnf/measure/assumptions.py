@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-__all__ = ["NO_FLOOR", "temperature_assumed"]
+__all__ = ["NO_FLOOR", "temperature_assumed", "COLD_ASSUMED"]
 
 NO_FLOOR = ("no floor capture given: the analyzer's own noise is included in every figure (they read high)")
 
@@ -15,3 +15,7 @@ def temperature_assumed(default_k: float) -> str:
     """
     return (f"no source temperature was stated (--temperature-k, or temperature_k in a sidecar): {default_k:g} K "
             f"assumed; every 6 K of error moves the source's own noise by about 0.09 dB")
+
+
+COLD_ASSUMED = ("the noise source's cold (off) temperature was not stated: T0 = 290 K assumed; give --t-cold-k "
+                "with its physical temperature, or cold_k in the ENR table")

@@ -153,7 +153,7 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
     detector : str
         ``rms``, or ``qp`` (the BS.468-4 quasi-peak meter, with ``468`` only).
     segment_length : int, optional
-        Welch segment length; default about 3 Hz bins.
+        Welch segment length; default bins of 3 Hz or finer (16384 samples at 48 kHz, RBW 4.39 Hz).
     mains_hz : float, optional
         Mains fundamental; found among 50 and 60 Hz when omitted.
     flicker_range_hz : (float, float), optional

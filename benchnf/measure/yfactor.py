@@ -188,7 +188,7 @@ def analyze_yfactor(*, hot: Source | Sequence[Source], cold: Source | Sequence[S
                     band: Band | None = None, segment_length: int | None = None, n_rows: int = 16,
                     spot_hz: Sequence[float] = (), loss_before: Loss | None = None,
                     loss_after: Loss | None = None, dc_exclude_hz: float | None = None,
-                    edge_fraction: float = 0.1,
+                    edge_fraction: float = 0.1, assumptions: Sequence[str] = (),
                     progress: Callable[[int], None] | None = None) -> YFactorResult:
     """Noise figure, noise temperature and gain of a DUT by the Y-factor method.
 
@@ -214,6 +214,8 @@ def analyze_yfactor(*, hot: Source | Sequence[Source], cold: Source | Sequence[S
         Sub-bands for the per-frequency rows.
     spot_hz : sequence of float
         Spot frequencies (each evaluated over one row's width).
+    assumptions : sequence of str
+        Notes from the resolution of the inputs (e.g. a cold temperature nobody stated), listed first.
     loss_before, loss_after : Loss, optional
         Matched losses between source and DUT, and between DUT and receiver.
     dc_exclude_hz, edge_fraction :
@@ -236,7 +238,7 @@ def analyze_yfactor(*, hot: Source | Sequence[Source], cold: Source | Sequence[S
     if corrected and (cal_hot is None or cal_cold is None):
         raise ParameterError("the calibration pair needs both --cal-hot and --cal-cold")
     first = _check_states([*hot_l, *cold_l, cal_hot, cal_cold, floor])
-    notes: list[str] = []
+    notes: list[str] = list(assumptions)
     sp = _state_spectra(hot_l, cold_l, cal_hot=cal_hot, cal_cold=cal_cold, floor=floor,
                         seg=_segment(first, segment_length), progress=progress, notes=notes)
     f = sp.hot.frequency_hz

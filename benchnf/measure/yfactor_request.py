@@ -93,7 +93,10 @@ def resolve_yfactor(req: YFactorRequest) -> dict[str, Any]:
 
     def state(p: Path | None) -> Any:
         return open_state(p, iq=req.iq, centre_hz=req.centre_hz, channel=req.channel)
-    return dict(hot=hot, cold=cold, source=source, cal_hot=state(req.cal_hot), cal_cold=state(req.cal_cold),
+    from .assumptions import COLD_ASSUMED
+    cold_assumed = enr is not None and not enr.cold_stated and source.t_cold_k is None
+    return dict(assumptions=(COLD_ASSUMED,) if cold_assumed else (), hot=hot, cold=cold, source=source,
+                cal_hot=state(req.cal_hot), cal_cold=state(req.cal_cold),
                 floor=state(req.floor), band=Band(*req.band_hz) if req.band_hz else None,
                 segment_length=req.segment_length, n_rows=req.rows, spot_hz=req.spot_hz,
                 loss_before=Loss(*req.loss_before) if req.loss_before else None,

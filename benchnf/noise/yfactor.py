@@ -156,6 +156,7 @@ class EnrTable:
     cold_k: float = T0_K
     enr_uncertainty_db: float | None = None
     name: str = ""
+    cold_stated: bool = True  # False where cold_k is T0 only because nothing stated it
 
     def __post_init__(self) -> None:
         f = np.asarray(self.frequency_hz, dtype=np.float64)
@@ -169,9 +170,10 @@ class EnrTable:
         object.__setattr__(self, "enr_db", e)
 
     @classmethod
-    def constant(cls, enr_db: float, *, cold_k: float = T0_K) -> "EnrTable":
-        """One ENR at every frequency."""
-        return cls(np.array([0.0]), np.array([float(enr_db)]), cold_k, None, f"{enr_db:g} dB")
+    def constant(cls, enr_db: float, *, cold_k: float | None = None) -> "EnrTable":
+        """One ENR at every frequency (cold temperature T0 when not given, and marked as assumed)."""
+        return cls(np.array([0.0]), np.array([float(enr_db)]), T0_K if cold_k is None else cold_k, None,
+                   f"{enr_db:g} dB", cold_stated=cold_k is not None)
 
     def at(self, frequency_hz: ArrayLike) -> NDArray[np.float64]:
         """ENR (dB) at the given frequencies; refuse any outside the table."""
@@ -221,8 +223,8 @@ def load_enr_table(path: str | Path) -> EnrTable:
                         number(data.get("cold_k", T0_K), where=where, key="cold_k", low=0.0, high=1e4,
                                low_open=True),
                         None if u is None else number(u, where=where, key="enr_uncertainty_db", low=0.0, high=10.0),
-                        str(data.get("name", path.stem)))
-    rows, cold, scale = [], T0_K, 1.0
+                        str(data.get("name", path.stem)), cold_stated="cold_k" in data)
+    rows, cold, scale, cold_stated = [], T0_K, 1.0, False
     for line in path.read_text(encoding="utf-8").splitlines():
         line = line.strip()
         if not line:
@@ -230,7 +232,7 @@ def load_enr_table(path: str | Path) -> EnrTable:
         if line.startswith("#"):
             if "cold_k" in line and "=" in line:
                 try:
-                    cold = float(line.split("=", 1)[1])
+                    cold, cold_stated = float(line.split("=", 1)[1]), True
                 except ValueError:
                     raise ParameterError(f"ENR table {path}: {line!r} does not give cold_k as a number") from None
             continue
@@ -246,4 +248,4 @@ def load_enr_table(path: str | Path) -> EnrTable:
     arr = np.array(rows)
     if not (np.all(np.isfinite(arr)) and np.all(arr[:, 0] > 0) and math.isfinite(cold) and cold > 0):
         raise ParameterError(f"ENR table {path}: frequencies and cold_k must be finite numbers > 0")
-    return EnrTable(arr[:, 0], arr[:, 1], cold, None, path.stem)
+    return EnrTable(arr[:, 0], arr[:, 1], cold, None, path.stem, cold_stated=cold_stated)

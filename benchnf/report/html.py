@@ -35,6 +35,8 @@ def unit_figure(results: dict[str, Any], check: dict[str, Any] | None, profile=N
                 a.loglog(ff, [m.at(x) * 1e9 for x in ff], "--", color="#b3261e", label="profile mask")
     a.set_xlabel("Frequency (Hz)")
     a.set_ylabel("Input-referred noise (nV/\u221aHz)")
+    from .plots import plain_log_ticks
+    plain_log_ticks(a)
     a.grid(True, which="both", alpha=0.3)
     a.legend(fontsize=8)
     a.set_title("Noise density against the mask", fontsize=10)

@@ -5,6 +5,8 @@ matplotlib is imported only here, and only when a plot is asked for.
 
 from __future__ import annotations
 
+import math
+
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -31,6 +33,24 @@ def _figure(rows: int = 1, height: float = 5.0, **subplots_kw):
     return fig, fig.subplots(rows, 1, **subplots_kw)
 
 
+def plain_log_ticks(ax) -> None:
+    """Plain numbers (0.9, 2, 300) instead of 9x10^-1 on whichever of the axes is logarithmic."""
+    from matplotlib.ticker import FuncFormatter
+
+    def minor_for(axis):
+        def minor(v: float, _pos: int) -> str:
+            lo, hi = sorted(axis.get_view_interval())
+            if lo > 0 and hi / lo < 15:  # about a decade or less: every minor tick may carry its number
+                return f"{v:.2g}"
+            mantissa = round(v / 10 ** math.floor(math.log10(v)), 6) if v > 0 else 0
+            return f"{v:g}" if mantissa in (2.0, 5.0) else ""  # wide: 2 and 5 only, so labels never collide
+        return minor
+    for axis, scale in ((ax.xaxis, ax.get_xscale()), (ax.yaxis, ax.get_yscale())):
+        if scale == "log":
+            axis.set_major_formatter(FuncFormatter(lambda v, _pos: f"{v:g}"))
+            axis.set_minor_formatter(FuncFormatter(minor_for(axis)))
+
+
 def _axes(ax):
     if ax is None:
         _, ax = _figure()
@@ -44,11 +64,7 @@ def _decorate(ax, r: AnalysisResult, title: str) -> None:
     ax.set_xlim(max(r.spectra.frequency_hz[1], 1.0), r.sample_rate_hz / 2)
     ax.grid(True, which="both", alpha=0.3)
     ax.set_xlabel("Frequency (Hz)")
-    if ax.get_yscale() == "log":
-        from matplotlib.ticker import FuncFormatter
-        plain = FuncFormatter(lambda v, _pos: f"{v:g}")
-        ax.yaxis.set_major_formatter(plain)
-        ax.yaxis.set_minor_formatter(plain)
+    plain_log_ticks(ax)
     ax.set_title(title, fontsize=11)
     ax.legend(fontsize=8, loc="best")
 
@@ -169,7 +185,11 @@ def plot_yfactor(r, *, ax_nf: "Axes | None" = None, ax_y: "Axes | None" = None):
     ax_y.plot(f, [row.y_factor_db for row in rows], "o-", color="tab:blue", ms=4)
     ax_y.set_ylabel("Y factor (dB)")
     ax_y.set_xlabel(f"Frequency ({unit})")
-    ax_y.grid(True, alpha=0.3)
+    ax_y.grid(True, which="both", alpha=0.3)
+    if r.centre_hz is None and len(f) and f.min() > 0 and f.max() / f.min() > 10:  # audio: decades wide
+        for ax in (ax_nf, ax_y):
+            ax.set_xscale("log")
+            plain_log_ticks(ax)
     return ax_nf, ax_y
 
 
@@ -218,6 +238,7 @@ def plot_en_in(eni, *, axes=None):
         ax.set_ylabel(label)
         ax.grid(True, which="both", alpha=0.3)
         ax.legend(fontsize=8)
+        plain_log_ticks(ax)
     axes[1].set_xlabel("Frequency (Hz)")
     axes[0].set_title("Amplifier voltage and current noise from the Rs sweep", fontsize=11)
     return axes
@@ -244,6 +265,7 @@ def plot_nf_vs_rs(eni, *, ax: "Axes | None" = None) -> "Axes":
     ax.set_ylabel("Noise figure (dB)")
     ax.set_ylim(bottom=0)
     ax.grid(True, which="both", alpha=0.3)
+    plain_log_ticks(ax)
     ax.legend(fontsize=8, title="squares: measured at 1 kHz", title_fontsize=8)
     ax.set_title("NF against Rs (best SNR is at the lowest Rs, not at Ropt)", fontsize=11)
     return ax

@@ -47,8 +47,10 @@ def format_budget(r: BudgetResult) -> str:
              f"  band              {r.band_hz[0]:g}-{r.band_hz[1]:g} Hz (band-mean densities, lines removed)",
              f"  noise figure      measured {r.measured_noise_figure_db:.3f} dB, predicted "
              f"{_n(r.predicted_noise_figure_db)} dB", "",
-             f"  {'tap':18s} {'gain dB':>8} {'input nV/rtHz':>14} {'added nV/rtHz':>14} {'predicted':>10} "
-             f"{'share meas':>10} {'share pred':>10}"]
+             f"  {'':18s} {'':>8} {'input noise':>14} {'added by stage':>14} {'added':>10} "
+             f"{'share of excess noise':>21}",
+             f"  {'tap':18s} {'gain dB':>8} {'nV/rtHz':>14} {'nV/rtHz':>14} {'predicted':>10} "
+             f"{'measured':>10} {'predicted':>10}"]
     for t in r.taps:
         add = math.sqrt(t.added_v2_per_hz) * 1e9 if t.added_v2_per_hz > 0 else 0.0
         pred = math.sqrt(t.predicted_added_v2_per_hz) * 1e9 if t.predicted_added_v2_per_hz else None
