@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 
@@ -10,7 +11,8 @@ from numpy.typing import ArrayLike, NDArray
 
 from ..errors import ParameterError
 
-__all__ = ["Psd", "WINDOWS", "make_window", "window_enbw_bins", "welch_dof", "default_segment_length"]
+__all__ = ["Psd", "WINDOWS", "make_window", "window_enbw_bins", "welch_dof", "default_segment_length",
+           "window_bin_correlation"]
 
 #: Windows offered: name -> scipy.signal.get_window name.  Hann for noise,
 #: flat-top for tone levels.
@@ -36,6 +38,26 @@ def window_enbw_bins(window: ArrayLike) -> float:
     """
     w = np.asarray(window, dtype=np.float64)
     return float(w.size * np.sum(w * w) / np.sum(w) ** 2)
+
+
+@functools.lru_cache(maxsize=32)
+def window_bin_correlation(name: str, segment_length: int) -> tuple[float, ...]:
+    """Correlation ``|C(d)|^2`` of two periodogram bins d apart, d = 0, 1, ..., for a window.
+
+    ``C(d) = sum_n w_n^2 exp(-2 pi i d n / N) / sum_n w_n^2``, kept while above 1e-9 (a cosine-sum
+    window's C vanishes beyond a few lags). Hann: 1, 4/9, 1/36 (C(1) = -2/3, C(2) = 1/6), summing over both
+    signs to 35/18.
+
+    References
+    ----------
+    .. [1] D. B. Percival and A. T. Walden, "Spectral Analysis for Physical Applications", Cambridge
+           1993, ch. 6 (from memory; computed here from the window itself).
+    """
+    w2 = make_window(name, segment_length) ** 2
+    c = np.abs(np.fft.rfft(w2)) / float(np.sum(w2))
+    corr = c * c
+    last = next((d for d in range(1, corr.size) if corr[d] < 1e-9), corr.size)
+    return tuple(float(x) for x in corr[:last])
 
 
 def welch_dof(window: ArrayLike, hop: int, n_segments: int) -> float:
@@ -127,6 +149,14 @@ class Psd:
             arr = np.array(getattr(self, name), dtype=np.float64)
             arr.setflags(write=False)
             object.__setattr__(self, name, arr)
+
+    @property
+    def correlation_kernel(self) -> tuple[float, ...]:
+        """How the bins of this estimate correlate by lag (see :func:`window_bin_correlation`); for an
+        instrument trace, whose filter is not known, its noise bandwidth in bins."""
+        if self.window in WINDOWS:
+            return window_bin_correlation(self.window, self.segment_length)
+        return (max(self.enbw_hz / self.bin_width_hz, 1.0),)
 
     @property
     def bin_width_hz(self) -> float:

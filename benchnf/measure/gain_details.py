@@ -34,14 +34,14 @@ _MAX_QP_SECONDS = 30.0
 
 
 def resolved(weights: NDArray[np.float64], measured: NDArray[np.float64], floor: NDArray[np.float64] | None,
-              *, dof_measured: float, dof_floor: float | None, enbw_bins: float) -> bool:
+              *, dof_measured: float, dof_floor: float | None, correlation: tuple[float, ...]) -> bool:
     """True if the excess of `measured` over `floor` in these weighted bins exceeds 3 sigma."""
     if floor is None or dof_floor is None:
         return True
     m = float(np.dot(weights, measured))
     fl = float(np.dot(weights, floor))
-    sm = band_relative_std(weights, measured, dof=dof_measured, enbw_bins=enbw_bins) * m
-    sf = band_relative_std(weights, floor, dof=dof_floor, enbw_bins=enbw_bins) * fl
+    sm = band_relative_std(weights, measured, dof=dof_measured, correlation=correlation) * m
+    sf = band_relative_std(weights, floor, dof=dof_floor, correlation=correlation) * fl
     return m - fl > 3.0 * math.hypot(sm, sf)
 
 
@@ -63,7 +63,7 @@ def spot_values(f, band, fs, p_term, p_floor, p_short, term_clean, floor_clean, 
     out_spot = spot_means(spot_w, out_diff)
     nf_spot = spot_noise_factor(e2_spot, rs_ohm=rs_ohm, temperature_k=temperature_k)
     en_spot = spot_means(spot_w, en_diff) if en_diff is not None else None
-    enbw_bins = p_term.enbw_hz / p_term.bin_width_hz
+    kernel = p_term.correlation_kernel
     floor_dof = p_floor.dof if p_floor is not None else None
     spots, low_margin = [], []
     for i, ((label, _exact), w_full) in enumerate(zip(centres, spot_w)):
@@ -71,7 +71,7 @@ def spot_values(f, band, fs, p_term, p_floor, p_short, term_clean, floor_clean, 
         w_s, term_s = w_full[span], term_clean[span]
         floor_s = floor_clean[span] if floor_clean is not None else None
         ok = e2_spot[i] > 0 and resolved(w_s, term_s, floor_s, dof_measured=p_term.dof,
-                                          dof_floor=floor_dof, enbw_bins=enbw_bins)
+                                          dof_floor=floor_dof, correlation=kernel)
         m_band = float(np.dot(w_s, term_s))
         f_band = float(np.dot(w_s, floor_s)) if floor_s is not None else None
         m_db = float(power_db(m_band / f_band)) if f_band is not None else None
@@ -79,10 +79,10 @@ def spot_values(f, band, fs, p_term, p_floor, p_short, term_clean, floor_clean, 
             low_margin.append(label)
         en_ok = (en_spot is not None and short_clean is not None and en_spot[i] > 0
                  and resolved(w_s, short_clean[span], floor_s, dof_measured=p_short.dof,
-                               dof_floor=floor_dof, enbw_bins=enbw_bins))
+                               dof_floor=floor_dof, correlation=kernel))
         rel = dut_power_rel_std(
-            measured=m_band, measured_rel_std=band_relative_std(w_s, term_s, dof=p_term.dof, enbw_bins=enbw_bins),
-            floor=f_band, floor_rel_std=(band_relative_std(w_s, floor_s, dof=floor_dof, enbw_bins=enbw_bins)
+            measured=m_band, measured_rel_std=band_relative_std(w_s, term_s, dof=p_term.dof, correlation=kernel),
+            floor=f_band, floor_rel_std=(band_relative_std(w_s, floor_s, dof=floor_dof, correlation=kernel)
                                          if floor_s is not None and floor_dof is not None else None))
         spots.append(SpotValue(
             freq_hz=label,
@@ -102,6 +102,11 @@ def spot_values(f, band, fs, p_term, p_floor, p_short, term_clean, floor_clean, 
     return spots
 
 
+def _kernel_sum(kernel: tuple[float, ...]) -> float:
+    """Bins' worth of variance one bin carries with its correlated neighbours (35/18 for Hann)."""
+    return kernel[0] + 2.0 * sum(kernel[1:])
+
+
 def nonzero_span(weights: NDArray[np.float64]) -> slice:
     """The slice from the first to the last non-zero weight."""
     nz = np.flatnonzero(weights)
@@ -116,7 +121,7 @@ def flicker_fit(f, en_diff, e2_diff, s_term, p_term, band, range_hz, free_slope,
     rng = range_hz if range_hz is not None else (max(band.low_hz, 2 * p_term.bin_width_hz),
                                                  min(band.high_hz, 10_000.0))
     try:
-        fit = fit_flicker(f, target, dof=p_term.dof, enbw_bins=p_term.enbw_hz / p_term.bin_width_hz,
+        fit = fit_flicker(f, target, dof=p_term.dof, enbw_bins=_kernel_sum(p_term.correlation_kernel),
                           range_hz=rng, exclude=line_mask(s_term, f.size), free_slope=free_slope)
     except MeasurementError as err:
         notes.append(f"no 1/f corner: {err}")
@@ -151,13 +156,13 @@ def qp_ein(capture: NoiseInput, p_term: Psd, p_floor: Psd | None, w_band, g: Gai
 def spot_nf_budget(f, centre_hz, p_term, p_floor, term_clean, floor_clean, g, gain, stated, rs_ohm,
                     temperature_k) -> Budget:
     w = third_octave_weights(f, centre_hz)
-    enbw_bins = p_term.enbw_hz / p_term.bin_width_hz
+    kernel = p_term.correlation_kernel
     m = float(np.dot(w, term_clean))
-    m_rel = band_relative_std(w, term_clean, dof=p_term.dof, enbw_bins=enbw_bins)
+    m_rel = band_relative_std(w, term_clean, dof=p_term.dof, correlation=kernel)
     fl = fl_rel = None
     if p_floor is not None:
         fl = float(np.dot(w, floor_clean))
-        fl_rel = band_relative_std(w, floor_clean, dof=p_floor.dof, enbw_bins=enbw_bins)
+        fl_rel = band_relative_std(w, floor_clean, dof=p_floor.dof, correlation=kernel)
     e2 = (m - (fl or 0.0)) / float(np.dot(w, g.power_gain)) * w.sum()
     b = float(w.sum())
     n0 = 4 * BOLTZMANN_J_PER_K * T0_K * rs_ohm * b

@@ -83,7 +83,7 @@ class _Lines:
 class _FloorStep:
     w_band: NDArray[np.float64]
     used: NDArray[np.bool_]
-    enbw_bins: float
+    kernel: tuple[float, ...]
     m_band: float
     m_rel: float
     f_band: float | None
@@ -297,18 +297,18 @@ def _floor(spec: _Spectra, lines: _Lines, *, band: Band, weighting: str, what: s
     if not used.any():
         raise ParameterError(f"no spectrum bin lies in the band {band.label()}")
     term_clean = lines.term.cleaned
-    enbw_bins = p_term.enbw_hz / p_term.bin_width_hz
+    kernel = p_term.correlation_kernel
     m_band = float(np.dot(w_band[used], term_clean[used]))
-    m_rel = band_relative_std(w_band, term_clean, dof=p_term.dof, enbw_bins=enbw_bins)
+    m_rel = band_relative_std(w_band, term_clean, dof=p_term.dof, correlation=kernel)
     if p_floor is None:
         notes.append(NO_FLOOR)
-        return _FloorStep(w_band, used, enbw_bins, m_band, m_rel, None, None, None, term_clean, p_term.psd_per_hz)
+        return _FloorStep(w_band, used, kernel, m_band, m_rel, None, None, None, term_clean, p_term.psd_per_hz)
     floor_clean = lines.floor.cleaned  # type: ignore[union-attr]
     f_band = float(np.dot(w_band[used], floor_clean[used]))
-    f_rel = band_relative_std(w_band, floor_clean, dof=p_floor.dof, enbw_bins=enbw_bins)
+    f_rel = band_relative_std(w_band, floor_clean, dof=p_floor.dof, correlation=kernel)
     margin_db = check_band_margin(measured_v2=m_band, floor_v2=f_band, measured_rel_std=m_rel,
                                   floor_rel_std=f_rel, what=what)
-    return _FloorStep(w_band, used, enbw_bins, m_band, m_rel, f_band, f_rel, margin_db,
+    return _FloorStep(w_band, used, kernel, m_band, m_rel, f_band, f_rel, margin_db,
                       subtract_floor(term_clean, floor_clean).difference,
                       subtract_floor(p_term.psd_per_hz, p_floor.psd_per_hz).difference)
 
@@ -344,7 +344,7 @@ def _voltage_noise(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorSte
     floor_clean = lines.floor.cleaned if lines.floor is not None else None
     short_diff = subtract_floor(short_clean, floor_clean).difference if floor_clean is not None else short_clean
     if spec.floor is not None and not resolved(fl.w_band, short_clean, floor_clean, dof_measured=spec.short.dof,
-                                                dof_floor=spec.floor.dof, enbw_bins=fl.enbw_bins):
+                                                dof_floor=spec.floor.dof, correlation=fl.kernel):
         notes.append(f"the shorted capture {label_of(prep.shorted)} cannot be told from the analyzer "  # type: ignore[arg-type]
                      f"floor in the band: its voltage noise is not reported")
         return None

@@ -28,6 +28,7 @@ from ..dsp.spectrum import Psd, default_segment_length
 from ..dsp.spurs import find_lines
 from ..dsp.weighting import Band
 from ..errors import CaptureError, ParameterError
+from ..noise.floor import correlated_sum_variance
 from ..noise.cascade import Chain, predict
 from ..noise.gain_method import third_octave_centres_hz, third_octave_weights
 from ..noise.twoport import EnInFit, fit_en_in, noise_factor_vs_rs
@@ -48,14 +49,15 @@ class InputReferred:
     variance: NDArray[np.float64]
     gain_db: float
     gain_rel_std: float
-    enbw_bins: float
+    correlation: tuple[float, ...]
     label: str
 
     def band_mean(self, weights: NDArray[np.float64]) -> tuple[float, float]:
-        """Weighted mean density over a band and its standard deviation (bins correlated over ENBW)."""
+        """Weighted mean density over a band and its standard deviation (bins correlated by the window,
+        :func:`benchnf.noise.floor.correlated_sum_variance`)."""
         wsum = float(weights.sum())
         mean = float(np.dot(weights, self.density_v2_per_hz)) / wsum
-        var = float(np.dot(weights ** 2, self.variance)) / wsum ** 2 * self.enbw_bins
+        var = correlated_sum_variance(weights * np.sqrt(self.variance), self.correlation) / wsum ** 2
         return mean, math.sqrt(var)
 
 
@@ -75,7 +77,7 @@ def input_referred(capture: Capture | Psd, gain: GainSetup, *, rs_ohm: float, fl
                      output_volts_per_fs=vpfs, band=band)
     label = capture.label if isinstance(capture, Capture) else "spectrum"
     return InputReferred(p.frequency_hz, diff / g.power_gain, var_out / g.power_gain ** 2, g.gain_db,
-                         g.gain_rel_std, p.enbw_hz / p.bin_width_hz, label)
+                         g.gain_rel_std, p.correlation_kernel, label)
 
 
 # -- measured stage budget -------------------------------------------------------------------

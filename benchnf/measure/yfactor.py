@@ -370,6 +370,8 @@ def _headline(evaluated: tuple[Powers, Model] | None, band: Band, source: HotCol
     pw, model = evaluated
     if not (pw.hot > 0 and pw.cold > 0):
         raise MeasurementError("the hot or cold power is not above the subtracted floor")
+    if corrected:
+        _check_calibration_pair(pw)
     y12, f12, f2, g1, f1 = model.factors(hot=pw.hot, cold=pw.cold, cal_hot=pw.cal_hot, cal_cold=pw.cal_cold)
     u_y = math.hypot(pw.u_hot, pw.u_cold)
     if y12 - 1 < 3 * u_y * y12:
@@ -383,6 +385,21 @@ def _headline(evaluated: tuple[Powers, Model] | None, band: Band, source: HotCol
     if gain_budget is not None:
         budgets["gain_db"] = gain_budget
     return _Headline(pw, model, y12, f12, f2, g1, f1, budgets)
+
+
+def _check_calibration_pair(pw: Powers) -> None:
+    """Refuse a calibration pair whose Y cannot be told from 1 (three standard deviations of its scatter):
+    the receiver's own noise swamps the source, and the second-stage correction and the DUT's gain would
+    be noise."""
+    ch, cc = pw.cal_hot or 0.0, pw.cal_cold or 0.0
+    y2 = ch / cc if cc > 0 else 0.0
+    u = math.hypot(pw.u_cal_hot, pw.u_cal_cold)
+    if not (cc > 0 and y2 - 1 > 3 * u * y2):
+        shown = f"{10 * math.log10(y2):.3f} dB" if y2 > 0 else "not above the floor"
+        raise MeasurementError(f"the calibration pair cannot resolve the receiver: its Y is {shown} with a "
+                               f"scatter of {100 * u:.2f} %: the receiver's own noise swamps the source; put a "
+                               f"preamplifier of known gain before the receiver, use a hotter source (higher ENR), "
+                               f"or record the pair longer")
 
 
 def _pair_repeats(sp: _StateSpectra, w: NDArray[np.float64], model: Model, notes: list[str]) -> dict[str, Any] | None:

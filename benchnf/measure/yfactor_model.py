@@ -95,14 +95,14 @@ def band_powers(w, p_hot, p_cold, p_floor, p_ch, p_cc) -> Powers:
         if p is None:
             return None, 0.0
         s = p.psd_per_hz - (p_floor.psd_per_hz if p_floor is not None else 0.0)
-        enbw = p.enbw_hz / p.bin_width_hz
+        kernel = p.correlation_kernel
         raw = float(np.dot(w, p.psd_per_hz))
         value = float(np.dot(w, s))
-        rel = band_relative_std(w, p.psd_per_hz, dof=p.dof, enbw_bins=enbw) * raw / value if value > 0 else math.inf
+        rel = band_relative_std(w, p.psd_per_hz, dof=p.dof, correlation=kernel) * raw / value if value > 0 else math.inf
         if p_floor is not None:
             fl = float(np.dot(w, p_floor.psd_per_hz))
             rel = math.hypot(rel * value, band_relative_std(w, p_floor.psd_per_hz, dof=p_floor.dof,
-                                                            enbw_bins=enbw) * fl) / value if value > 0 else math.inf
+                                                            correlation=kernel) * fl) / value if value > 0 else math.inf
         return value, rel
 
     h, uh = one(p_hot)

@@ -63,7 +63,8 @@ def fit_flicker(frequency_hz: ArrayLike, density_v2_per_hz: ArrayLike, *, dof: f
     dof : float
         Welch degrees of freedom of each bin.
     enbw_bins : float
-        Window ENBW in bins.
+        Bins' worth of variance one bin carries with its correlated neighbours (the window's
+        ``sum_d |C(d)|^2``, 35/18 for Hann): the fit's covariance is inflated by it.
     range_hz : (float, float)
         Fit range.
     exclude : array_like of bool, optional

@@ -20,7 +20,9 @@ References
 
 from __future__ import annotations
 
+import math
 import warnings
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -84,22 +86,44 @@ def subtract_floor(measured: ArrayLike, floor: ArrayLike) -> FloorSubtraction:
     return FloorSubtraction(diff, margin)
 
 
-def band_relative_std(weights: ArrayLike, density: ArrayLike, *, dof: float, enbw_bins: float) -> float:
-    """Approximate relative standard deviation of a Welch band power.
+def correlated_sum_variance(a: ArrayLike, correlation: Sequence[float]) -> float:
+    """Variance of ``sum_k X_k`` for bins of standard deviation ``a_k`` correlated by lag.
 
-    ``sqrt(enbw_bins * 2/nu * sum (w_k S_k)^2) / sum (w_k S_k)``: each bin has
-    relative variance 2/nu, and neighbouring bins of a window are correlated
-    over about `enbw_bins` bins.  For white noise over B Hz and T s this is
-    close to the familiar ``1 / sqrt(B T)``.
+    ``sum_d c_d sum_k a_k a_(k+d)`` over both signs of d, with ``c_0 = 1`` (or an instrument's noise
+    bandwidth in bins, where only that is known) and ``c_d`` the correlation of two bins d apart.
+    """
+    x = np.asarray(a, dtype=np.float64)
+    total = correlation[0] * float(np.dot(x, x))
+    for d, c in enumerate(correlation[1:], 1):
+        if d < x.size:
+            total += 2.0 * c * float(np.dot(x[:-d], x[d:]))
+    return total
+
+
+def band_relative_std(weights: ArrayLike, density: ArrayLike, *, dof: float, correlation: Sequence[float]) -> float:
+    """Relative standard deviation of a Welch band power ``sum_k w_k S_k``.
+
+    Each bin has relative variance ``2/nu`` (nu from Welch's formula, segment overlap included), and two
+    bins d apart of one windowed periodogram correlate as ``|C(d)|^2`` with
+    ``C(d) = sum_n w_n^2 exp(-2 pi i d n / N) / sum_n w_n^2`` (`correlation`, from
+    :func:`benchnf.dsp.psd.window_bin_correlation`)::
+
+        var = 2/nu * sum_k sum_j (w_k S_k)(w_j S_j) |C(k - j)|^2
+
+    For Hann (``C(1) = -2/3``, ``C(2) = 1/6``) a wide band's variance is ``35/18`` bin variances per bin,
+    not the 1.5 of its noise bandwidth: the scatter is ``sqrt(35/27) = 1.14`` times larger.
 
     References
     ----------
-    .. [1] J. S. Bendat and A. G. Piersol, "Random Data", 4th ed., Wiley
-           2010, ch. 8 (normalised random error of a PSD estimate).
+    .. [1] P. D. Welch, IEEE Trans. Audio Electroacoust. 15(2), 1967 (variance of the averaged estimate).
+    .. [2] D. B. Percival and A. T. Walden, "Spectral Analysis for Physical Applications", Cambridge 1993,
+           ch. 6 (covariance of periodogram ordinates of a tapered series).
     """
     ws = np.asarray(weights, dtype=np.float64) * np.asarray(density, dtype=np.float64)
     total = float(np.sum(ws))
-    return float(np.sqrt(enbw_bins * 2.0 / dof * np.sum(ws * ws)) / total) if total > 0 else np.inf
+    if not total > 0:
+        return np.inf
+    return math.sqrt(2.0 / dof * correlated_sum_variance(ws, correlation)) / total
 
 
 def check_band_margin(*, measured_v2: float, floor_v2: float, measured_rel_std: float,
