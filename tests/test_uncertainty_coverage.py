@@ -117,3 +117,52 @@ def test_a_calibration_pair_that_cannot_resolve_the_receiver_is_refused_with_tha
     from benchnf.errors import MeasurementError
     with pytest.raises(MeasurementError, match="the calibration pair cannot resolve the receiver"):
         _yfactor_runs(1, te2_k=60_000.0, seconds=0.5)  # cal Y = 1.0017: far inside its own scatter
+
+
+def _eni_runs(n, *, rs_list=(0.0, 1000.0, 20_000.0), en=2e-9, i_n=1e-12, fs=16_000.0, seconds=2.0):
+    """en and in at 1 kHz from a seeded source-resistance sweep of a flat amplifier, with stated U (k=2)."""
+    from benchnf.capture import Capture
+    from benchnf.measure.stages import extract_en_in
+    out = []
+    for seed in range(n):
+        sweep = []
+        for j, rs in enumerate(rs_list):
+            b = Bench(seconds=seconds, sample_rate_hz=fs, rs_ohm=max(rs, 1e-12), en_v_per_rthz=en, in_a_per_rthz=i_n,
+                      floor_v_per_rthz=5e-9, seed=20_000 + 10 * seed + j)
+            caps = b.captures()
+            x = (caps["shorted"] if rs == 0 else caps["terminated"]).read()
+            cap = Capture.from_array(x, sample_rate_hz=fs, volts_per_fs=b.volts_per_fs)
+            sweep.append((cap, rs, b.temperature_k, GainSetup(gain_db=b.gain_db)))
+        r = extract_en_in(sweep=sweep, band=Band(100.0, 6000.0), segment_length=1024)
+        a = r.at_1khz
+        out.append([(a["en_v_per_rthz"], 2 * a["en_std_v_per_rthz"], en),
+                    (a["in_a_per_rthz"], 2 * a["in_std_a_per_rthz"], i_n)])
+    return np.array(out, dtype=np.float64)
+
+
+def test_en_and_in_from_a_sweep_cover_95_percent():
+    runs = _eni_runs(300)
+    for i, name in enumerate(("en", "in")):
+        covered, ratio = _coverage_and_ratio(runs[:, i, :])
+        print(f"{name} at 1 kHz from a 0/1k/20k ohm sweep: coverage {100 * covered:.1f} %, "
+              f"spread / stated u = {ratio:.3f}")
+        assert 0.93 <= covered <= 0.97, name
+        assert 0.9 <= ratio <= 1.1, name
+
+
+def test_ropt_nfmin_and_correlation_carry_uncertainty_or_say_they_are_not_determined():
+    from benchnf.noise.twoport import fit_en_in
+    # Exact densities (computed) of an uncorrelated amplifier, en 2 nV, in 1 pA: Ropt = 2000 ohm.
+    k_t = 4 * 1.380649e-23 * 290.0
+    rs = np.array([0.0, 1000.0, 5000.0, 20_000.0])
+    d = (4e-18 + (1e-12 * rs) ** 2 + k_t * rs)[:, None]
+    fit = fit_en_in(rs, d, (0.05 * d) ** 2, temperature_k=290.0, frequency_hz=[1000.0])
+    a = fit.at(1000.0)
+    assert a["ropt_ohm"] == pytest.approx(2000.0, rel=1e-6) and a["ropt_u95_ohm"] > 0
+    assert a["nfmin_u95_db"] > 0 and a["correlation"] == pytest.approx(0.0, abs=1e-6)
+    # The same amplifier swept only at 0, 50 and 200 ohm: Ropt lies outside, and is not reported as a number.
+    rs2 = np.array([0.0, 50.0, 200.0])
+    d2 = (4e-18 + (1e-12 * rs2) ** 2 + k_t * rs2)[:, None]
+    a2 = fit_en_in(rs2, d2, (0.05 * d2) ** 2, temperature_k=290.0, frequency_hz=[1000.0]).at(1000.0)
+    assert a2["ropt_ohm"] is None and any("Ropt" in u for u in a2["undetermined"])
+    assert a2["correlation"] is None  # three points this close cannot tell the correlation

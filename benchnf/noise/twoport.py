@@ -74,18 +74,58 @@ class EnInFit:
     en_std: NDArray[np.float64]
     in_std: NDArray[np.float64]
     rs_ohm: NDArray[np.float64]
+    cov: NDArray[np.float64] | None = None  # (n, p, p): covariance of (en^2, in^2[, 2 rho en in]) per frequency
 
     def at(self, frequency_hz: float) -> dict[str, Any]:
-        """Values at the nearest fitted frequency, with Ropt and NFmin."""
+        """Values at the nearest fitted frequency, with Ropt and NFmin and their uncertainties.
+
+        A figure the sweep cannot determine is None, with the reason under ``undetermined``: a correlation
+        whose k = 2 interval is wider than +/-1, an Ropt outside the swept resistances.
+        """
         k = int(np.argmin(np.abs(self.frequency_hz - frequency_hz)))
         en, i_n = float(self.en_v_per_rthz[k]), float(self.in_a_per_rthz[k])
         rho = float(self.correlation[k]) if self.correlation is not None else 0.0
         ok = math.isfinite(en) and math.isfinite(i_n) and i_n > 0
+        derived = _derived(en, i_n, rho, self.cov[k] if self.cov is not None else None, self.rs_ohm) if ok else {}
         return {"freq_hz": float(self.frequency_hz[k]), "en_v_per_rthz": en, "in_a_per_rthz": i_n,
                 "en_std_v_per_rthz": float(self.en_std[k]), "in_std_a_per_rthz": float(self.in_std[k]),
-                "correlation": rho if self.correlation is not None else None,
-                "ropt_ohm": ropt_ohm(en, i_n) if ok else None,
-                "nfmin_db": 10 * math.log10(fmin(en, i_n, rho)) if ok else None}
+                "correlation": derived.get("correlation", rho if self.correlation is not None else None),
+                "correlation_std": derived.get("correlation_std"),
+                "ropt_ohm": derived.get("ropt_ohm"), "ropt_u95_ohm": derived.get("ropt_u95_ohm"),
+                "nfmin_db": derived.get("nfmin_db"), "nfmin_u95_db": derived.get("nfmin_u95_db"),
+                "undetermined": derived.get("undetermined", [])}
+
+
+def _derived(en: float, i_n: float, rho: float, cov: NDArray[np.float64] | None,
+             rs_ohm: NDArray[np.float64]) -> dict[str, Any]:
+    """Ropt, NFmin and the correlation with their uncertainties, by the delta method from the fit's covariance
+    of ``c = (en^2, in^2[, 2 rho en in])``: ``Ropt = sqrt(c0/c1)``, ``F_min - 1 = (sqrt(c0 c1) + c2/2) / (2kT0)``,
+    ``rho = c2 / (2 sqrt(c0 c1))`` (GUM, JCGM 100:2008, 5.1.2)."""
+    c0, c1 = en * en, i_n * i_n
+    has_rho = cov is not None and cov.shape[0] == 3
+    out: dict[str, Any] = {"ropt_ohm": ropt_ohm(en, i_n), "nfmin_db": 10 * math.log10(fmin(en, i_n, rho)),
+                           "undetermined": []}
+    if cov is None or not np.all(np.isfinite(cov)):
+        return out
+    ropt_rel_var = 0.25 * (cov[0, 0] / c0 ** 2 + cov[1, 1] / c1 ** 2 - 2 * cov[0, 1] / (c0 * c1))
+    out["ropt_u95_ohm"] = 2 * out["ropt_ohm"] * math.sqrt(max(ropt_rel_var, 0.0))
+    kt2 = 2 * BOLTZMANN_J_PER_K * T0_K
+    g = np.array([0.5 * math.sqrt(c1 / c0), 0.5 * math.sqrt(c0 / c1), 0.5][: cov.shape[0]]) / kt2
+    f_min = fmin(en, i_n, rho)
+    out["nfmin_u95_db"] = 10 / math.log(10) * 2 * math.sqrt(max(float(g @ cov @ g), 0.0)) / f_min
+    if has_rho:
+        s = math.sqrt(c0 * c1)
+        gr = np.array([-rho / (2 * c0), -rho / (2 * c1), 1 / (2 * s)])
+        out["correlation_std"] = math.sqrt(max(float(gr @ cov @ gr), 0.0))
+        if 2 * out["correlation_std"] > 1.0:
+            out["correlation"] = None
+            out["undetermined"].append("correlation (its k=2 interval is wider than +/-1)")
+    swept = rs_ohm[rs_ohm > 0]
+    if swept.size and not (swept.min() <= out["ropt_ohm"] <= swept.max()):
+        out["undetermined"].append(f"Ropt (about {out['ropt_ohm']:.3g} ohm lies outside the swept "
+                                   f"{swept.min():g}-{swept.max():g} ohm)")
+        out["ropt_ohm"] = out["ropt_u95_ohm"] = None
+    return out
 
 
 def fit_en_in(rs_ohm: ArrayLike, density_v2_per_hz: ArrayLike, variance: ArrayLike, *,
@@ -125,7 +165,7 @@ def fit_en_in(rs_ohm: ArrayLike, density_v2_per_hz: ArrayLike, variance: ArrayLi
     a = np.column_stack(cols)
     n = d.shape[1]
     coef = np.full((a.shape[1], n), np.nan)
-    cov_diag = np.full((a.shape[1], n), np.nan)
+    cov_all = np.full((n, a.shape[1], a.shape[1]), np.nan)
     for j in range(n):
         w = 1.0 / np.sqrt(np.maximum(var[:, j], 1e-300))
         aw = a * w[:, None]
@@ -135,7 +175,8 @@ def fit_en_in(rs_ohm: ArrayLike, density_v2_per_hz: ArrayLike, variance: ArrayLi
         except np.linalg.LinAlgError:
             continue
         coef[:, j] = sol
-        cov_diag[:, j] = np.diag(cov)
+        cov_all[j] = cov
+    cov_diag = np.diagonal(cov_all, axis1=1, axis2=2).T
     en2, in2 = coef[0], coef[1]
     en = np.sqrt(np.where(en2 > 0, en2, np.nan))
     i_n = np.sqrt(np.where(in2 > 0, in2, np.nan))
@@ -146,4 +187,4 @@ def fit_en_in(rs_ohm: ArrayLike, density_v2_per_hz: ArrayLike, variance: ArrayLi
     if np.all(np.isnan(en)):
         raise MeasurementError("no frequency gives a positive en^2: the captures are noisier at low Rs "
                                "than at high Rs, or the gains are wrong")
-    return EnInFit(np.asarray(frequency_hz, dtype=np.float64), en, i_n, rho, en_std, in_std, rs)
+    return EnInFit(np.asarray(frequency_hz, dtype=np.float64), en, i_n, rho, en_std, in_std, rs, cov_all)

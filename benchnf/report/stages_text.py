@@ -63,6 +63,14 @@ def format_budget(r: BudgetResult) -> str:
     return "\n".join(lines) + "\n"
 
 
+def _pm(u: float | None, fmt: str) -> str:
+    return "" if u is None else f" +/- {format(u, fmt)}"
+
+
+def _k2(std: float | None) -> float | None:
+    return None if std is None else 2 * std
+
+
 def format_eni(r: EniResult, *, every: int = 3) -> str:
     """Summary and a table of every `every`-th one-third-octave row (3: octaves); the JSON has all."""
     a = r.at_1khz
@@ -70,8 +78,12 @@ def format_eni(r: EniResult, *, every: int = 3) -> str:
              "  points: " + ", ".join(f"{p['rs_ohm']:g} ohm ({p['label']})" for p in r.points),
              f"  at {a['freq_hz']:g} Hz: en {_n(a['en_v_per_rthz'] * 1e9 if a['en_v_per_rthz'] else None)} nV/rtHz, "
              f"in {_n(a['in_a_per_rthz'] * 1e12 if a['in_a_per_rthz'] else None)} pA/rtHz, Ropt "
-             f"{_n(a['ropt_ohm'], '.0f')} ohm, NFmin {_n(a['nfmin_db'])} dB"
-             + (f", correlation {a['correlation']:+.2f}" if a["correlation"] is not None else ""), "",
+             f"{_n(a['ropt_ohm'], '.0f')}{_pm(a.get('ropt_u95_ohm'), '.0f')} ohm, NFmin {_n(a['nfmin_db'])}"
+             f"{_pm(a.get('nfmin_u95_db'), '.2f')} dB"
+             + (f", correlation {a['correlation']:+.2f}{_pm(_k2(a.get('correlation_std')), '.2f')}"
+                if a["correlation"] is not None else "")
+             + (" (k=2)" if a.get("ropt_u95_ohm") is not None else ""),
+             *[f"  not determined by this sweep: {u}" for u in a.get("undetermined", [])], "",
              f"  {'freq Hz':>8} {'en nV/rtHz':>11} {'+/-':>7} {'in pA/rtHz':>11} {'+/-':>7} {'Ropt ohm':>9} "
              f"{'NFmin dB':>9}"]
     for row in r.rows[::every]:
