@@ -8,6 +8,7 @@ binomial standard error of a coverage near 95 % over 400 runs is 1.1 %.
 """
 
 import math
+import re
 
 import numpy as np
 import pytest
@@ -166,3 +167,24 @@ def test_ropt_nfmin_and_correlation_carry_uncertainty_or_say_they_are_not_determ
     a2 = fit_en_in(rs2, d2, (0.05 * d2) ** 2, temperature_k=290.0, frequency_hz=[1000.0]).at(1000.0)
     assert a2["ropt_ohm"] is None and any("Ropt" in u for u in a2["undetermined"])
     assert a2["correlation"] is None  # three points this close cannot tell the correlation
+
+
+def test_welch_satterthwaite_effective_degrees_of_freedom():
+    # GUM (JCGM 100:2008) G.4.1: nu_eff = u_c^4 / sum(u_i^4 / nu_i); computed: u = 0.3 (nu 10) and 0.4 (inf)
+    # give u_c = 0.5 and nu_eff = 0.0625 / (0.0081 / 10) = 77.16.
+    from benchnf.noise.uncertainty import Budget, Contribution, welch_dof
+    b = Budget("x", 0.0, (Contribution("random", 0.3, "", 10.0), Contribution("stated", 0.4, "")))
+    assert b.combined_db == pytest.approx(0.5) and b.effective_dof == pytest.approx(77.16, abs=0.01)
+    assert welch_dof(0.1) == pytest.approx(200.0)  # relative variance 2/nu of a chi-square power estimate
+
+
+def test_explain_lists_each_part_with_its_degrees_of_freedom(capsys):
+    from pathlib import Path
+
+    from benchnf.cli import main
+    demo = Path(__file__).resolve().parent.parent / "benchnf" / "captures_demo"
+    assert main(["analyze", "--terminated", str(demo / "terminated.flac"), "--floor", str(demo / "floor.flac"),
+                 "--tone", str(demo / "tone.flac"), "--volts-per-fs", "2", "--quiet", "--explain"]) == 0
+    out = capsys.readouterr().out
+    assert "effective degrees of freedom" in out and "inf  tone level at the source" in out
+    assert re.search(r"\d+\s+Welch statistics with floor subtraction", out)

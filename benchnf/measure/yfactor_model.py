@@ -18,7 +18,7 @@ from ..dsp.weighting import Band
 from ..errors import CaptureError, ParameterError
 from ..io.sigmf_iq import IqCapture
 from ..noise.floor import band_relative_std
-from ..noise.uncertainty import Budget, propagate
+from ..noise.uncertainty import Budget, propagate, welch_dof
 from ..noise.yfactor import hot_temperature_from_enr, join_output_loss, noise_temperature_from_y, remove_input_loss
 from ..streaming import stream_spectrum
 from ..units import T0_K, fs_to_dbfs
@@ -156,13 +156,14 @@ class Model:
         return 10 * math.log10(g1)
 
 
-def budget_inputs(pw: Powers, source: Any, corrected: bool) -> dict[str, tuple[Any, float, str]]:
-    inp: dict[str, tuple[Any, float, str]] = {"hot": (pw.hot, pw.hot * pw.u_hot, "Welch scatter of the hot band power"),
-           "cold": (pw.cold, pw.cold * pw.u_cold, "Welch scatter of the cold band power")}
+def budget_inputs(pw: Powers, source: Any, corrected: bool) -> dict[str, tuple[Any, ...]]:
+    inp: dict[str, tuple[Any, ...]] = {
+        "hot": (pw.hot, pw.hot * pw.u_hot, "Welch scatter of the hot band power", welch_dof(pw.u_hot)),
+        "cold": (pw.cold, pw.cold * pw.u_cold, "Welch scatter of the cold band power", welch_dof(pw.u_cold))}
     if corrected:
         ch, cc = float(pw.cal_hot), float(pw.cal_cold)  # type: ignore[arg-type]  # a pair is given when corrected
-        inp["cal_hot"] = (ch, ch * pw.u_cal_hot, "Welch scatter, calibration pair hot")
-        inp["cal_cold"] = (cc, cc * pw.u_cal_cold, "Welch scatter, calibration pair cold")
+        inp["cal_hot"] = (ch, ch * pw.u_cal_hot, "Welch scatter, calibration pair hot", welch_dof(pw.u_cal_hot))
+        inp["cal_cold"] = (cc, cc * pw.u_cal_cold, "Welch scatter, calibration pair cold", welch_dof(pw.u_cal_cold))
     if source.enr is not None:
         inp["enr_db"] = (None, source.enr_u_db(), f"ENR standard uncertainty {source.enr_u_db():g} dB")
     else:

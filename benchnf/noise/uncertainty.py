@@ -34,7 +34,7 @@ from typing import Any
 from ..errors import ParameterError
 
 __all__ = ["propagate", "StatedUncertainty", "Contribution", "Budget", "power_rel_to_db", "amplitude_rel_to_db",
-           "dut_power_rel_std", "ein_budget", "nf_budget", "gain_budget"]
+           "dut_power_rel_std", "ein_budget", "nf_budget", "gain_budget", "welch_dof"]
 
 _DB_PER_NEPER_POWER = 10.0 / math.log(10.0)
 
@@ -101,9 +101,11 @@ class Contribution:
     name: str
     u_db: float
     note: str
+    dof: float = math.inf  # degrees of freedom: a random (Welch) part's from its scatter, stated limits infinite
 
     def to_dict(self) -> dict[str, Any]:
-        return {"name": self.name, "u_db": self.u_db, "note": self.note}
+        return {"name": self.name, "u_db": self.u_db, "note": self.note,
+                "dof": self.dof if math.isfinite(self.dof) else None}
 
 
 @dataclass(frozen=True)
@@ -125,11 +127,24 @@ class Budget:
         """Expanded uncertainty (k = 2), dB half-width."""
         return self.coverage_factor * self.combined_db
 
+    @property
+    def effective_dof(self) -> float:
+        """Welch-Satterthwaite: ``u_c^4 / sum(u_i^4 / nu_i)`` (GUM G.4.1); infinite when no part is random."""
+        denom = sum(c.u_db ** 4 / c.dof for c in self.contributions if math.isfinite(c.dof) and c.dof > 0)
+        return self.combined_db ** 4 / denom if denom > 0 else math.inf
+
     def to_dict(self) -> dict[str, Any]:
+        nu = self.effective_dof
         return {"quantity": self.quantity, "value_db": self.value_db,
                 "combined_standard_db": self.combined_db, "expanded_db": self.expanded_db,
-                "coverage_factor": self.coverage_factor,
+                "coverage_factor": self.coverage_factor, "effective_dof": nu if math.isfinite(nu) else None,
                 "contributions": [c.to_dict() for c in self.contributions]}
+
+
+def welch_dof(rel_std: float) -> float:
+    """Degrees of freedom of a power estimate with relative standard deviation `rel_std`: a chi-square
+    variable of nu degrees of freedom over nu has relative variance 2/nu, so ``nu = 2 / rel_std^2``."""
+    return 2.0 / rel_std ** 2 if rel_std > 0 and math.isfinite(rel_std) else math.inf
 
 
 def dut_power_rel_std(*, measured: float, measured_rel_std: float, floor: float | None,
@@ -163,7 +178,8 @@ def ein_budget(*, value_db: float, dut_rel_std: float, floor_corrected: bool, ga
     """Budget of an EIN (or input-referred band level) in dB."""
     contributions = [Contribution(
         "Welch statistics" + (" with floor subtraction" if floor_corrected else ""),
-        power_rel_to_db(dut_rel_std), "scatter of the band power(s), from their degrees of freedom")]
+        power_rel_to_db(dut_rel_std), "scatter of the band power(s), from their degrees of freedom",
+        welch_dof(dut_rel_std))]
     for name, u_rel, note in _gain_terms(gain_kind, gain_rel_std, stated):
         contributions.append(Contribution(name, power_rel_to_db(u_rel), note))
     if response_rel_std:
@@ -188,7 +204,8 @@ def nf_budget(*, quantity: str, noise_factor: float, excess_over_n0: float, dut_
     ratio = excess_over_n0
     contributions = [Contribution(
         "Welch statistics" + (" with floor subtraction" if floor_corrected else ""),
-        power_rel_to_db(ratio * dut_rel_std / noise_factor), "scatter of the band power(s)")]
+        power_rel_to_db(ratio * dut_rel_std / noise_factor), "scatter of the band power(s)",
+        welch_dof(dut_rel_std))]
     for name, u_rel, note in _gain_terms(gain_kind, gain_rel_std, stated):
         contributions.append(Contribution(name, power_rel_to_db(ratio * u_rel / noise_factor), note))
     if response_rel_std:
@@ -220,20 +237,21 @@ def gain_budget(*, value_db: float, gain_kind: str, gain_rel_std: float,
     return Budget("gain_db", value_db, tuple(contributions))
 
 
-def propagate(fn, inputs: dict[str, tuple[float, float, str]], *, quantity: str) -> Budget:
+def propagate(fn, inputs: dict[str, tuple[Any, ...]], *, quantity: str) -> Budget:
     """Budget of ``fn(**values)`` (a result in dB) by central differences, one input at a time.
 
-    Each input is (value, standard uncertainty, note).  The contribution of
+    Each input is (value, standard uncertainty, note[, degrees of freedom]).  The contribution of
     input i is ``|fn(x_i + u_i) - fn(x_i - u_i)| / 2`` (GUM 5.1.3, the
     sensitivity coefficient evaluated numerically); a step that leaves the
     function's domain counts as an infinite contribution.
     """
-    values = {k: v for k, (v, _u, _n) in inputs.items()}
+    values = {k: v[0] for k, v in inputs.items()}
     centre = float(fn(**values))
     contributions = []
-    for name, (value, u, note) in inputs.items():
+    for name, (value, u, note, *rest) in inputs.items():
+        dof = float(rest[0]) if rest else math.inf
         if u == 0:
-            contributions.append(Contribution(name, 0.0, note))
+            contributions.append(Contribution(name, 0.0, note, dof))
             continue
         try:
             up = float(fn(**{**values, name: value + u}))
@@ -241,5 +259,5 @@ def propagate(fn, inputs: dict[str, tuple[float, float, str]], *, quantity: str)
             c = abs(up - down) / 2.0
         except (ValueError, ZeroDivisionError, ArithmeticError):
             c = math.inf
-        contributions.append(Contribution(name, c if math.isfinite(c) else math.inf, note))
+        contributions.append(Contribution(name, c if math.isfinite(c) else math.inf, note, dof))
     return Budget(quantity, centre, tuple(contributions))

@@ -148,9 +148,5 @@ def _spot_table(r: AnalysisResult, max_spots: int | None) -> list[str]:
 def _uncertainty(r: AnalysisResult, explain: bool) -> list[str]:
     if not explain:
         return ["", "Uncertainties are expanded (k=2) per the GUM; --explain lists each budget."]
-    lines = ["", f"Uncertainty budgets (standard uncertainties in dB; {r.uncertainty['stated']})"]
-    for name, budget in r.budgets.items():
-        lines.append(f"  {name}: {budget.value_db:.3f} dB, combined {budget.combined_db:.3f} dB, "
-                     f"expanded {budget.expanded_db:.3f} dB (k=2)")
-        lines += [f"    {c.u_db:8.4f}  {c.name} ({c.note})" for c in budget.contributions]
-    return lines
+    from .budget_text import budget_lines
+    return budget_lines(r.budgets, f"Uncertainty budgets (standard uncertainties in dB; {r.uncertainty['stated']})")

@@ -60,11 +60,8 @@ def format_yfactor(r: YFactorResult, *, explain: bool = False) -> str:
                      f"{_f(row.noise_figure_expanded_db, '.2f'):>7}  {_f(row.noise_temperature_k, '.1f'):>8}  "
                      f"{_f(row.gain_db, '.2f'):>8}")
     if explain:
-        lines += ["", "Uncertainty budgets (standard uncertainties in dB)"]
-        for name, b in r.budgets.items():
-            lines.append(f"  {name}: combined {b.combined_db:.3f} dB, expanded {b.expanded_db:.3f} dB (k=2)")
-            for c in b.contributions:
-                lines.append(f"    {c.u_db:8.4f}  {c.name} ({c.note})")
+        from .budget_text import budget_lines
+        lines += budget_lines(r.budgets, "Uncertainty budgets (standard uncertainties in dB)")
     if r.notes:
         lines += ["", "Notes"] + [f"  * {n}" for n in r.notes]
     return "\n".join(lines) + "\n"
