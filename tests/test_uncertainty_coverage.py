@@ -188,3 +188,29 @@ def test_explain_lists_each_part_with_its_degrees_of_freedom(capsys):
     out = capsys.readouterr().out
     assert "effective degrees of freedom" in out and "inf  tone level at the source" in out
     assert re.search(r"\d+\s+Welch statistics with floor subtraction", out)
+
+
+def test_spot_nf_uncertainty_agrees_with_the_1khz_budget_and_the_rs_curve_has_one():
+    from pathlib import Path
+
+    from benchnf.measure.requests import GainMethodRequest, run_gain_method
+    demo = Path(__file__).resolve().parent.parent / "benchnf" / "captures_demo"
+    r = run_gain_method(GainMethodRequest(terminated=(demo / "terminated.flac",), floor=demo / "floor.flac",
+                                          tone=demo / "tone.flac", volts_per_fs=2.0))
+    spot = next(s for s in r.spot if s.freq_hz == 1000.0)
+    welch = r.budgets["nf_at_1khz_db"].contributions[0]
+    assert spot.noise_figure_expanded_db == pytest.approx(2 * welch.u_db, rel=1e-3)
+    u95 = [_eni_curve_u95()]
+    assert all(np.all(np.isfinite(u)) and np.all(np.asarray(u) > 0) for u in u95)
+
+
+def _eni_curve_u95():
+    from pathlib import Path
+
+    from benchnf.measure.stage_requests import CaptureOptions, SweepRequest, run_en_in
+    demo = Path(__file__).resolve().parent.parent / "benchnf" / "captures_demo"
+    eni = run_en_in(SweepRequest(captures=((demo / "shorted.flac", 0.0, None), (demo / "terminated.flac", 20.0, None),
+                                           (demo / "rs_100.flac", 100.0, None), (demo / "rs_1000.flac", 1000.0, None)),
+                                 tone=demo / "tone.flac", floor=demo / "floor.flac",
+                                 options=CaptureOptions(volts_per_fs=2.0)))
+    return eni.nf_vs_rs["curves"]["1000"]["noise_figure_u95_db"]

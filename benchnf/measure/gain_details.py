@@ -93,6 +93,9 @@ def spot_values(f, band, fs, p_term, p_floor, p_short, term_clean, floor_clean, 
             voltage_noise_v_per_rthz=math.sqrt(en_spot[i]) if en_ok and en_spot is not None else None,
             # A density's amplitude has half the relative uncertainty of its power: U = 2 * 8.686 * rel / 2 dB.
             input_density_expanded_db=float(8.686 * rel) if ok and math.isfinite(rel) else None,
+            # dF = e2 rel / (4 k T0 Rs): U = 10/ln10 * 2 dF / F dB.
+            noise_figure_expanded_db=(float(8.686 * rel * e2_spot[i] / (4 * BOLTZMANN_J_PER_K * T0_K * rs_ohm)
+                                            / nf_spot[i]) if ok and nf_spot[i] > 0 and math.isfinite(rel) else None),
         ))
     if low_margin:
         notes.append("less than 3 dB above the analyzer floor at " +

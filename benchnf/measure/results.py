@@ -29,6 +29,7 @@ class SpotValue:
     floor_margin_db: float | None
     voltage_noise_v_per_rthz: float | None
     input_density_expanded_db: float | None = None  # k=2, from the Welch statistics of this band
+    noise_figure_expanded_db: float | None = None  # k=2, the same statistics carried to the NF
 
     def to_dict(self) -> dict[str, Any]:
         return dict(self.__dict__)

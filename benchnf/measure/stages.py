@@ -31,7 +31,7 @@ from ..errors import CaptureError, ParameterError
 from ..noise.floor import correlated_sum_variance
 from ..noise.cascade import Chain, predict
 from ..noise.gain_method import third_octave_centres_hz, third_octave_weights
-from ..noise.twoport import EnInFit, fit_en_in, noise_factor_vs_rs
+from ..noise.twoport import EnInFit, fit_en_in, noise_factor_vs_rs, noise_figure_u95_vs_rs
 from ..units import BOLTZMANN_J_PER_K, T0_K
 
 __all__ = ["InputReferred", "input_referred", "TapResult", "BudgetResult", "measured_budget",
@@ -279,10 +279,13 @@ def extract_en_in(*, sweep: Sequence[tuple[Capture | Psd, float, float, GainSetu
     for fc in curve_hz:
         v = fit.at(fc)
         if v["en_v_per_rthz"] and v["in_a_per_rthz"] and math.isfinite(v["en_v_per_rthz"]):
-            nf = 10 * np.log10(noise_factor_vs_rs(grid, en_v_per_rthz=v["en_v_per_rthz"],
-                                                   in_a_per_rthz=v["in_a_per_rthz"],
-                                                   correlation=v["correlation"] or 0.0))
-            curves[f"{v['freq_hz']:g}"] = {"rs_ohm": grid.tolist(), "noise_figure_db": nf.tolist()}
+            factor = noise_factor_vs_rs(grid, en_v_per_rthz=v["en_v_per_rthz"], in_a_per_rthz=v["in_a_per_rthz"],
+                                        correlation=v["correlation"] or 0.0)
+            k = int(np.argmin(np.abs(fit.frequency_hz - fc)))
+            u95 = (noise_figure_u95_vs_rs(grid, noise_factor=factor, cov=fit.cov[k])
+                   if fit.cov is not None and np.all(np.isfinite(fit.cov[k])) else None)
+            curves[f"{v['freq_hz']:g}"] = {"rs_ohm": grid.tolist(), "noise_figure_db": (10 * np.log10(factor)).tolist(),
+                                           "noise_figure_u95_db": None if u95 is None else u95.tolist()}
     notes = [*assumptions, *([] if floor is not None else [NO_FLOOR]),
              "best SNR always comes at the lowest source impedance, not at Ropt: Ropt only minimises the "
              "amplifier's noise relative to the source's own"]

@@ -36,7 +36,7 @@ from numpy.typing import ArrayLike, NDArray
 from ..errors import MeasurementError, ParameterError
 from ..units import BOLTZMANN_J_PER_K, T0_K
 
-__all__ = ["EnInFit", "fit_en_in", "noise_factor_vs_rs", "ropt_ohm", "fmin"]
+__all__ = ["noise_figure_u95_vs_rs", "EnInFit", "fit_en_in", "noise_factor_vs_rs", "ropt_ohm", "fmin"]
 
 
 def noise_factor_vs_rs(rs_ohm: ArrayLike, *, en_v_per_rthz: float, in_a_per_rthz: float,
@@ -56,6 +56,18 @@ def noise_factor_vs_rs(rs_ohm: ArrayLike, *, en_v_per_rthz: float, in_a_per_rthz
 def ropt_ohm(en_v_per_rthz: float, in_a_per_rthz: float) -> float:
     """Source resistance of minimum noise figure, en / in."""
     return en_v_per_rthz / in_a_per_rthz if in_a_per_rthz > 0 else math.inf
+
+
+def noise_figure_u95_vs_rs(rs_ohm: ArrayLike, *, noise_factor: ArrayLike,
+                           cov: NDArray[np.float64]) -> NDArray[np.float64]:
+    """Expanded (k=2) uncertainty in dB of the model's NF(Rs), from the fit's covariance of
+    ``(en^2, in^2[, 2 rho en in])``: ``F - 1 = (c0 + c1 Rs^2 + c2 Rs) / (4 k T0 Rs)`` is linear in c, so
+    ``u(F)^2 = g C g^T`` with ``g = (1, Rs^2[, Rs]) / (4 k T0 Rs)`` (GUM 5.1.2)."""
+    rs = np.asarray(rs_ohm, dtype=np.float64)
+    cols = [np.ones_like(rs), rs ** 2, rs][: cov.shape[0]]
+    g = np.stack(cols, axis=-1) / (4 * BOLTZMANN_J_PER_K * T0_K * rs)[:, None]
+    u_f = np.sqrt(np.maximum(np.einsum("ni,ij,nj->n", g, cov, g), 0.0))
+    return 10 / math.log(10) * 2 * u_f / np.asarray(noise_factor, dtype=np.float64)
 
 
 def fmin(en_v_per_rthz: float, in_a_per_rthz: float, correlation: float = 0.0) -> float:

@@ -250,7 +250,10 @@ def plot_nf_vs_rs(eni, *, ax: "Axes | None" = None) -> "Axes":
         _, ax = _figure()
     grid = np.array(eni.nf_vs_rs["rs_ohm_grid"])
     for name, curve in eni.nf_vs_rs["curves"].items():
-        ax.semilogx(grid, curve["noise_figure_db"], label=f"model at {name} Hz")
+        (line,) = ax.semilogx(grid, curve["noise_figure_db"], label=f"model at {name} Hz")
+        if curve.get("noise_figure_u95_db") is not None:
+            nf, u = np.array(curve["noise_figure_db"]), np.array(curve["noise_figure_u95_db"])
+            ax.fill_between(grid, nf - u, nf + u, color=line.get_color(), alpha=0.15, lw=0)
     from ..units import BOLTZMANN_J_PER_K, T0_K
     a = eni.at_1khz
     for p in eni.points:

@@ -136,11 +136,13 @@ def _spot_table(r: AnalysisResult, max_spots: int | None) -> list[str]:
     spots = list(r.spot)
     if max_spots is not None and len(spots) > max_spots:
         spots = spots[::math.ceil(len(spots) / max_spots)]
-    lines = ["", "Spot values (one-third-octave band means)",
-             f"  {'freq Hz':>8}  {'input nV/rtHz':>13}  {'NF dB':>6}  {'margin dB':>9}  {'en nV/rtHz':>10}"]
+    lines = ["", "Spot values (one-third-octave band means; +/- expanded, k=2, from the Welch statistics)",
+             f"  {'freq Hz':>8}  {'input nV/rtHz':>13}  {'+/- dB':>6}  {'NF dB':>6}  {'+/- dB':>6}  {'margin dB':>9}  "
+             f"{'en nV/rtHz':>10}"]
     for s in spots:
         lines.append(f"  {s.freq_hz:>8g}  {density_text(s.input_density_v_per_rthz):>13}  "
-                     f"{_db(s.noise_figure_db):>6}  {_db(s.floor_margin_db, 1):>9}  "
+                     f"{_db(s.input_density_expanded_db):>6}  {_db(s.noise_figure_db):>6}  "
+                     f"{_db(s.noise_figure_expanded_db):>6}  {_db(s.floor_margin_db, 1):>9}  "
                      f"{density_text(s.voltage_noise_v_per_rthz):>10}")
     return lines
 
