@@ -34,6 +34,7 @@ def test_hann_bin_correlation_is_computed_from_the_window():
 
 
 @pytest.mark.parametrize("window", ["hann", "blackmanharris", "flattop"])
+@pytest.mark.coverage
 def test_band_scatter_formula_matches_a_monte_carlo(window):
     # White noise, 50 % overlap: the stated relative std of a 60-bin band power against its actual spread.
     rng = np.random.default_rng(11)
@@ -76,6 +77,7 @@ def _coverage_and_ratio(rows):
 
 
 @pytest.mark.parametrize(("floor", "label"), [(20e-9, "22 dB above the floor"), (220e-9, "4 dB above the floor")])
+@pytest.mark.coverage
 def test_gain_method_intervals_cover_95_percent(floor, label):
     runs = _runs(400, floor_v_per_rthz=floor)
     for i, name in enumerate(("band NF", "NF at 1 kHz", "EIN")):
@@ -107,6 +109,7 @@ def _yfactor_runs(n, *, te1_k=100.0, g1=10.0, te2_k=600.0, th_k=373.15, tc_k=273
     return np.array(out)
 
 
+@pytest.mark.coverage
 def test_yfactor_with_a_noisy_second_stage_covers_95_percent():
     covered, ratio = _coverage_and_ratio(_yfactor_runs(400))
     print(f"Y-factor NF, noisy second stage: coverage {100 * covered:.1f} %, spread / stated u = {ratio:.3f}")
@@ -141,6 +144,7 @@ def _eni_runs(n, *, rs_list=(0.0, 1000.0, 20_000.0), en=2e-9, i_n=1e-12, fs=16_0
     return np.array(out, dtype=np.float64)
 
 
+@pytest.mark.coverage
 def test_en_and_in_from_a_sweep_cover_95_percent():
     runs = _eni_runs(300)
     for i, name in enumerate(("en", "in")):
@@ -214,3 +218,21 @@ def _eni_curve_u95():
                                  tone=demo / "tone.flac", floor=demo / "floor.flac",
                                  options=CaptureOptions(volts_per_fs=2.0)))
     return eni.nf_vs_rs["curves"]["1000"]["noise_figure_u95_db"]
+
+
+def test_noise_near_one_step_of_a_16_bit_capture_is_refused_and_24_bit_is_not(tmp_path):
+    # Rounding to steps q adds q^2/12 only while the noise spans several steps (Widrow and Kollar,
+    # Quantization Noise, 2008, ch. 4-5): below about one step the floor subtraction would under-correct.
+    import soundfile as sf
+
+    from benchnf.cli import main
+    rng = np.random.default_rng(4)
+    for subtype in ("PCM_16", "PCM_24"):
+        sf.write(tmp_path / f"floor_{subtype}.wav", rng.normal(0, 4e-6, 96_000), 48_000, subtype=subtype)
+        sf.write(tmp_path / f"term_{subtype}.wav", rng.normal(0, 3e-5, 96_000), 48_000, subtype=subtype)
+    args = ["--gain-db", "40", "--rs", "200", "--volts-per-fs", "2", "--quiet"]
+    rc16 = main(["analyze", "--terminated", str(tmp_path / "term_PCM_16.wav"), "--floor",
+                 str(tmp_path / "floor_PCM_16.wav"), *args])
+    rc24 = main(["analyze", "--terminated", str(tmp_path / "term_PCM_24.wav"), "--floor",
+                 str(tmp_path / "floor_PCM_24.wav"), *args])
+    assert (rc16, rc24) == (2, 0)
