@@ -77,11 +77,16 @@ def test_every_option_a_message_names_exists():
     import re
 
     from benchnf.cli import build_parser
-    parser = build_parser()
-    known = set(parser._option_string_actions)
-    for action in parser._subparsers._group_actions:  # type: ignore[union-attr]
-        for sub in action.choices.values():
-            known |= set(sub._option_string_actions)
+    import argparse
+
+    def options(parser) -> set:
+        found = set(parser._option_string_actions)
+        for action in parser._actions:
+            if isinstance(action, argparse._SubParsersAction):
+                for sub in action.choices.values():
+                    found |= options(sub)
+        return found
+    known = options(build_parser())
     named = set()
     for path in _modules():
         for node in ast.walk(ast.parse(path.read_text())):

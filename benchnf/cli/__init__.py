@@ -28,6 +28,7 @@ from . import (
     measure,
     profile,
     record,
+    records,
     recover,
     yfactor,
 )
@@ -37,7 +38,7 @@ from .status import ExitStatus
 __all__ = ["main", "build_parser", "ExitStatus"]
 
 COMMANDS = (analyze, calibrate, yfactor, cascade, budget, eni, profile, check, batch, devices, record, excite,
-            measure, live, calibrate_output, recover, demo)
+            measure, live, calibrate_output, recover, records, demo)
 
 
 class _Parser(argparse.ArgumentParser):

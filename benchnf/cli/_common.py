@@ -130,3 +130,17 @@ def device_options(q: argparse.ArgumentParser) -> None:
     q.add_argument("--device", metavar="NAME", help="device name or part of it (default: the system's)")
     q.add_argument("--host-api", metavar="API", help="host API, when names repeat (ALSA, WASAPI, Core Audio...)")
     q.add_argument("--rate", type=positive_hz, default=48_000.0, metavar="HZ", help="sample rate (48000)")
+
+
+def records_options(p: argparse.ArgumentParser) -> None:
+    """Where checks are recorded, and by whom (scripts rely on these names)."""
+    p.add_argument("--records", metavar="URL",
+                   help="records database: a file path or sqlite:///FILE, or postgresql://USER@HOST/DB "
+                        "(default: the BENCHNF_RECORDS environment variable; none: nothing is recorded)")
+    p.add_argument("--station", metavar="NAME", help="this test station (default BENCHNF_STATION, else the host name)")
+    p.add_argument("--operator", metavar="NAME", help="who checks (default BENCHNF_OPERATOR)")
+
+
+def records_url_of(args: argparse.Namespace) -> str | None:
+    import os
+    return getattr(args, "records", None) or os.environ.get("BENCHNF_RECORDS") or None

@@ -8,7 +8,7 @@ from pathlib import Path
 from typing import Any
 
 from ..write import Writer
-from ._common import calibration_options, common_options, progress, verdict_table
+from ._common import calibration_options, common_options, progress, records_options, records_url_of, verdict_table
 from ._types import non_negative_hz, positive_ohm, positive_volts, resistor_kelvin, whole_count
 from .status import ExitStatus
 
@@ -36,6 +36,7 @@ def add_parser(sub: Any) -> None:
     p.add_argument("--history", type=Path, metavar="FILE", help="history CSV to append to (default DIR/history.csv)")
     p.add_argument("--workers", type=whole_count, metavar="N", help="parallel processes (default: the cores)")
     calibration_options(p)
+    records_options(p)
     common_options(p)
     p.set_defaults(run=run)
 
@@ -55,6 +56,11 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     units = find_units(args.units)
     if args.history:
         writer.appendable(args.history, HISTORY_HEADER)  # refused before the output folder is made
+    url = records_url_of(args)
+    store = None
+    if url:
+        from ..records import connect
+        store = connect(url)  # refused now, before any unit is analysed
     out = writer.folder(args.output)
     history = writer.appendable(args.history or out / "history.csv", HISTORY_HEADER)
     for name in ("summary.csv", "junit.xml", *(f"{u.name}.{x}" for u in units for x in ("html", "png"))):
@@ -78,6 +84,12 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     writer.text(out / "summary.csv", summary_csv(outcomes))
     writer.text(out / "junit.xml", junit_xml(outcomes, profile=profile.name))
     writer.append_lines(history, HISTORY_HEADER, history_lines(outcomes, profile=profile.name))
+    if store is not None:
+        from ..records.entry import check_record
+        for o in outcomes:
+            store.add(check_record(o.check, serial=o.serial, verdict=o.verdict, results=o.results, profile=profile,
+                                   station=args.station, operator=args.operator))
+        print(f"{len(outcomes)} units recorded in {url}")
     counts = {k: sum(o.verdict == k for o in outcomes) for k in ("PASS", "MARGINAL", "FAIL", "ERROR")}
     print(f"benchnf - {len(outcomes)} units against profile {profile.name!r}\n")
     print(verdict_table([("unit", "verdict", "limits not passed / error")] + rows))

@@ -7,7 +7,7 @@ from pathlib import Path
 from typing import Any
 
 from ..write import Writer
-from ._common import common_options
+from ._common import common_options, records_options, records_url_of
 from .status import ExitStatus
 
 
@@ -20,6 +20,7 @@ def add_parser(sub: Any) -> None:
     p.add_argument("--unit", metavar="SERIAL", help="the unit's name (default: the file name)")
     p.add_argument("--report", type=Path, metavar="DIR", help="write an HTML report and a PNG summary")
     p.add_argument("--json", type=Path, metavar="OUT.json")
+    records_options(p)
     common_options(p)
     p.set_defaults(run=run)
 
@@ -31,6 +32,11 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     profile = load_profile(args.profile)
     results = read_results(args.results)
     unit = args.unit or Path(args.results).stem
+    url = records_url_of(args)
+    store = None
+    if url:
+        from ..records import connect
+        store = connect(url)  # refused now, before the check, if it cannot be opened
     res = check_results(results, profile, unit=unit)
     print(f"benchnf - {unit} against profile {profile.name!r}: {res.verdict}\n")
     print(f"  {'limit':44s} {'measured':>11} {'limit':>16} {'margin':>10} {'U k=2':>7}  verdict")
@@ -52,5 +58,10 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
                                            results=results, profile=profile))
         writer.bytes(writer.child(folder, f"{unit}.png"), unit_png(results, res.to_dict(), profile))
         print(f"report written to {page}")
+    if store is not None:
+        from ..records.entry import check_record
+        store.add(check_record(res.to_dict(), serial=unit, verdict=res.verdict, results=results, profile=profile,
+                               station=args.station, operator=args.operator))
+        print(f"recorded in {url}")
     return ExitStatus.CHECK_FAILED if res.failed else ExitStatus.OK
 

@@ -1,0 +1,127 @@
+"""benchnf records: what the records store holds, per serial, station, time and verdict; a unit's history;
+export; process capability."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+from typing import Any
+
+from ..errors import BenchError
+from ..write import Writer
+from ._common import records_url_of
+from ._types import whole_count
+from .status import ExitStatus
+
+
+def add_parser(sub: Any) -> None:
+    p = sub.add_parser("records", help="list, show, export the records of checked units; process capability",
+                       description="Reads the records database that check and batch write (--records URL, or "
+                                   "BENCHNF_RECORDS).")
+    p.add_argument("--records", metavar="URL", help="records database (default: BENCHNF_RECORDS)")
+    p.add_argument("--traceback", action="store_true", help="show the full traceback on errors")
+    acts = p.add_subparsers(dest="action", metavar="ACTION", required=True)
+    a = acts.add_parser("list", help="one line per check, filtered")
+    a.add_argument("--serial", metavar="SERIAL")
+    a.add_argument("--station", metavar="NAME")
+    a.add_argument("--verdict", choices=["PASS", "MARGINAL", "FAIL", "ERROR"])
+    a.add_argument("--since", metavar="ISO-TIME", help="e.g. 2026-12-01 or 2026-12-01T08:00")
+    a.add_argument("--until", metavar="ISO-TIME")
+    a = acts.add_parser("show", help="one unit's history: every check and what changed between them")
+    a.add_argument("serial", metavar="SERIAL")
+    a = acts.add_parser("export", help="one row per check, one column per limit (CSV)")
+    a.add_argument("-o", "--output", type=Path, required=True, metavar="FILE.csv")
+    a.add_argument("--overwrite", action="store_true", help="replace FILE.csv if it exists")
+    a = acts.add_parser("capability", help="per limit: n, mean, s, Cp, Cpk, Pp, Ppk, lower 95 %% bound of Cpk")
+    a.add_argument("--min-units", type=whole_count, default=10, metavar="N",
+                   help="fewest units for a capability figure (default 10)")
+    p.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace, writer: Writer) -> int:
+    from ..records import connect
+    url = records_url_of(args)
+    if not url:
+        raise BenchError("give the records database with --records URL (or set BENCHNF_RECORDS)")
+    store = connect(url, create=False)
+    action = {"list": _list, "show": _show, "export": _export, "capability": _capability}[args.action]
+    return action(store, args, writer)
+
+
+def _fmt(v: Any) -> str:
+    return "-" if v is None else (f"{v:.4g}" if isinstance(v, float) else str(v))
+
+
+def _list(store: Any, args: argparse.Namespace, writer: Writer) -> int:
+    rows = store.checks(serial=args.serial, station=args.station, verdict=args.verdict, since=args.since,
+                        until=args.until)
+    print(f"  {'checked at (UTC)':25s} {'serial':16s} {'verdict':9s} {'station':16s} profile")
+    for r in rows:
+        print(f"  {r['checked_at']:25s} {r['serial'][:16]:16s} {r['verdict']:9s} {r['station'][:16]:16s} "
+              f"{r['profile_name']}")
+    print(f"\n  {len(rows)} check(s)")
+    return ExitStatus.OK
+
+
+def _show(store: Any, args: argparse.Namespace, writer: Writer) -> int:
+    rows = store.checks(serial=args.serial)
+    if not rows:
+        raise BenchError(f"no checks of {args.serial!r} in the records: see 'benchnf records list'")
+    limits = store.limits_of([r["id"] for r in rows])
+    before: dict[str, Any] = {}
+    for r in rows:
+        print(f"{r['checked_at']}  {r['verdict']}  at {r['station']}"
+              + (f" by {r['operator']}" if r["operator"] else "") + f"  (profile {r['profile_name']})")
+        for lim in limits[r["id"]]:
+            prev = before.get(lim["name"])
+            change = ("" if prev is None or lim["measured"] is None or prev is None
+                      else f"  ({lim['measured'] - prev:+.3g} since the check before)")
+            print(f"    {lim['name'][:44]:44s} {_fmt(lim['measured']):>11} {lim['unit']:4s} {lim['verdict']}{change}")
+            before[lim["name"]] = lim["measured"]
+    return ExitStatus.OK
+
+
+def _export(store: Any, args: argparse.Namespace, writer: Writer) -> int:
+    import csv
+    import io
+
+    from ..records.store import iter_export_rows
+    rows = list(iter_export_rows(store))
+    columns: list[str] = []
+    for r in rows:
+        columns += [k for k in r if k not in columns]
+    buf = io.StringIO()
+    w = csv.DictWriter(buf, fieldnames=columns)
+    w.writeheader()
+    for r in rows:
+        w.writerow({k: (format(v, ".6g") if isinstance(v, float) else v) for k, v in r.items()})
+    writer.text(args.output, buf.getvalue())
+    print(f"{len(rows)} check(s) written to {args.output}")
+    return ExitStatus.OK
+
+
+def _capability(store: Any, args: argparse.Namespace, writer: Writer) -> int:
+    from ..errors import ParameterError
+    from ..records import capability
+    print(f"  {'limit':40s} {'n':>5} {'mean':>10} {'s':>9} {'Cp':>6} {'Cpk':>6} {'Pp':>6} {'Ppk':>6} {'Cpk>=':>6}")
+    shown = 0
+    for name in store.limit_names():
+        rows = store.measured_values(name)
+        bounded = [r for r in rows if r["lower"] is not None or r["upper"] is not None]
+        if not bounded:
+            continue
+        hashes = {r["profile_sha256"] for r in bounded}
+        lsl, usl = bounded[-1]["lower"], bounded[-1]["upper"]
+        try:
+            c = capability([r["measured"] for r in bounded], lsl=lsl, usl=usl, min_units=args.min_units)
+        except ParameterError as err:
+            print(f"  {name[:40]:40s} {len(bounded):5d}  {err}")
+            continue
+        note = "  (profile changed over these records)" if len(hashes) > 1 else ""
+        print(f"  {name[:40]:40s} {c.n:5d} {c.mean:10.4g} {c.sigma_overall:9.3g} {_fmt(c.cp):>6} {c.cpk:6.2f} "
+              f"{_fmt(c.pp):>6} {c.ppk:6.2f} {c.cpk_lower95:6.2f}{note}")
+        shown += 1
+    if not shown:
+        raise BenchError("no limit with numeric bounds has records: check units against a profile first")
+    print("\n  Cp, Cpk from the moving range (within); Pp, Ppk from the overall s; Cpk>= is its lower 95 % bound")
+    return ExitStatus.OK

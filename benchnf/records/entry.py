@@ -1,0 +1,52 @@
+"""A check's outcome as a record: verdict, every limit with its bounds, the unit's full results, and who,
+where and with which profile (by the hash of its file) it was checked."""
+
+from __future__ import annotations
+
+import hashlib
+import os
+import re
+import socket
+from pathlib import Path
+from typing import Any
+
+from .store import CheckRecord, LimitRow
+
+__all__ = ["check_record", "station_name", "file_sha256"]
+
+
+def file_sha256(path: str | Path) -> str | None:
+    try:
+        return hashlib.sha256(Path(path).read_bytes()).hexdigest()
+    except OSError:
+        return None
+
+
+def station_name(stated: str | None = None) -> str:
+    """The station: as stated, else BENCHNF_STATION, else the host name."""
+    return stated or os.environ.get("BENCHNF_STATION") or socket.gethostname()
+
+
+def _stable(name: str) -> str:
+    """A limit's name without the frequency a mask was worst at (that goes with the limit text)."""
+    return re.sub(r" \(worst at [^)]*\)$", "", name)
+
+
+def _where(name: str, limit_text: str) -> str:
+    m = re.search(r"\(worst at ([^)]*)\)$", name)
+    return f"{limit_text} (worst at {m.group(1)})" if m else limit_text
+
+
+def check_record(check: dict[str, Any] | None, *, serial: str, verdict: str, results: dict[str, Any] | None,
+                 profile: Any, station: str | None = None, operator: str | None = None) -> CheckRecord:
+    """The record of one unit's check (`check` is CheckResult.to_dict(), None for a unit that failed to analyse)."""
+    from .. import __version__
+    bounds = {lim.key: (lim.min, lim.max) for lim in profile.limits}
+    rows = tuple(LimitRow(name=_stable(v["name"]), measured=v["measured"], limit_text=_where(v["name"], v["limit"]),
+                          lower=bounds.get(v["name"], (None, None))[0], upper=bounds.get(v["name"], (None, None))[1],
+                          margin=v["margin"], unit=v["unit"], uncertainty=v["uncertainty"], verdict=v["verdict"])
+                 for v in (check or {}).get("limits", []))
+    return CheckRecord(serial=serial, verdict=verdict, profile_name=profile.name,
+                       profile_sha256=file_sha256(profile.source) if profile.source else None,
+                       station=station_name(station), operator=operator or os.environ.get("BENCHNF_OPERATOR"),
+                       software=f"benchnf {__version__}", limits=rows, results=results, check=check)

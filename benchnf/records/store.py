@@ -1,0 +1,262 @@
+"""The records store: every checked unit's verdict, limits and full results in a SQL database.
+
+An embedded SQLite file by default (WAL, so several processes on one station write at once), or a shared
+PostgreSQL server named by a URL, through SQLAlchemy Core. The schema carries a version number
+(``benchnf_info``); a database of a newer version is refused, an older one upgraded in place.
+
+Each record has a unique id made when it is created, so a retried write never duplicates it; a record and
+its limits are written in one transaction, so a writer killed midway leaves no half record.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import json
+import uuid
+from collections.abc import Iterator, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from ..errors import BenchError
+
+__all__ = ["SCHEMA_VERSION", "RecordsError", "CheckRecord", "LimitRow", "Store", "connect", "records_url"]
+
+SCHEMA_VERSION = 1
+
+
+class RecordsError(BenchError):
+    """The records database cannot be opened, read or written as asked."""
+
+
+@dataclass(frozen=True)
+class LimitRow:
+    name: str
+    measured: float | None
+    limit_text: str
+    lower: float | None
+    upper: float | None
+    margin: float | None
+    unit: str
+    uncertainty: float | None
+    verdict: str
+
+
+@dataclass(frozen=True)
+class CheckRecord:
+    """One unit checked against a profile, as kept."""
+
+    serial: str
+    verdict: str
+    profile_name: str
+    profile_sha256: str | None
+    station: str
+    operator: str | None
+    software: str
+    limits: tuple[LimitRow, ...]
+    results: dict[str, Any] | None = None
+    check: dict[str, Any] | None = None
+    checked_at: str = field(default_factory=lambda: _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"))
+    record_uid: str = field(default_factory=lambda: str(uuid.uuid4()))
+
+
+def records_url(text: str | Path) -> str:
+    """A SQLAlchemy URL from what a user gives: a file path, ``sqlite:///...`` or ``postgresql://...``."""
+    s = str(text)
+    if s.startswith(("postgresql://", "postgres://")):
+        return "postgresql+psycopg://" + s.split("://", 1)[1]
+    if "://" in s:
+        return s
+    return "sqlite:///" + str(Path(s).expanduser().resolve())
+
+
+def _tables(sa: Any) -> tuple[Any, ...]:
+    md = sa.MetaData()
+    info = sa.Table("benchnf_info", md, sa.Column("key", sa.String(64), primary_key=True),
+                    sa.Column("value", sa.String(256), nullable=False))
+    checks = sa.Table(
+        "checks", md, sa.Column("id", sa.Integer, primary_key=True, autoincrement=True),
+        sa.Column("record_uid", sa.String(36), nullable=False, unique=True),
+        sa.Column("serial", sa.String(200), nullable=False, index=True),
+        sa.Column("verdict", sa.String(16), nullable=False, index=True),
+        sa.Column("checked_at", sa.String(40), nullable=False, index=True),
+        sa.Column("station", sa.String(200), nullable=False, index=True), sa.Column("operator", sa.String(200)),
+        sa.Column("profile_name", sa.String(400), nullable=False), sa.Column("profile_sha256", sa.String(64)),
+        sa.Column("software", sa.String(64), nullable=False), sa.Column("results_json", sa.Text),
+        sa.Column("check_json", sa.Text))
+    limits = sa.Table(
+        "limits", md, sa.Column("id", sa.Integer, primary_key=True, autoincrement=True),
+        sa.Column("check_id", sa.Integer, sa.ForeignKey("checks.id", ondelete="CASCADE"), nullable=False, index=True),
+        sa.Column("name", sa.String(400), nullable=False, index=True), sa.Column("measured", sa.Float),
+        sa.Column("limit_text", sa.String(200)), sa.Column("lower", sa.Float), sa.Column("upper", sa.Float),
+        sa.Column("margin", sa.Float), sa.Column("unit", sa.String(16)), sa.Column("uncertainty", sa.Float),
+        sa.Column("verdict", sa.String(16), nullable=False))
+    return md, info, checks, limits
+
+
+class Store:
+    """An open records database. Use :func:`connect`."""
+
+    def __init__(self, engine: Any, url: str) -> None:
+        import sqlalchemy as sa
+        self._sa, self.engine, self.url = sa, engine, url
+        self._md, self._info, self._checks, self._limits = _tables(sa)
+
+    # -- writing ----------------------------------------------------------------------------------
+    def add(self, rec: CheckRecord) -> bool:
+        """Keep `rec` (and its limits) in one transaction; False if a record of that id is there already."""
+        sa = self._sa
+        try:
+            with self.engine.begin() as conn:
+                if conn.execute(sa.select(self._checks.c.id).where(
+                        self._checks.c.record_uid == rec.record_uid)).first() is not None:
+                    return False
+                check_id = conn.execute(self._checks.insert().values(
+                    record_uid=rec.record_uid, serial=rec.serial, verdict=rec.verdict, checked_at=rec.checked_at,
+                    station=rec.station, operator=rec.operator, profile_name=rec.profile_name,
+                    profile_sha256=rec.profile_sha256, software=rec.software,
+                    results_json=json.dumps(rec.results) if rec.results is not None else None,
+                    check_json=json.dumps(rec.check) if rec.check is not None else None)).inserted_primary_key[0]
+                if rec.limits:
+                    conn.execute(self._limits.insert(), [dict(check_id=check_id, **row.__dict__) for row in rec.limits])
+        except sa.exc.IntegrityError:
+            return False  # the same record written by a retry that raced this one
+        except sa.exc.SQLAlchemyError as err:
+            raise RecordsError(f"cannot write to the records database {_shown(self.url)}: {_first_line(err)}") from err
+        return True
+
+    # -- reading ----------------------------------------------------------------------------------
+    def checks(self, *, serial: str | None = None, station: str | None = None, verdict: str | None = None,
+               since: str | None = None, until: str | None = None) -> list[dict[str, Any]]:
+        """Records (without their JSON), oldest first, filtered."""
+        c = self._checks.c
+        q = self._sa.select(c.id, c.record_uid, c.serial, c.verdict, c.checked_at, c.station, c.operator,
+                            c.profile_name, c.profile_sha256, c.software).order_by(c.checked_at, c.id)
+        for col, value in ((c.serial, serial), (c.station, station), (c.verdict, verdict)):
+            if value is not None:
+                q = q.where(col == value)
+        if since is not None:
+            q = q.where(c.checked_at >= since)
+        if until is not None:
+            q = q.where(c.checked_at <= until)
+        return self._rows(q)
+
+    def limits_of(self, check_ids: Sequence[int]) -> dict[int, list[dict[str, Any]]]:
+        """Limit rows per record id."""
+        out: dict[int, list[dict[str, Any]]] = {i: [] for i in check_ids}
+        if not check_ids:
+            return out
+        q = self._sa.select(self._limits).where(self._limits.c.check_id.in_(list(check_ids))).order_by(
+            self._limits.c.id)
+        for row in self._rows(q):
+            out[row["check_id"]].append(row)
+        return out
+
+    def measured_values(self, name: str, *, latest_per_serial: bool = True) -> list[dict[str, Any]]:
+        """A limit's measured values with their bounds, in time order (by default each serial's latest check)."""
+        lim, chk = self._limits.c, self._checks.c
+        q = (self._sa.select(chk.serial, chk.checked_at, chk.profile_sha256, lim.measured, lim.lower, lim.upper)
+             .join_from(self._limits, self._checks, lim.check_id == chk.id)
+             .where(lim.name == name, lim.measured.is_not(None)).order_by(chk.checked_at, chk.id))
+        rows = self._rows(q)
+        if latest_per_serial:
+            last: dict[str, dict[str, Any]] = {}
+            for r in rows:
+                last[r["serial"]] = r
+            rows = sorted(last.values(), key=lambda r: r["checked_at"])
+        return rows
+
+    def limit_names(self) -> list[str]:
+        q = self._sa.select(self._limits.c.name).distinct().order_by(self._limits.c.name)
+        return [r["name"] for r in self._rows(q)]
+
+    def _rows(self, query: Any) -> list[dict[str, Any]]:
+        try:
+            with self.engine.connect() as conn:
+                return [dict(r._mapping) for r in conn.execute(query)]
+        except self._sa.exc.SQLAlchemyError as err:
+            raise RecordsError(f"cannot read the records database {_shown(self.url)}: {_first_line(err)}") from err
+
+    def close(self) -> None:
+        self.engine.dispose()
+
+
+def _first_line(err: BaseException) -> str:
+    text = str(getattr(err, "orig", None) or err)
+    return " ".join(text.strip().splitlines()[:1]) or type(err).__name__
+
+
+def _shown(url: str) -> str:
+    """The URL without a password."""
+    if "@" in url and "://" in url:
+        scheme, rest = url.split("://", 1)
+        creds, host = rest.rsplit("@", 1)
+        return f"{scheme}://{creds.split(':', 1)[0]}@{host}"
+    return url
+
+
+def _sqlite_pragmas(engine: Any) -> None:
+    from sqlalchemy import event
+
+    @event.listens_for(engine, "connect")
+    def _on_connect(dbapi_conn: Any, _record: Any) -> None:
+        cur = dbapi_conn.cursor()
+        cur.execute("PRAGMA journal_mode=WAL")
+        cur.execute("PRAGMA busy_timeout=30000")
+        cur.execute("PRAGMA foreign_keys=ON")
+        cur.close()
+
+
+def connect(url_or_path: str | Path, *, create: bool = True) -> Store:
+    """Open (and, with `create`, make or upgrade) the records database; one line on any failure."""
+    from .._optional import require
+    sa = require("sqlalchemy", extra="records", purpose="the records store")
+    url = records_url(url_or_path)
+    if url.startswith("sqlite:///"):
+        path = Path(url[len("sqlite:///"):])
+        if not path.parent.is_dir():
+            raise RecordsError(f"the folder of the records database {path} does not exist: create it first")
+    elif url.startswith("postgresql+psycopg://"):
+        require("psycopg", extra="records", purpose="a PostgreSQL records store")
+    try:
+        engine = sa.create_engine(url, future=True, pool_pre_ping=True,
+                                  **({"connect_args": {"timeout": 30}} if url.startswith("sqlite") else {}))
+    except (sa.exc.ArgumentError, sa.exc.NoSuchModuleError, ValueError) as err:
+        raise RecordsError(f"{_shown(str(url_or_path))} is not a records URL (give a file path, sqlite:///FILE or "
+                           f"postgresql://USER@HOST/DB): {_first_line(err)}") from err
+    if url.startswith("sqlite"):
+        _sqlite_pragmas(engine)
+    store = Store(engine, url)
+    _prepare(store, create=create)
+    return store
+
+
+def _prepare(store: Store, *, create: bool) -> None:
+    sa = store._sa
+    try:
+        with store.engine.begin() as conn:
+            if create:
+                store._md.create_all(conn, checkfirst=True)
+            row = conn.execute(sa.select(store._info.c.value).where(store._info.c.key == "schema_version")).first()
+            if row is None:
+                if create:
+                    conn.execute(store._info.insert().values(key="schema_version", value=str(SCHEMA_VERSION)))
+            elif int(row[0]) > SCHEMA_VERSION:
+                raise RecordsError(f"the records database {_shown(store.url)} has schema version {row[0]}, newer than "
+                                   f"this benchnf's {SCHEMA_VERSION}: use the benchnf that made it, or upgrade")
+    except sa.exc.IntegrityError:
+        pass  # another process created it at the same moment
+    except sa.exc.SQLAlchemyError as err:
+        raise RecordsError(f"cannot open the records database {_shown(store.url)}: {_first_line(err)}") from err
+
+
+def iter_export_rows(store: Store) -> Iterator[dict[str, Any]]:
+    """One row per check, one column per limit's measured value (for CSV export)."""
+    recs = store.checks()
+    lims = store.limits_of([r["id"] for r in recs])
+    for r in recs:
+        row = {k: r[k] for k in ("serial", "checked_at", "verdict", "station", "operator", "profile_name",
+                                 "profile_sha256", "software")}
+        for lim in lims[r["id"]]:
+            row[lim["name"]] = lim["measured"]
+        yield row

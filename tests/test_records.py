@@ -1,0 +1,151 @@
+"""The records store on SQLite and on a real PostgreSQL server: round trip, concurrent writers, a killed
+writer, capability, and bad input. Units are the demo's (INVENTED DATA) and seeded synthetic records.
+
+PostgreSQL: BENCHNF_TEST_POSTGRES names a throw-away server (.ci/run starts one with .ci/postgres.sh);
+without it the tests start their own where they can (root with the Debian server installed). In CI a
+missing server is a failure, not a skip.
+"""
+
+import math
+import multiprocessing as mp
+import os
+import shutil
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from benchnf.cli import ExitStatus, main
+from benchnf.records import CheckRecord, LimitRow, capability, connect
+
+ROOT = Path(__file__).resolve().parent.parent
+DEMO = ROOT / "benchnf" / "captures_demo"
+
+
+@pytest.fixture(scope="session")
+def postgres_url():
+    url = os.environ.get("BENCHNF_TEST_POSTGRES")
+    if url:
+        yield url
+        return
+    can = os.geteuid() == 0 and shutil.which("runuser") and list(Path("/usr/lib/postgresql").glob("*/bin/initdb"))
+    if not can:
+        if os.environ.get("CI") == "true":
+            raise RuntimeError("CI must run the PostgreSQL tests: set BENCHNF_TEST_POSTGRES (.ci/postgres.sh)")
+        pytest.skip("no PostgreSQL server to test against")
+    folder = subprocess.run(["bash", str(ROOT / ".ci" / "postgres.sh")], capture_output=True, text=True,
+                            check=True).stdout.strip()
+    yield f"postgresql://postgres@/benchnf_test?host={folder}"
+    subprocess.run(["bash", str(ROOT / ".ci" / "postgres.sh"), "stop", folder], check=False)
+
+
+@pytest.fixture(params=["sqlite", "postgresql"])
+def url(request, tmp_path):
+    if request.param == "sqlite":
+        return str(tmp_path / "records.db")
+    pg = request.getfixturevalue("postgres_url")
+    store = connect(pg)  # a fresh set of tables for each test
+    with store.engine.begin() as conn:
+        for table in ("limits", "checks", "benchnf_info"):
+            conn.exec_driver_sql(f"DROP TABLE IF EXISTS {table} CASCADE")
+    store.close()
+    return pg
+
+
+def _record(serial, value, *, uid=None, n_limits=3):
+    rows = tuple(LimitRow(f"figure_{k}", value + k, "max 10", None, 10.0, 10.0 - value - k, "dB", 0.1, "PASS")
+                 for k in range(n_limits))
+    extra = {"record_uid": uid} if uid else {}
+    return CheckRecord(serial=serial, verdict="PASS", profile_name="p", profile_sha256="0" * 64, station="s1",
+                       operator="op", software="benchnf test", limits=rows, results={"gain_db": value}, **extra)
+
+
+def test_round_trip_through_check_batch_and_records(url, tmp_path, capsys):
+    assert main(["batch", str(DEMO / "units"), "--profile", str(DEMO / "known_good_profile.toml"), "--floor",
+                 str(DEMO / "floor.flac"), "--volts-per-fs", "2", "--workers", "1", "--quiet", "-o",
+                 str(tmp_path / "out"), "--records", url, "--station", "bench-3", "--operator", "ann"]) == 1
+    store = connect(url)
+    rows = store.checks()
+    assert [(r["serial"], r["verdict"], r["station"], r["operator"]) for r in rows] == [
+        ("HA-0001", "PASS", "bench-3", "ann"), ("HA-0002", "FAIL", "bench-3", "ann"), ("HA-0003", "FAIL", "bench-3", "ann")]
+    limits = store.limits_of([r["id"] for r in rows])
+    assert {lim["name"] for lim in limits[rows[0]["id"]]} >= {"gain_db", "ein_dbu", "mask input_density_v_per_rthz"}
+    assert main(["records", "--records", url, "show", "HA-0002"]) == 0
+    assert "hum ripple" in capsys.readouterr().out
+    assert main(["records", "--records", url, "export", "-o", str(tmp_path / "x.csv")]) == 0
+    assert len((tmp_path / "x.csv").read_text().splitlines()) == 4
+    assert main(["records", "--records", url, "capability"]) == ExitStatus.BAD_INPUT  # 3 units: too few
+    assert "at least 10 units" in capsys.readouterr().out
+
+
+def _writer(url, worker, n):
+    store = connect(url)
+    for i in range(n):
+        rec = _record(f"W{worker}-{i}", float(i % 7), uid=f"{worker:04d}-{i:06d}-0000-0000-000000000000"[:36])
+        store.add(rec)
+        store.add(rec)  # a retry of the same record: must not duplicate it
+    store.close()
+
+
+def test_eight_concurrent_writers_lose_nothing_and_duplicate_nothing(url):
+    connect(url).close()
+    ctx = mp.get_context("spawn")
+    procs = [ctx.Process(target=_writer, args=(url, w, 25)) for w in range(8)]
+    for p in procs:
+        p.start()
+    for p in procs:
+        p.join(120)
+        assert p.exitcode == 0
+    store = connect(url)
+    rows = store.checks()
+    assert len(rows) == 200 and len({r["record_uid"] for r in rows}) == 200
+    limits = store.limits_of([r["id"] for r in rows])
+    assert all(len(v) == 3 for v in limits.values())
+
+
+def test_a_killed_writer_leaves_no_half_record(url, tmp_path):
+    connect(url).close()
+    code = ("import sys\nsys.path.insert(0, %r)\nfrom test_records import _record\nfrom benchnf.records import connect\n"
+            "s = connect(%r)\ni = 0\nwhile True:\n    s.add(_record(f'K{i}', 1.0, n_limits=40)); i += 1\n"
+            % (str(Path(__file__).parent), url))
+    proc = subprocess.Popen([sys.executable, "-c", code])
+    time.sleep(3.0)
+    proc.send_signal(signal.SIGKILL)
+    proc.wait(10)
+    store = connect(url)
+    rows = store.checks()
+    assert rows, "the writer wrote nothing before it was killed"
+    assert all(len(v) == 40 for v in store.limits_of([r["id"] for r in rows]).values())
+
+
+def test_capability_against_a_hand_computed_example():
+    # Computed by hand here: values in time order, LSL 0, USL 10.
+    x = [4.0, 5.0, 6.0, 5.0, 4.0, 6.0, 5.0, 5.0, 4.0, 6.0]
+    s = float(np.std(x, ddof=1))
+    mr = float(np.mean(np.abs(np.diff(x))))
+    c = capability(x, lsl=0.0, usl=10.0)
+    assert c.mean == pytest.approx(5.0) and c.sigma_overall == pytest.approx(s)
+    assert c.cp == pytest.approx(10 / (6 * mr / 1.128)) and c.ppk == pytest.approx(5.0 / (3 * s))
+    assert c.cpk_lower95 == pytest.approx(c.cpk - 1.645 * math.sqrt(1 / 90 + c.cpk ** 2 / 18))
+    # NIST/SEMATECH e-Handbook 6.1.6 worked case (from memory, REFERENCES.md): USL 20, LSL 8, mean 16, s 2.
+    from benchnf.records import capability_from
+    nist = capability_from(mean=16.0, sigma_within=2.0, sigma_overall=2.0, n=100, lsl=8.0, usl=20.0)
+    assert (round(nist.cp, 3), round(nist.cpk, 3)) == (1.0, 0.667)
+
+
+def test_bad_records_urls_and_a_newer_schema_are_refused_in_one_line(tmp_path, capsys):
+    for url in ("postgresql://nobody@/nodb?host=/nonexistent", "mysql+nothing://x/y", str(tmp_path / "no" / "r.db")):
+        rc = main(["records", "--records", url, "list"])
+        err = capsys.readouterr().err.strip().splitlines()
+        assert rc == ExitStatus.BAD_INPUT and len(err) == 1 and err[0].startswith("benchnf: error:"), (url, err)
+    db = tmp_path / "r.db"
+    store = connect(db)
+    with store.engine.begin() as conn:
+        conn.exec_driver_sql("UPDATE benchnf_info SET value = '99' WHERE key = 'schema_version'")
+    store.close()
+    assert main(["records", "--records", str(db), "list"]) == ExitStatus.BAD_INPUT
+    assert "schema version 99, newer than" in capsys.readouterr().err
