@@ -149,3 +149,39 @@ def test_bad_records_urls_and_a_newer_schema_are_refused_in_one_line(tmp_path, c
     store.close()
     assert main(["records", "--records", str(db), "list"]) == ExitStatus.BAD_INPUT
     assert "schema version 99, newer than" in capsys.readouterr().err
+
+
+def test_control_chart_limits_and_run_rules():
+    # Limits by the standard constants (E2 = 2.660, D4 = 3.267; ASTM E2587, common practice), computed by hand:
+    # values 10, 12, 11, 13, 12: x-bar 11.6, moving ranges 2, 1, 2, 1 -> MR-bar 1.5, limits 11.6 +/- 3.99.
+    from benchnf.records.charts import control_chart
+    c = control_chart([10, 12, 11, 13, 12])
+    assert c.centre == pytest.approx(11.6) and c.mr_centre == pytest.approx(1.5)
+    assert (c.lower, c.upper, c.mr_upper) == pytest.approx((11.6 - 3.99, 11.6 + 3.99, 4.9005))
+    assert c.signals == ()
+    # A point far out (rule 1), and eight in a row above the centre (rule 4), on seeded noise.
+    rng = np.random.default_rng(2)
+    x = list(rng.normal(0, 1, 30))
+    x[10] = 8.0
+    x[18:26] = [abs(v) + 0.5 for v in x[18:26]]
+    rules = {rule for i, rule in control_chart(x).signals}
+    idx = {i for i, rule in control_chart(x).signals if rule == 1}
+    assert 1 in rules and 4 in rules and 10 in idx
+
+
+def test_chart_and_history_import_through_the_command(tmp_path, capsys):
+    db = str(tmp_path / "r.db")
+    history = tmp_path / "history.csv"
+    rng = np.random.default_rng(9)
+    lines = ["checked_at,profile,serial,verdict,gain_db,ein_dbu,noise_figure_db,nf_at_1khz_db,flicker_corner_hz"]
+    lines += [f"2026-11-{1 + i // 10:02d}T08:{i % 60:02d}:00+00:00,p,U{i},PASS,36,{-136 + rng.normal(0, 0.3):.3f},"
+              f"2.9,3.0,40" for i in range(20)]
+    history.write_text("\n".join(lines) + "\n")
+    assert main(["records", "--records", db, "import-history", str(history)]) == 0
+    assert main(["records", "--records", db, "import-history", str(history)]) == 0  # again: nothing added
+    assert "20 record(s) imported" in capsys.readouterr().out
+    assert len(connect(db).checks()) == 20
+    assert main(["records", "--records", db, "chart", "--figure", "ein_dbu", "-o", str(tmp_path / "charts")]) == 0
+    png = tmp_path / "charts" / "control_ein_dbu.png"
+    assert png.stat().st_size > 10_000
+    assert main(["records", "--records", db, "chart", "--figure", "nothing", "-o", str(tmp_path / "c2")]) == 2

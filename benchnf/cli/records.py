@@ -32,6 +32,12 @@ def add_parser(sub: Any) -> None:
     a = acts.add_parser("export", help="one row per check, one column per limit (CSV)")
     a.add_argument("-o", "--output", type=Path, required=True, metavar="FILE.csv")
     a.add_argument("--overwrite", action="store_true", help="replace FILE.csv if it exists")
+    a = acts.add_parser("chart", help="individuals and moving-range control chart of one figure, as PNG")
+    a.add_argument("--figure", required=True, metavar="KEY", help="a limit's name, e.g. ein_dbu")
+    a.add_argument("-o", "--output", type=Path, required=True, metavar="DIR")
+    a.add_argument("--overwrite", action="store_true", help="replace the chart if it exists")
+    a = acts.add_parser("import-history", help="import the history CSV that batch appends to")
+    a.add_argument("history", type=Path, metavar="FILE.csv")
     a = acts.add_parser("capability", help="per limit: n, mean, s, Cp, Cpk, Pp, Ppk, lower 95 %% bound of Cpk")
     a.add_argument("--min-units", type=whole_count, default=10, metavar="N",
                    help="fewest units for a capability figure (default 10)")
@@ -43,8 +49,9 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     url = records_url_of(args)
     if not url:
         raise BenchError("give the records database with --records URL (or set BENCHNF_RECORDS)")
-    store = connect(url, create=False)
-    action = {"list": _list, "show": _show, "export": _export, "capability": _capability}[args.action]
+    store = connect(url, create=args.action == "import-history")
+    action = {"list": _list, "show": _show, "export": _export, "capability": _capability, "chart": _chart,
+              "import-history": _import_history}[args.action]
     return action(store, args, writer)
 
 
@@ -124,4 +131,52 @@ def _capability(store: Any, args: argparse.Namespace, writer: Writer) -> int:
     if not shown:
         raise BenchError("no limit with numeric bounds has records: check units against a profile first")
     print("\n  Cp, Cpk from the moving range (within); Pp, Ppk from the overall s; Cpk>= is its lower 95 % bound")
+    return ExitStatus.OK
+
+
+def _chart(store: Any, args: argparse.Namespace, writer: Writer) -> int:
+    from ..records.charts import control_chart
+    from ..report.plots import control_chart_figures
+    rows = store.measured_values(args.figure)
+    if not rows:
+        raise BenchError(f"no recorded values of {args.figure!r}: the limits recorded are "
+                         f"{', '.join(store.limit_names()) or 'none'}")
+    chart = control_chart([r["measured"] for r in rows])
+    folder = writer.folder(args.output)
+    for name, fig in control_chart_figures(chart, figure=args.figure):
+        path = writer.figure(writer.child(folder, name.replace(" ", "_").replace("/", "_")), fig)
+        print(f"control chart of {args.figure} over {len(chart.values)} units written to {path}")
+    for i, rule in chart.signals:
+        print(f"  unit {rows[i]['serial']} ({rows[i]['checked_at']}) breaks run rule {rule}")
+    return ExitStatus.OK
+
+
+_HISTORY_FIGURES = ("gain_db", "ein_dbu", "noise_figure_db", "nf_at_1khz_db", "flicker_corner_hz")
+
+
+def _import_history(store: Any, args: argparse.Namespace, writer: Writer) -> int:
+    """Rows of an old history CSV as records (each row's id is made from its text: importing twice adds
+    nothing)."""
+    import csv
+    import uuid
+
+    from ..records import CheckRecord, LimitRow
+    try:
+        lines = args.history.read_text(encoding="utf-8").splitlines()
+    except (OSError, UnicodeDecodeError) as err:
+        raise BenchError(f"{args.history} cannot be read ({err})") from err
+    reader = csv.DictReader(lines)
+    need = {"checked_at", "profile", "serial", "verdict"}
+    if not reader.fieldnames or not need <= set(reader.fieldnames):
+        raise BenchError(f"{args.history} is not a benchnf history CSV (it needs the columns {', '.join(sorted(need))})")
+    added = 0
+    for row, text in zip(reader, lines[1:]):
+        limits = tuple(LimitRow(k, float(row[k]), "", None, None, None, "", None, "-")
+                       for k in _HISTORY_FIGURES if row.get(k) not in (None, ""))
+        rec = CheckRecord(serial=row["serial"], verdict=row["verdict"], profile_name=row["profile"],
+                          profile_sha256=None, station="imported", operator=None, software="history import",
+                          limits=limits, checked_at=row["checked_at"],
+                          record_uid=str(uuid.uuid5(uuid.NAMESPACE_URL, f"benchnf-history:{text}")))
+        added += bool(store.add(rec))
+    print(f"{added} record(s) imported from {args.history}")
     return ExitStatus.OK

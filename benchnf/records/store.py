@@ -216,6 +216,8 @@ def connect(url_or_path: str | Path, *, create: bool = True) -> Store:
         path = Path(url[len("sqlite:///"):])
         if not path.parent.is_dir():
             raise RecordsError(f"the folder of the records database {path} does not exist: create it first")
+        if not create and not path.is_file():
+            raise RecordsError(f"no records database at {path}: check or batch with --records make one")
     elif url.startswith("postgresql+psycopg://"):
         require("psycopg", extra="records", purpose="a PostgreSQL records store")
     try:

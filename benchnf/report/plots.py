@@ -288,3 +288,30 @@ def eni_figures(eni) -> Figures:
     fig2, ax = _figure()
     plot_nf_vs_rs(eni, ax=ax)
     return [("en_in.png", fig), ("nf_vs_rs.png", fig2)]
+
+
+def control_chart_figures(chart, *, figure: str) -> Figures:
+    """Individuals and moving-range chart of `figure` (a ControlChart), points breaking a run rule in red."""
+    fig, (a, b) = _figure(2, 6.5, sharex=True)
+    n = np.arange(1, len(chart.values) + 1)
+    a.plot(n, chart.values, "o-", color="tab:blue", ms=4, lw=1)
+    for y, style in ((chart.centre, "-"), (chart.lower, "--"), (chart.upper, "--")):
+        a.axhline(y, color="0.4", ls=style, lw=1)
+    flagged = sorted({i for i, _rule in chart.signals})
+    if flagged:
+        a.plot(n[flagged], np.array(chart.values)[flagged], "o", color="tab:red", ms=7, mfc="none",
+               label="breaks a run rule: " + ", ".join(sorted({str(r) for _i, r in chart.signals})))
+        a.legend(fontsize=8)
+    a.set_ylabel(figure)
+    a.set_title(f"Individuals: centre {chart.centre:.4g}, limits {chart.lower:.4g} to {chart.upper:.4g}", fontsize=10)
+    a.grid(True, alpha=0.3)
+    b.plot(n[1:], chart.moving_ranges, "s-", color="tab:green", ms=3, lw=1)
+    b.axhline(chart.mr_centre, color="0.4", lw=1)
+    b.axhline(chart.mr_upper, color="0.4", ls="--", lw=1)
+    b.set_ylabel("moving range")
+    b.set_xlabel("unit, in time order")
+    from matplotlib.ticker import MaxNLocator
+    b.xaxis.set_major_locator(MaxNLocator(integer=True))
+    b.set_title(f"Moving range: centre {chart.mr_centre:.3g}, upper limit {chart.mr_upper:.3g}", fontsize=10)
+    b.grid(True, alpha=0.3)
+    return [(f"control_{figure}.png", fig)]
