@@ -62,3 +62,23 @@ def test_batch_and_analyze_give_the_same_figure_for_one_unit(tmp_path, capsys):
     with pytest.raises(ParameterError, match="source resistance is 20 ohm in the sidecar"):
         run_gain_method(GainMethodRequest(terminated=(unit / "terminated.flac",), tone=unit / "tone.flac",
                                           volts_per_fs=2.0, conditions={"rs_ohm": 150.0}))
+
+
+def test_results_json_carries_its_provenance(tmp_path):
+    import hashlib
+    import os
+    import shutil
+    for name in ("terminated", "tone"):
+        shutil.copy(DEMO / f"{name}.flac", tmp_path / f"{name}.flac")
+        shutil.copy(DEMO / f"{name}.json", tmp_path / f"{name}.json")
+    (tmp_path / "out").mkdir()
+    out = tmp_path / "out" / "r.json"
+    assert main(["analyze", "--terminated", str(tmp_path / "terminated.flac"), "--tone", str(tmp_path / "tone.flac"),
+                 "--volts-per-fs", "2", "--quiet", "--json", str(out)]) == 0
+    prov = json.loads(out.read_text())["provenance"]
+    assert prov["software"].startswith("benchnf ") and prov["created_utc"].endswith("+00:00")
+    files = {i["file"]: i["sha256"] for i in prov["inputs"]}
+    assert set(files) == {"../terminated.flac", "../terminated.json", "../tone.flac", "../tone.json"}
+    for name, digest in files.items():
+        assert hashlib.sha256((out.parent / name).read_bytes()).hexdigest() == digest
+    assert not any(os.path.isabs(f) for f in files)

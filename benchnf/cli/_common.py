@@ -100,6 +100,8 @@ def write_outputs(args: argparse.Namespace, writer: Writer, data: dict[str, Any]
                   figures: Callable[[], list[tuple[str, Any]]] | None = None) -> None:
     """--json and --plot, the same way for every command."""
     if getattr(args, "json", None):
+        from ..measure.provenance import provenance
+        data = {**data, "provenance": provenance(input_paths(args), root=Path(args.json).parent)}
         writer.json(args.json, data)
         print(f"\nJSON written to {args.json}")
     if getattr(args, "plot", None) and figures is not None:

@@ -98,8 +98,13 @@ _STAMP = re.compile(r"\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d(\.\d+)?([+-]\d\d:\d\d|Z)?")
 
 
 def normalise(text: str, tmp: Path) -> str:
-    """Machine paths and clock times replaced by placeholders; nothing else is touched."""
-    return _STAMP.sub("<TIME>", text.replace(str(tmp), "<TMP>").replace(str(DEMO), "<DEMO>"))
+    """Machine paths, the host name and clock times replaced by placeholders; nothing else is touched."""
+    import socket
+    # a file named relative to the results folder: the way up to the demo folder depends on the machine
+    text = re.sub(r'"file": "[^"]*?captures_demo/', '"file": "<DEMO>/', text)
+    text = text.replace(str(tmp), "<TMP>").replace(str(DEMO), "<DEMO>")
+    text = text.replace(f'"station": "{socket.gethostname()}"', '"station": "<HOST>"')
+    return _STAMP.sub("<TIME>", text)
 
 
 def run_case(name: str, tmp: Path) -> dict[str, str]:
