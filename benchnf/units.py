@@ -22,6 +22,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 __all__ = [
+    "eng",
     "BOLTZMANN_J_PER_K",
     "T0_K",
     "DBU_REF_VRMS",
@@ -135,3 +136,18 @@ def thermal_vrms(*, resistance_ohm: float, temperature_k: float, bandwidth_hz: f
     """RMS thermal noise voltage ``sqrt(4 k T R B)`` of a resistor over a bandwidth."""
     return float(np.sqrt(thermal_density_v2_per_hz(resistance_ohm=resistance_ohm,
                                                     temperature_k=temperature_k) * bandwidth_hz))
+
+
+_PREFIXES = ((1e-12, "p"), (1e-9, "n"), (1e-6, "u"), (1e-3, "m"), (1.0, ""), (1e3, "k"), (1e6, "M"))
+
+
+def eng(value: float, unit: str, digits: int = 3) -> str:
+    """Engineering notation for reports: 4.65e-06 V -> '4.65 uV'.
+
+    >>> eng(4.65e-6, "V")
+    '4.65 uV'
+    """
+    if value == 0 or not math.isfinite(value):
+        return f"{value:g} {unit}"
+    scale, prefix = next(((s, p) for s, p in reversed(_PREFIXES) if abs(value) >= s), _PREFIXES[0])
+    return f"{value / scale:.{digits}g} {prefix}{unit}"

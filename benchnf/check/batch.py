@@ -146,7 +146,9 @@ _COLUMNS = ("serial", "verdict", "gain_db", "ein_dbu", "noise_figure_db", "nf_at
 
 def _row(o: UnitOutcome) -> dict[str, Any]:
     failed = [v["name"] for v in (o.check or {}).get("limits", []) if v["verdict"] != "PASS"]
-    return {"serial": o.serial, "verdict": o.verdict, **{k: o.figure(k) for k in _COLUMNS[2:7]},
+    def num(x: Any) -> Any:
+        return float(format(x, ".6g")) if isinstance(x, float) else x
+    return {"serial": o.serial, "verdict": o.verdict, **{k: num(o.figure(k)) for k in _COLUMNS[2:7]},
             "failed_limits": "; ".join(failed), "error": o.error or ""}
 
 
@@ -166,18 +168,34 @@ def summary_csv(outcomes: list[UnitOutcome]) -> str:
     return buf.getvalue()
 
 
+def _measured_text(v: dict[str, Any]) -> str:
+    """A measured value with sensible precision and its unit (V in engineering notation, densities in nV/rtHz)."""
+    from ..units import eng
+    m = v.get("measured")
+    if m is None:
+        return "-"
+    if v["name"].startswith("hum"):
+        return eng(m, "V")
+    if "v_per_rthz" in v["name"]:
+        return f"{m * 1e9:.3g} nV/rtHz"
+    unit = {"_dbu": " dBu", "_dbv": " dBV", "_db": " dB", "_hz": " Hz"}
+    return f"{m:.4g}" + next((u for suffix, u in unit.items() if v["name"].endswith(suffix)), "")
+
+
 def junit_xml(outcomes: list[UnitOutcome], *, profile: str) -> str:
     """A JUnit-style XML: one test suite, one test case per unit (failures and errors marked)."""
     failures = sum(o.verdict == "FAIL" for o in outcomes)
     errors = sum(o.verdict == "ERROR" for o in outcomes)
+    import socket
+    stamp = _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
     lines = ['<?xml version="1.0" encoding="UTF-8"?>',
              f'<testsuite name={quoteattr("benchnf check " + profile)} tests="{len(outcomes)}" '
-             f'failures="{failures}" errors="{errors}">']
+             f'failures="{failures}" errors="{errors}" timestamp="{stamp}" hostname={quoteattr(socket.gethostname())}>']
     for o in outcomes:
         lines.append(f'  <testcase classname="benchnf.check" name={quoteattr(o.serial)}>')
         if o.verdict == "FAIL" and o.check is not None:
             failed = [v for v in o.check["limits"] if v["verdict"] == "FAIL"]
-            text = "; ".join(f"{v['name']}: {v['measured']} vs {v['limit']}" for v in failed)
+            text = "; ".join(f"{v['name']}: {_measured_text(v)} vs {v['limit']}" for v in failed)
             lines.append(f'    <failure message={quoteattr(text)}>{escape(text)}</failure>')
         elif o.verdict == "ERROR":
             lines.append(f'    <error message={quoteattr(o.error or "")}>{escape(o.error or "")}</error>')

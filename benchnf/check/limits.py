@@ -23,6 +23,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from ..errors import ParameterError
+from ..units import eng
 from .profile import UNCERTAINTY_OF, Profile
 
 __all__ = ["LimitVerdict", "CheckResult", "check_results", "RESULTS_SCHEMA_VERSION", "HINTS"]
@@ -165,15 +166,17 @@ def check_results(results: dict[str, Any], profile: Profile, *, unit: str = "uni
             continue
         _r, margin, f_worst, value, u = worst_row
         verdict = _classify(margin, u)
-        verdicts.append(LimitVerdict(f"mask {mask.quantity} (worst at {f_worst:g} Hz)", value,
-                                     f"mask {mask.at(f_worst):.4g}", margin, "dB", u, verdict,
+        at = mask.at(f_worst) or math.nan  # a worst point lies inside the mask's span
+        shown = f"mask {at * 1e9:.3g} nV/rtHz" if mask.quantity.endswith("v_per_rthz") else f"mask {at:.4g}"
+        verdicts.append(LimitVerdict(f"mask {mask.quantity} (worst at {f_worst:g} Hz)", value, shown, margin, "dB", u,
+                                     verdict,
                                      HINTS["input_density_v_per_rthz"] if verdict != "PASS" else None))
     spurs = results.get("spurs", [])
     for h in profile.hum:
         level = math.sqrt(sum(sp["output_vrms"] ** 2 for sp in spurs if h.family in ("all", sp["family"])))
         margin = 20 * math.log10(h.max_output_vrms / level) if level > 0 else math.inf
         verdict = _classify(margin, None)
-        verdicts.append(LimitVerdict(f"hum {h.family}", level, f"max {h.max_output_vrms:.3g} V", margin
+        verdicts.append(LimitVerdict(f"hum {h.family}", level, f"max {eng(h.max_output_vrms, 'V')}", margin
                                      if math.isfinite(margin) else 99.0, "dB", None, verdict,
                                      HINTS[h.family] if verdict != "PASS" else None))
     overall = ("FAIL" if any(v.verdict == "FAIL" for v in verdicts) else

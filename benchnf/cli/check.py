@@ -39,14 +39,19 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
         store = connect(url)  # refused now, before the check, if it cannot be opened
     res = check_results(results, profile, unit=unit)
     print(f"benchnf - {unit} against profile {profile.name!r}: {res.verdict}\n")
-    print(f"  {'limit':44s} {'measured':>11} {'limit':>16} {'margin':>10} {'U k=2':>7}  verdict")
+    from ..report.labels import limit_label, value_text
+    weighting = results.get("weighting")
+    print(f"  {'limit':46s} {'measured':>16} {'limit':>16} {'margin':>10} {'U k=2':>7}  verdict")
     for v in res.limits:
-        meas = "-" if v.measured is None else f"{v.measured:.4g}"
         margin = "-" if v.margin is None else f"{v.margin:.3g} {v.unit}"
-        u = "-" if v.uncertainty is None else f"{v.uncertainty:.2f}"
-        print(f"  {v.name[:44]:44s} {meas:>11} {v.limit:>16} {margin:>10} {u:>7}  {v.verdict}")
+        u = "-" if v.uncertainty is None else f"{v.uncertainty:.2f} dB"
+        print(f"  {limit_label(v.name, weighting=weighting)[:46]:46s} {value_text(v.name, v.measured):>16} "
+              f"{v.limit:>16} {margin:>10} {u:>7}  {v.verdict}")
         if v.hint:
             print(f"      suggestion: {v.hint}")
+    if any(v.verdict == "MARGINAL" for v in res.limits):
+        print("\n  MARGINAL: within the expanded measurement uncertainty of the limit, on either side: neither a "
+              "confident pass nor a proven failure; measure longer or check the setup before deciding.")
     if args.json:
         writer.json(args.json, res.to_dict())
         print(f"\nJSON written to {args.json}")

@@ -6,6 +6,7 @@ import argparse
 from pathlib import Path
 from typing import Any
 
+from ..errors import BenchError
 from ..write import Writer
 from ._common import common_options, device_options, say_rate_note
 from ._types import (
@@ -50,13 +51,16 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
         writer.target(p)  # refused before anything is played
     sig = make_signal(args.signal, sample_rate_hz=args.rate, seconds=args.seconds, level_dbfs=args.level_dbfs,
                       frequency_hz=args.tone_hz)
-    pad = np.zeros(int(0.5 * args.rate), dtype=np.float32)  # room for the latency at the end
+    pad = np.zeros(int(1.0 * args.rate), dtype=np.float32)  # room for the latency at the end
     play = np.concatenate([sig, pad])
     say_rate_note(args.device, args.host_api, args.rate)
     rec = SoundcardRecorder(args.device, host_api=args.host_api).play_and_record(
         np.column_stack([play] * args.play_channels), sample_rate_hz=args.rate, channels=args.channels)
     lag = align_lag(rec[:, args.reference_channel], sig)
     lag = max(lag, 0)
+    if lag > pad.size:
+        raise BenchError(f"the device's latency ({lag} frames) exceeds the {pad.size} frames of room left for it: "
+                         f"the recording would be cut; check the device's buffer settings and try again")
     aligned = rec[lag:lag + sig.size]
     buf = io.BytesIO()
     sf.write(buf, aligned, int(args.rate), subtype="FLOAT", format="WAV")

@@ -86,9 +86,12 @@ def unit_report_html(*, serial: str, verdict: str, check: dict[str, Any] | None,
                      results: dict[str, Any] | None, profile=None, error: str | None = None) -> str:
     """One unit's report as a single self-contained HTML page."""
     tone = _TONE.get(verdict, "#5f5f5f")
+    from .labels import limit_label, value_text
+    weighting = (results or {}).get("weighting")
     rows = []
     for v in (check or {}).get("limits", []):
-        rows.append(f"<tr class='{v['verdict'].lower()}'><td>{html.escape(v['name'])}</td><td>{_fmt(v['measured'])}</td>"
+        rows.append(f"<tr class='{v['verdict'].lower()}'><td>{html.escape(limit_label(v['name'], weighting=weighting))}"
+                    f"</td><td>{html.escape(value_text(v['name'], v['measured']))}</td>"
                     f"<td>{html.escape(v['limit'])}</td><td>{_fmt(v['margin'])} {html.escape(v['unit'])}</td>"
                     f"<td>{_fmt(v['uncertainty'])}</td><td><b>{v['verdict']}</b></td>"
                     f"<td>{html.escape(v['hint'] or '')}</td></tr>")
@@ -102,6 +105,9 @@ def unit_report_html(*, serial: str, verdict: str, check: dict[str, Any] | None,
         figures += "<table class='figs'>" + "".join(
             f"<tr><th>{k}</th><td>{_fmt(results.get(k))}</td></tr>" for k in key) + "</table>"
     body_error = f"<p class='err'>{html.escape(error)}</p>" if error else ""
+    marginal = ("<p>MARGINAL: within the expanded measurement uncertainty of the limit, on either side: neither a "
+                "confident pass nor a proven failure. Measure longer, or check the setup, before deciding.</p>"
+                if any(v["verdict"] == "MARGINAL" for v in (check or {}).get("limits", [])) else "")
     doc = f"""<!DOCTYPE html>
 <html lang="en"><head><meta charset="utf-8"><title>benchnf check: {html.escape(serial)}</title>
 <style>
@@ -120,8 +126,7 @@ footer {{ color: #777; font-size: .85em; margin-top: 2em; }}
 <h2>Limits</h2>
 <table><tr><th>limit</th><th>measured</th><th>limit</th><th>margin</th><th>U (k=2, dB)</th><th>verdict</th>
 <th>suggestion</th></tr>{''.join(rows)}</table>
-<p>MARGINAL: within the expanded measurement uncertainty of the limit, on either side: neither a
-confident pass nor a proven failure. Measure longer, or check the setup, before deciding.</p>
+{marginal}
 <h2>Figures</h2>{figures}
 <h2>Measurement conditions</h2><table>{cond_rows}</table>
 <footer>benchnf check report. Suggestions are general trade knowledge, not a diagnosis. Mains and valve

@@ -104,6 +104,7 @@ def normalise(text: str, tmp: Path) -> str:
     text = re.sub(r'"file": "[^"]*?captures_demo/', '"file": "<DEMO>/', text)
     text = text.replace(str(tmp), "<TMP>").replace(str(DEMO), "<DEMO>")
     text = text.replace(f'"station": "{socket.gethostname()}"', '"station": "<HOST>"')
+    text = text.replace(f'hostname="{socket.gethostname()}"', 'hostname="<HOST>"')
     return _STAMP.sub("<TIME>", text)
 
 
