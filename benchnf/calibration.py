@@ -19,7 +19,6 @@ References
 from __future__ import annotations
 
 import datetime as _dt
-import hashlib
 import json
 import math
 import warnings
@@ -28,6 +27,7 @@ from pathlib import Path
 from typing import Any
 
 from .capture import Capture, SampleStats
+from .io.hashing import sha256_of
 from .errors import CalibrationError, CalibrationWarning
 from .units import fs_to_dbfs
 
@@ -112,14 +112,6 @@ def _check_fields(cal: "Calibration", path: Path) -> None:
             raise CalibrationError(f"calibration file {path}: {key}={value!r} must be text")
 
 
-def _sha256(path: Path) -> str:
-    h = hashlib.sha256()
-    with open(path, "rb") as fh:
-        for chunk in iter(lambda: fh.read(1 << 20), b""):
-            h.update(chunk)
-    return h.hexdigest()
-
-
 def calibrate_from_tone(reference: Capture, *, vrms: float,
                         meter_band_hz: tuple[float, float] = DEFAULT_METER_BAND_HZ,
                         frequency_hz: float | None = None) -> Calibration:
@@ -182,7 +174,7 @@ def calibrate_from_tone(reference: Capture, *, vrms: float,
         tone_snr_db=fit.snr_db,
         made_at=_dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
         source_file=str(reference.path) if reference.path else None,
-        source_sha256=_sha256(reference.path) if reference.path else None,
+        source_sha256=sha256_of(reference.path) if reference.path else None,
         device=meta.get("device"),
         notes=meta.get("notes"),
     )

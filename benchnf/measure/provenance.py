@@ -5,22 +5,15 @@ its captures still names them)."""
 from __future__ import annotations
 
 import datetime as _dt
-import hashlib
 import os
 import socket
 from collections.abc import Iterable
 from pathlib import Path
 from typing import Any
 
-__all__ = ["provenance", "sha256_of"]
+from ..io.hashing import sha256_of
 
-
-def sha256_of(path: Path) -> str:
-    h = hashlib.sha256()
-    with open(path, "rb") as fh:
-        for chunk in iter(lambda: fh.read(1 << 20), b""):
-            h.update(chunk)
-    return h.hexdigest()
+__all__ = ["provenance"]
 
 
 def _name(path: Path, root: Path) -> str:

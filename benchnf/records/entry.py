@@ -3,7 +3,6 @@ where and with which profile (by the hash of its file) it was checked."""
 
 from __future__ import annotations
 
-import hashlib
 import os
 import re
 import socket
@@ -16,8 +15,10 @@ __all__ = ["check_record", "station_name", "file_sha256"]
 
 
 def file_sha256(path: str | Path) -> str | None:
+    """The file's SHA-256, or None where it cannot be read (a profile given as data, not a file)."""
+    from ..io.hashing import sha256_of
     try:
-        return hashlib.sha256(Path(path).read_bytes()).hexdigest()
+        return sha256_of(path)
     except OSError:
         return None
 
