@@ -113,7 +113,9 @@ def _analyse(unit: Path, profile: Profile, settings: dict[str, Any]) -> dict[str
         weighting=settings.get("weighting"),
         conditions={k: (tuple(v) if isinstance(v, list) else v) for k, v in c.items()},
         condition_source=f"the profile's conditions (unit {unit.name})")
-    return run_gain_method(request).to_dict()
+    from ..measure.provenance import provenance
+    inputs = [p for p in (roles["terminated"], roles["tone"], floor, settings.get("calibration")) if p]
+    return {**run_gain_method(request).to_dict(), "provenance": provenance([Path(p) for p in inputs], root=unit)}
 
 
 def check_batch(folder: Path, profile_path: str, *, settings: dict[str, Any] | None = None,

@@ -82,29 +82,46 @@ def _fmt(v: Any) -> str:
     return html.escape(str(v))
 
 
+def _record_html(results: dict[str, Any] | None) -> str:
+    """Where the unit's results came from: when, which software and station, each input file and its hash."""
+    prov = (results or {}).get("provenance")
+    if not prov:
+        return ""
+    files = "".join(f"<tr><td>{html.escape(i['file'])}</td><td><code>{html.escape(i['sha256'][:16])}...</code></td></tr>"
+                    for i in prov.get("inputs", []))
+    return (f"<h2>Record</h2><p>Analysed {html.escape(str(prov.get('created_utc')))} (UTC) by "
+            f"{html.escape(str(prov.get('software')))} at station {html.escape(str(prov.get('station')))}"
+            + (f", operator {html.escape(str(prov['operator']))}" if prov.get("operator") else "")
+            + f".</p><table><tr><th>input file</th><th>SHA-256</th></tr>{files}</table>")
+
+
 def unit_report_html(*, serial: str, verdict: str, check: dict[str, Any] | None,
                      results: dict[str, Any] | None, profile=None, error: str | None = None) -> str:
     """One unit's report as a single self-contained HTML page."""
     tone = _TONE.get(verdict, "#5f5f5f")
-    from .labels import limit_label, value_text
+    from .labels import condition_rows, limit_label, value_text
     weighting = (results or {}).get("weighting")
     rows = []
     for v in (check or {}).get("limits", []):
         rows.append(f"<tr class='{v['verdict'].lower()}'><td>{html.escape(limit_label(v['name'], weighting=weighting))}"
                     f"</td><td>{html.escape(value_text(v['name'], v['measured']))}</td>"
                     f"<td>{html.escape(v['limit'])}</td><td>{_fmt(v['margin'])} {html.escape(v['unit'])}</td>"
-                    f"<td>{_fmt(v['uncertainty'])}</td><td><b>{v['verdict']}</b></td>"
+                    f"<td>{'&ndash;' if v['uncertainty'] is None else format(v['uncertainty'], '.2f')}</td>"
+                    f"<td><b>{v['verdict']}</b></td>"
                     f"<td>{html.escape(v['hint'] or '')}</td></tr>")
     cond = (check or {}).get("conditions", {})
-    cond_rows = "".join(f"<tr><th>{html.escape(k)}</th><td>{_fmt(v)}</td></tr>" for k, v in cond.items())
+    cond_rows = "".join(f"<tr><th>{html.escape(label)}</th><td>{html.escape(text)}</td></tr>"
+                        for label, text in condition_rows(cond))
     figures = ""
     if results:
         png = base64.b64encode(_png_bytes(unit_figure(results, check, profile))).decode("ascii")
         figures = f"<img alt='noise density against the mask, and hum lines' src='data:image/png;base64,{png}'>"
         key = ["gain_db", "ein_dbu", "noise_figure_db", "nf_at_1khz_db", "flicker_corner_hz", "output_noise_vrms"]
         figures += "<table class='figs'>" + "".join(
-            f"<tr><th>{k}</th><td>{_fmt(results.get(k))}</td></tr>" for k in key) + "</table>"
+            f"<tr><th>{html.escape(limit_label(k, weighting=weighting))}</th>"
+            f"<td>{html.escape(value_text(k, results.get(k)))}</td></tr>" for k in key) + "</table>"
     body_error = f"<p class='err'>{html.escape(error)}</p>" if error else ""
+    record = _record_html(results)
     marginal = ("<p>MARGINAL: within the expanded measurement uncertainty of the limit, on either side: neither a "
                 "confident pass nor a proven failure. Measure longer, or check the setup, before deciding.</p>"
                 if any(v["verdict"] == "MARGINAL" for v in (check or {}).get("limits", [])) else "")
@@ -129,6 +146,7 @@ footer {{ color: #777; font-size: .85em; margin-top: 2em; }}
 {marginal}
 <h2>Figures</h2>{figures}
 <h2>Measurement conditions</h2><table>{cond_rows}</table>
+{record}
 <footer>benchnf check report. Suggestions are general trade knowledge, not a diagnosis. Mains and valve
 equipment carry lethal voltages: follow local codes and licensed practice.</footer>
 </body></html>

@@ -7,7 +7,7 @@ import re
 
 from ..units import eng
 
-__all__ = ["limit_label", "value_text"]
+__all__ = ["limit_label", "value_text", "condition_rows"]
 
 _LABELS = {"gain_db": "gain", "ein_dbu": "EIN", "ein_dbv": "EIN", "noise_figure_db": "noise figure, band",
            "nf_at_1khz_db": "noise figure, 1 kHz (1/3 octave)", "flicker_corner_hz": "1/f corner",
@@ -49,3 +49,22 @@ def value_text(name: str, value: float | None) -> str:
     if name.startswith("hum") or name.endswith("_vrms"):
         return eng(value, "V")
     return f"{value:.4g}"
+
+
+def condition_rows(cond: dict[str, object]) -> list[tuple[str, str]]:
+    """Measurement conditions in words: ('source resistance', '20 ohm'), ('band', '20-20000 Hz'), ..."""
+    names = {"rs_ohm": ("source resistance", "{:g} ohm"), "temperature_k": ("source temperature", "{:.2f} K"),
+             "sample_rate_hz": ("sample rate", "{:g} Hz"), "weighting": ("weighting", "{}"),
+             "detector": ("detector", "{}"), "gain_setting": ("gain setting", "{}")}
+    out = []
+    for key, value in cond.items():
+        if key == "band_hz" and isinstance(value, (list, tuple)) and len(value) == 2:
+            out.append(("band", f"{float(value[0]):g}-{float(value[1]):g} Hz"))
+        elif key == "floor_corrected":
+            out.append(("analyzer floor subtracted", "yes" if value else "no"))
+        elif key in names and value is not None:
+            label, fmt = names[key]
+            out.append((label, fmt.format(value)))
+        else:
+            out.append((key, str(value)))
+    return out
