@@ -234,3 +234,14 @@ def test_batch_states_conditions_as_analyze_does_and_refuses_a_disagreement(tmp_
     assert rc == ExitStatus.BAD_INPUT
     assert "source resistance is 150 ohm in the stated --rs but 20 ohm in the sidecar" in captured.out
     assert captured.err.strip().startswith("benchnf: error: 3 unit(s) could not be checked")
+
+
+def test_a_profile_named_with_quotes_and_backslashes_round_trips(tmp_path):
+    # Written by a TOML writer (tomli-w): an f-string once left invalid TOML on disk for such a name.
+    from benchnf.check.profile import load_profile, profile_from_results
+    name = 'bench "A" \\ line 2\ttab'
+    prof = profile_from_results([_results()], margin_db=1.0, name=name)
+    p = tmp_path / "p.toml"
+    p.write_text(prof.to_toml())
+    back = load_profile(p)
+    assert back.name == name and back.limits == prof.limits and back.conditions == prof.conditions

@@ -65,15 +65,18 @@ class ScalarLimit:
         if self.min is not None and self.max is not None and self.min > self.max:
             raise ParameterError(f"limit on {self.key!r}: min {self.min:g} exceeds max {self.max:g}")
 
-    def to_toml(self) -> str:
-        lines = ["[[limit]]", f'key = "{self.key}"']
+    def to_data(self) -> dict[str, Any]:
+        """The limit as a TOML table (target/tolerance for a two-sided limit)."""
+        out: dict[str, Any] = {"key": self.key}
         if self.min is not None and self.max is not None:
-            lines += [f"target = {(self.min + self.max) / 2!r}", f"tolerance = {(self.max - self.min) / 2!r}"]
+            out.update(target=(self.min + self.max) / 2, tolerance=(self.max - self.min) / 2)
+        elif self.min is not None:
+            out["min"] = self.min
         else:
-            lines += [f"min = {self.min!r}"] if self.min is not None else [f"max = {self.max!r}"]
+            out["max"] = self.max
         if self.note:
-            lines.append(f'note = "{self.note}"')
-        return "\n".join(lines)
+            out["note"] = self.note
+        return out
 
 
 @dataclass(frozen=True)
@@ -134,25 +137,18 @@ class Profile:
     source: str = field(default="", compare=False)
 
     def to_toml(self) -> str:
-        """The profile as TOML (round-trips through :func:`load_profile`)."""
-        c = self.conditions
-        lines = [f'schema = "{PROFILE_SCHEMA}"', f'name = "{self.name}"']
+        """The profile as TOML, written by a TOML writer (tomli-w), so any name or note round-trips through
+        :func:`load_profile`."""
+        import tomli_w
+        data: dict[str, Any] = {"schema": PROFILE_SCHEMA, "name": self.name}
         if self.notes:
-            lines.append(f'notes = "{self.notes}"')
-        lines += ["", "[conditions]"]
-        for key in sorted(c):
-            v = c[key]
-            lines.append(f"{key} = " + (f'"{v}"' if isinstance(v, str) else
-                                        ("[" + ", ".join(repr(float(x)) for x in v) + "]"
-                                         if isinstance(v, (list, tuple)) else repr(v))))
-        for lim in self.limits:
-            lines += ["", lim.to_toml()]
-        for m in self.masks:
-            pts = ", ".join(f"[{f!r}, {v!r}]" for f, v in zip(m.frequency_hz, m.limit))
-            lines += ["", "[[mask]]", f'quantity = "{m.quantity}"', f"points = [{pts}]"]
-        for h in self.hum:
-            lines += ["", "[[hum]]", f'family = "{h.family}"', f"max_output_vrms = {h.max_output_vrms!r}"]
-        return "\n".join(lines) + "\n"
+            data["notes"] = self.notes
+        data["conditions"] = {k: (list(v) if isinstance(v, tuple) else v) for k, v in sorted(self.conditions.items())}
+        data["limit"] = [lim.to_data() for lim in self.limits]
+        data["mask"] = [{"quantity": m.quantity, "points": [[f, v] for f, v in zip(m.frequency_hz, m.limit)]}
+                        for m in self.masks]
+        data["hum"] = [{"family": h.family, "max_output_vrms": h.max_output_vrms} for h in self.hum]
+        return tomli_w.dumps({k: v for k, v in data.items() if v != []})
 
 
 def _check_keys(table: dict, allowed: set, where: str) -> None:

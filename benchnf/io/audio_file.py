@@ -132,8 +132,8 @@ def open_capture(path: str | Path, *, channel: int | None = None, condition: str
     if channel is None:
         channel = int(meta.get("channel", 0))
     if not 0 <= channel < info.channels:
-        raise CaptureError(f"{path.name} has {info.channels} channel(s), numbered from 0; "
-                           f"channel {channel} does not exist")
+        raise CaptureError(f"{path.name} has {info.channels} channel(s), numbered from 0; channel {channel} does not "
+                           f"exist: choose one with --channel (0 to {info.channels - 1}) or the sidecar's channel")
     if volts_per_fs is None:
         volts_per_fs = meta.get("volts_per_fs")
     n_frames = int(info.frames)
