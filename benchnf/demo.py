@@ -46,7 +46,9 @@ def run_demo(*, output: Path = Path("benchnf-results"), quiet: bool = False, wri
         result = analyze_gain_method(**inputs)
     out = writer.fresh_folder(Path(output))
     writer.json(out / "calibration.json", cal.to_dict())
-    writer.json(out / "results.json", result.to_dict())
+    from .measure.provenance import provenance
+    read = [src / f"{n}.flac" for n in ("reference", "terminated", "floor", "shorted", "tone", "response")]
+    writer.json(out / "results.json", {**result.to_dict(), "provenance": provenance(read, root=out)})
     summary = format_summary(result)
     writer.text(out / "summary.txt", summary)
     _figures(writer, out, analysis_figures(result))

@@ -53,7 +53,10 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
         print("\n  MARGINAL: within the expanded measurement uncertainty of the limit, on either side: neither a "
               "confident pass nor a proven failure; measure longer or check the setup before deciding.")
     if args.json:
-        writer.json(args.json, res.to_dict())
+        from ..measure.provenance import provenance
+        from ._common import input_paths
+        writer.json(args.json, {**res.to_dict(), "provenance": provenance(input_paths(args),
+                                                                           root=Path(args.json).parent)})
         print(f"\nJSON written to {args.json}")
     if args.report:
         from ..report.html import unit_png, unit_report_html
