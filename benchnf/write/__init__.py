@@ -59,6 +59,16 @@ def _why(err: OSError) -> str:
     return f"{err.strerror or err}"
 
 
+def _lock(fd: int) -> None:
+    """An exclusive advisory lock on `fd` until it is closed (POSIX); where the platform has none
+    (Windows), appends from one station still land whole, each in one write call."""
+    try:
+        import fcntl
+    except ImportError:
+        return
+    fcntl.flock(fd, fcntl.LOCK_EX)
+
+
 class Writer:
     """Writes a run's outputs; knows the run's inputs so it never writes onto one.
 
@@ -230,9 +240,9 @@ class Writer:
         except OSError as err:
             raise OutputError(f"cannot append to {p}: {_why(err)}") from err
         try:
-            import fcntl
-            fcntl.flock(fd, fcntl.LOCK_EX)
-            first = os.pread(fd, len(header.encode()) + 1, 0).decode("utf-8", "replace")
+            _lock(fd)
+            os.lseek(fd, 0, os.SEEK_SET)
+            first = os.read(fd, len(header.encode()) + 1).decode("utf-8", "replace")
             if not first:
                 body = header + "\n" + body
             elif first.rstrip("\r\n") != header:
