@@ -115,7 +115,9 @@ def _analyse(unit: Path, profile: Profile, settings: dict[str, Any]) -> dict[str
         condition_source=f"the profile's conditions (unit {unit.name})")
     from ..measure.provenance import provenance
     inputs = [p for p in (roles["terminated"], roles["tone"], floor, settings.get("calibration")) if p]
-    return {**run_gain_method(request).to_dict(), "provenance": provenance([Path(p) for p in inputs], root=unit)}
+    made = provenance([Path(p) for p in inputs], root=unit, station=settings.get("station"),
+                      operator=settings.get("operator"))
+    return {**run_gain_method(request).to_dict(), "provenance": made}
 
 
 def check_batch(folder: Path, profile_path: str, *, settings: dict[str, Any] | None = None,

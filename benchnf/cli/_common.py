@@ -101,7 +101,9 @@ def write_outputs(args: argparse.Namespace, writer: Writer, data: dict[str, Any]
     """--json and --plot, the same way for every command."""
     if getattr(args, "json", None):
         from ..measure.provenance import provenance
-        data = {**data, "provenance": provenance(input_paths(args), root=Path(args.json).parent)}
+        data = {**data, "provenance": provenance(input_paths(args), root=Path(args.json).parent,
+                                                 station=getattr(args, "station", None),
+                                                 operator=getattr(args, "operator", None))}
         writer.json(args.json, data)
         print(f"\nJSON written to {args.json}")
     if getattr(args, "plot", None) and figures is not None:
@@ -141,8 +143,40 @@ def records_options(p: argparse.ArgumentParser) -> None:
                         "(default: the BENCHNF_RECORDS environment variable; none: nothing is recorded)")
     p.add_argument("--station", metavar="NAME", help="this test station (default BENCHNF_STATION, else the host name)")
     p.add_argument("--operator", metavar="NAME", help="who checks (default BENCHNF_OPERATOR)")
+    station_file_option(p)
+
+
+def station_file_option(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--station-file", type=Path, metavar="STATION.toml",
+                   help="this station's name, operator, records URL and calibration, for what the command line "
+                        "and the BENCHNF_* variables leave unset (default: BENCHNF_STATION_FILE)")
+
+
+def stated_station(args: argparse.Namespace) -> Any:
+    """The station file named by --station-file, else BENCHNF_STATION_FILE, read and checked (a StationFile;
+    an empty one where none is named). The file, when named, becomes one of the command's inputs."""
+    import os
+
+    from ..io.station_file import StationFile, read_station_file
+    named = getattr(args, "station_file", None) or os.environ.get("BENCHNF_STATION_FILE") or None
+    args.station_file = Path(named) if named else None  # an input: its hash goes into the provenance
+    return read_station_file(named) if named else StationFile(path=Path())
+
+
+def settle_station(args: argparse.Namespace) -> None:
+    """Fill what check's or batch's command line left unset: first from BENCHNF_RECORDS, BENCHNF_STATION,
+    BENCHNF_OPERATOR, then from the station file. Its calibration is used only by a command that takes one
+    and was given neither --calibration nor --volts-per-fs."""
+    import os
+    stated = stated_station(args)
+    for key, env in (("records", "BENCHNF_RECORDS"), ("station", "BENCHNF_STATION"),
+                     ("operator", "BENCHNF_OPERATOR")):
+        setattr(args, key, getattr(args, key, None) or os.environ.get(env) or getattr(stated, key))
+    if hasattr(args, "calibration") and args.calibration is None and getattr(args, "volts_per_fs", None) is None:
+        args.calibration = stated.calibration
 
 
 def records_url_of(args: argparse.Namespace) -> str | None:
+    """The records database: --records, else BENCHNF_RECORDS, else the station file's."""
     import os
-    return getattr(args, "records", None) or os.environ.get("BENCHNF_RECORDS") or None
+    return getattr(args, "records", None) or os.environ.get("BENCHNF_RECORDS") or stated_station(args).records

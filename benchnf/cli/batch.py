@@ -8,7 +8,15 @@ from pathlib import Path
 from typing import Any
 
 from ..write import Writer
-from ._common import calibration_options, common_options, progress, records_options, records_url_of, verdict_table
+from ._common import (
+    calibration_options,
+    common_options,
+    progress,
+    records_options,
+    records_url_of,
+    settle_station,
+    verdict_table,
+)
 from ._types import non_negative_hz, positive_ohm, positive_volts, resistor_kelvin, whole_count
 from .status import ExitStatus
 
@@ -52,6 +60,10 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     )
     from ..check.profile import load_profile
     from ..report.html import unit_png, unit_report_html
+    settle_station(args)
+    if args.calibration:
+        from ..calibration import Calibration
+        Calibration.load(args.calibration)  # refused now, in one line, not once per unit
     profile = load_profile(args.profile)
     units = find_units(args.units)
     if args.history:
@@ -68,7 +80,8 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     settings = {"calibration": str(args.calibration) if args.calibration else None,
                 "volts_per_fs": args.volts_per_fs, "floor": str(args.floor) if args.floor else None,
                 "tone_input_vrms": args.tone_input_vrms, "rs_ohm": args.rs, "temperature_k": args.temperature_k,
-                "band_hz": tuple(args.band) if args.band else None, "weighting": args.weighting}
+                "band_hz": tuple(args.band) if args.band else None, "weighting": args.weighting,
+                "station": args.station, "operator": args.operator}
     with progress(len(units), quiet=args.quiet, label="checking") as tick:
         outcomes = check_batch(Path(args.units), str(args.profile), settings=settings, workers=args.workers,
                                progress=tick)

@@ -7,7 +7,7 @@ from pathlib import Path
 from typing import Any
 
 from ..write import Writer
-from ._common import common_options, records_options, records_url_of
+from ._common import common_options, records_options, records_url_of, settle_station
 from .status import ExitStatus
 
 
@@ -29,6 +29,7 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     from ..check.limits import check_results
     from ..check.profile import load_profile
     from ..io.results_json import read_results
+    settle_station(args)
     profile = load_profile(args.profile)
     results = read_results(args.results)
     unit = args.unit or Path(args.results).stem
@@ -55,8 +56,8 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     if args.json:
         from ..measure.provenance import provenance
         from ._common import input_paths
-        writer.json(args.json, {**res.to_dict(), "provenance": provenance(input_paths(args),
-                                                                           root=Path(args.json).parent)})
+        writer.json(args.json, {**res.to_dict(), "provenance": provenance(
+            input_paths(args), root=Path(args.json).parent, station=args.station, operator=args.operator)})
         print(f"\nJSON written to {args.json}")
     if args.report:
         from ..report.html import unit_png, unit_report_html

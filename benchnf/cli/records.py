@@ -9,7 +9,7 @@ from typing import Any
 
 from ..errors import BenchError
 from ..write import Writer
-from ._common import records_url_of
+from ._common import records_url_of, station_file_option
 from ._types import whole_count
 from .status import ExitStatus
 
@@ -18,7 +18,9 @@ def add_parser(sub: Any) -> None:
     p = sub.add_parser("records", help="list, show, export the records of checked units; process capability",
                        description="Reads the records database that check and batch write (--records URL, or "
                                    "BENCHNF_RECORDS).")
-    p.add_argument("--records", metavar="URL", help="records database (default: BENCHNF_RECORDS)")
+    p.add_argument("--records", metavar="URL", help="records database (default: BENCHNF_RECORDS, else the station "
+                                                   "file's)")
+    station_file_option(p)
     p.add_argument("--traceback", action="store_true", help="show the full traceback on errors")
     acts = p.add_subparsers(dest="action", metavar="ACTION", required=True)
     a = acts.add_parser("list", help="one line per check, filtered")
@@ -48,7 +50,8 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     from ..records import connect
     url = records_url_of(args)
     if not url:
-        raise BenchError("give the records database with --records URL (or set BENCHNF_RECORDS)")
+        raise BenchError("give the records database with --records URL (or set BENCHNF_RECORDS, or name it in a "
+                         "station file)")
     store = connect(url, create=args.action == "import-history")
     action = {"list": _list, "show": _show, "export": _export, "capability": _capability, "chart": _chart,
               "import-history": _import_history}[args.action]
