@@ -185,3 +185,68 @@ def test_chart_and_history_import_through_the_command(tmp_path, capsys):
     png = tmp_path / "charts" / "control_ein_dbu.png"
     assert png.stat().st_size > 10_000
     assert main(["records", "--records", db, "chart", "--figure", "nothing", "-o", str(tmp_path / "c2")]) == 2
+
+
+@pytest.fixture()
+def read_only_folder(tmp_path):
+    """A small tmpfs (root only), remounted read-only by the test once it holds what it should."""
+    folder = tmp_path / "archive"
+    folder.mkdir()
+    if os.geteuid() != 0 or subprocess.run(["mount", "-t", "tmpfs", "-o", "size=4m", "tmpfs", str(folder)],
+                                           capture_output=True).returncode != 0:
+        pytest.skip("needs root and mount to make a read-only file system")
+    yield folder
+    subprocess.run(["umount", str(folder)], check=False)
+
+
+def _remount_read_only(folder):
+    subprocess.run(["mount", "-o", "remount,ro", str(folder)], check=True)
+
+
+def test_a_read_only_database_is_read_but_never_written(read_only_folder, tmp_path, capsys):
+    db = read_only_folder / "records.db"
+    store = connect(str(db))
+    for k in range(3):
+        store.add(_record(f"RO-{k}", 1.0 + k))
+    store.close()  # the last connection closes: the write-ahead log is folded in and removed
+    _remount_read_only(read_only_folder)
+    assert main(["records", "--records", str(db), "list"]) == 0
+    assert "3 check(s)" in capsys.readouterr().out
+    assert main(["records", "--records", str(db), "export", "-o", str(tmp_path / "x.csv")]) == 0
+    assert len((tmp_path / "x.csv").read_text().splitlines()) == 4
+    before = db.read_bytes()
+    for argv in (["records", "--records", str(db), "import-history", str(tmp_path / "x.csv")],
+                 ["batch", str(DEMO / "units"), "--profile", str(DEMO / "known_good_profile.toml"),
+                  "--volts-per-fs", "2", "--workers", "1", "--quiet", "-o", str(tmp_path / "out"),
+                  "--records", str(db)]):
+        capsys.readouterr()
+        assert main(argv) == ExitStatus.BAD_INPUT
+        err = capsys.readouterr().err.strip().splitlines()
+        assert len(err) == 1 and "cannot be written" in err[0] and "writable place" in err[0], err
+    assert not (tmp_path / "out").exists()  # refused before any unit was analysed
+    assert db.read_bytes() == before
+
+
+def test_a_read_only_database_with_writes_left_in_its_log_is_refused(read_only_folder, tmp_path, capsys):
+    src = tmp_path / "live.db"
+    store = connect(str(src))
+    store.add(_record("WAL-1", 1.0))
+    with store.engine.connect():  # copy while a connection holds the log open (as a copied live file)
+        shutil.copy(src, read_only_folder / "records.db")
+        shutil.copy(src.with_name("live.db-wal"), read_only_folder / "records.db-wal")
+    store.close()
+    _remount_read_only(read_only_folder)
+    assert main(["records", "--records", str(read_only_folder / "records.db"), "list"]) == ExitStatus.BAD_INPUT
+    assert "still in records.db-wal" in capsys.readouterr().err
+
+
+def test_capability_with_too_few_units_says_so(tmp_path, capsys):
+    db = tmp_path / "r.db"
+    store = connect(str(db))
+    for k in range(3):
+        store.add(_record(f"F-{k}", 1.0 + k))
+    store.close()
+    assert main(["records", "--records", str(db), "capability"]) == ExitStatus.BAD_INPUT
+    captured = capsys.readouterr()
+    assert "needs at least 10 units, the records hold 3" in captured.out
+    assert "no limit has records of 10 or more units" in captured.err

@@ -114,12 +114,13 @@ def _capability(store: Any, args: argparse.Namespace, writer: Writer) -> int:
     from ..errors import ParameterError
     from ..records import capability
     print(f"  {'limit':40s} {'n':>5} {'mean':>10} {'s':>9} {'Cp':>6} {'Cpk':>6} {'Pp':>6} {'Ppk':>6} {'Cpk>=':>6}")
-    shown = 0
+    shown = listed = 0
     for name in store.limit_names():
         rows = store.measured_values(name)
         bounded = [r for r in rows if r["lower"] is not None or r["upper"] is not None]
         if not bounded:
             continue
+        listed += 1
         hashes = {r["profile_sha256"] for r in bounded}
         lsl, usl = bounded[-1]["lower"], bounded[-1]["upper"]
         try:
@@ -131,8 +132,11 @@ def _capability(store: Any, args: argparse.Namespace, writer: Writer) -> int:
         print(f"  {name[:40]:40s} {c.n:5d} {c.mean:10.4g} {c.sigma_overall:9.3g} {_fmt(c.cp):>6} {c.cpk:6.2f} "
               f"{_fmt(c.pp):>6} {c.ppk:6.2f} {c.cpk_lower95:6.2f}{note}")
         shown += 1
-    if not shown:
+    if not listed:
         raise BenchError("no limit with numeric bounds has records: check units against a profile first")
+    if not shown:
+        raise BenchError(f"no limit has records of {args.min_units} or more units (--min-units): the lines above "
+                         f"say how many each has")
     print("\n  Cp, Cpk from the moving range (within); Pp, Ppk from the overall s; Cpk>= is its lower 95 % bound")
     return ExitStatus.OK
 

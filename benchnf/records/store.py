@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import datetime as _dt
 import json
+import os
 import uuid
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass, field
@@ -195,16 +196,47 @@ def _shown(url: str) -> str:
     return url
 
 
-def _sqlite_pragmas(engine: Any) -> None:
+def _sqlite_pragmas(engine: Any, *, read_only: bool) -> None:
     from sqlalchemy import event
 
     @event.listens_for(engine, "connect")
     def _on_connect(dbapi_conn: Any, _record: Any) -> None:
         cur = dbapi_conn.cursor()
-        cur.execute("PRAGMA journal_mode=WAL")
+        if not read_only:
+            cur.execute("PRAGMA journal_mode=WAL")
         cur.execute("PRAGMA busy_timeout=30000")
         cur.execute("PRAGMA foreign_keys=ON")
         cur.close()
+
+
+def _writable(path: Path) -> bool:
+    """Whether SQLite can write the database here: the file (if any) and its folder (for the WAL files)."""
+    return os.access(path.parent, os.W_OK) and (not path.exists() or os.access(path, os.W_OK))
+
+
+def _read_only_url(path: Path) -> str:
+    """A URL that opens `path` for reading only, without the WAL files SQLite cannot make on a read-only
+    folder (an archive on a read-only share or medium: nobody writes it while it is read)."""
+    from urllib.parse import quote
+    return f"sqlite:///file:{quote(str(path.resolve()))}?mode=ro&immutable=1&uri=true"
+
+
+def _sqlite_file(path: Path, url: str, *, create: bool) -> tuple[str, bool]:
+    """Check an SQLite file before opening it: (the URL to open, whether it is opened for reading only)."""
+    if not path.parent.is_dir():
+        raise RecordsError(f"the folder of the records database {path} does not exist: create it first")
+    if not create and not path.is_file():
+        raise RecordsError(f"no records database at {path}: check or batch with --records make one")
+    if _writable(path):
+        return url, False
+    if create:
+        raise RecordsError(f"the records database {path} cannot be written (the file or its folder is "
+                           f"read-only): give --records a writable place")
+    wal = path.with_name(path.name + "-wal")
+    if wal.is_file() and wal.stat().st_size > 0:
+        raise RecordsError(f"the records database {path} is read-only and its last writes are still in "
+                           f"{wal.name}: open it once where it can be written, then read it here")
+    return _read_only_url(path), True
 
 
 def connect(url_or_path: str | Path, *, create: bool = True) -> Store:
@@ -212,12 +244,9 @@ def connect(url_or_path: str | Path, *, create: bool = True) -> Store:
     from .._optional import require
     sa = require("sqlalchemy", extra="records", purpose="the records store")
     url = records_url(url_or_path)
+    read_only = False
     if url.startswith("sqlite:///"):
-        path = Path(url[len("sqlite:///"):])
-        if not path.parent.is_dir():
-            raise RecordsError(f"the folder of the records database {path} does not exist: create it first")
-        if not create and not path.is_file():
-            raise RecordsError(f"no records database at {path}: check or batch with --records make one")
+        url, read_only = _sqlite_file(Path(url[len("sqlite:///"):]), url, create=create)
     elif url.startswith("postgresql+psycopg://"):
         require("psycopg", extra="records", purpose="a PostgreSQL records store")
     try:
@@ -227,7 +256,7 @@ def connect(url_or_path: str | Path, *, create: bool = True) -> Store:
         raise RecordsError(f"{_shown(str(url_or_path))} is not a records URL (give a file path, sqlite:///FILE or "
                            f"postgresql://USER@HOST/DB): {_first_line(err)}") from err
     if url.startswith("sqlite"):
-        _sqlite_pragmas(engine)
+        _sqlite_pragmas(engine, read_only=read_only)
     store = Store(engine, url)
     _prepare(store, create=create)
     return store
