@@ -17,3 +17,23 @@ def pytest_collection_modifyitems(config, items):
     for item in items:
         if "hardware" in item.keywords:
             item.add_marker(skip)
+
+
+@pytest.fixture()
+def mount_tmpfs(tmp_path):
+    """Make a folder a small tmpfs of the given size (root only; skips otherwise); unmounted after the test."""
+    import subprocess
+    mounted = []
+
+    def make(name: str, size: str):
+        folder = tmp_path / name
+        folder.mkdir()
+        if os.geteuid() != 0 or subprocess.run(["mount", "-t", "tmpfs", "-o", f"size={size}", "tmpfs", str(folder)],
+                                               capture_output=True).returncode != 0:
+            pytest.skip("needs root and mount to make a small file system")
+        mounted.append(folder)
+        return folder
+
+    yield make
+    for folder in mounted:
+        subprocess.run(["umount", str(folder)], check=False)

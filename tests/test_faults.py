@@ -6,7 +6,6 @@ changed, added or removed). The bench is seeded synthetic data (INVENTED DATA).
 """
 
 import hashlib
-import os
 import shutil
 import sys
 from pathlib import Path
@@ -78,16 +77,9 @@ def test_sigmf_base_name_with_a_dot_reads_its_own_files(tmp_path):
 
 
 @pytest.fixture()
-def small_disk(tmp_path):
+def small_disk(mount_tmpfs):
     """A 96 KiB tmpfs (root only): the disk fills while plots are written."""
-    import subprocess
-    folder = tmp_path / "small"
-    folder.mkdir()
-    if os.geteuid() != 0 or subprocess.run(["mount", "-t", "tmpfs", "-o", "size=96k", "tmpfs", str(folder)],
-                                           capture_output=True).returncode != 0:
-        pytest.skip("needs root and mount to make a small file system")
-    yield folder
-    subprocess.run(["umount", str(folder)], check=False)
+    return mount_tmpfs("small", "96k")
 
 
 def test_a_full_disk_gives_one_line_and_leaves_nothing_behind(base, small_disk, tmp_path, capsys):

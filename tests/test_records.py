@@ -188,15 +188,9 @@ def test_chart_and_history_import_through_the_command(tmp_path, capsys):
 
 
 @pytest.fixture()
-def read_only_folder(tmp_path):
+def read_only_folder(mount_tmpfs):
     """A small tmpfs (root only), remounted read-only by the test once it holds what it should."""
-    folder = tmp_path / "archive"
-    folder.mkdir()
-    if os.geteuid() != 0 or subprocess.run(["mount", "-t", "tmpfs", "-o", "size=4m", "tmpfs", str(folder)],
-                                           capture_output=True).returncode != 0:
-        pytest.skip("needs root and mount to make a read-only file system")
-    yield folder
-    subprocess.run(["umount", str(folder)], check=False)
+    return mount_tmpfs("archive", "4m")
 
 
 def _remount_read_only(folder):
