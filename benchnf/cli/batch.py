@@ -102,6 +102,7 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
         for o in outcomes:
             store.add(check_record(o.check, serial=o.serial, verdict=o.verdict, results=o.results, profile=profile,
                                    station=args.station, operator=args.operator))
+        store.close()
         print(f"{len(outcomes)} units recorded in {url}")
     counts = {k: sum(o.verdict == k for o in outcomes) for k in ("PASS", "MARGINAL", "FAIL", "ERROR")}
     print(f"benchnf - {len(outcomes)} units against profile {profile.name!r}\n")

@@ -71,6 +71,7 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
         from ..records.entry import check_record
         store.add(check_record(res.to_dict(), serial=unit, verdict=res.verdict, results=results, profile=profile,
                                station=args.station, operator=args.operator))
+        store.close()
         print(f"recorded in {url}")
     return ExitStatus.CHECK_FAILED if res.failed else ExitStatus.OK
 

@@ -55,7 +55,10 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     store = connect(url, create=args.action == "import-history")
     action = {"list": _list, "show": _show, "export": _export, "capability": _capability, "chart": _chart,
               "import-history": _import_history}[args.action]
-    return action(store, args, writer)
+    try:
+        return action(store, args, writer)
+    finally:
+        store.close()
 
 
 def _fmt(v: Any) -> str:
