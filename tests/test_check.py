@@ -146,6 +146,11 @@ def test_batch_of_synthetic_units_with_known_faults(tmp_path, capsys):
     junit = (out / "junit.xml").read_text()
     assert 'tests="4" failures="2" errors="1"' in junit
     assert "lacks its terminated and tone" in junit
+    import xml.etree.ElementTree as ET
+    suite = ET.fromstring(junit)
+    times = {case.get("name"): float(case.get("time")) for case in suite.iter("testcase")}
+    assert set(times) == set(rows) and times["U1-good"] > 0.0  # an analysed unit takes measurable time
+    assert float(suite.get("time")) == pytest.approx(sum(times.values()), abs=0.002)
     for serial in rows:
         assert (out / f"{serial}.html").is_file()
     again = ["batch", str(units), "--profile", str(tmp_path / "p.toml"), "--floor", str(tmp_path / "floor.wav"),

@@ -42,6 +42,7 @@ class UnitOutcome:
     error: str | None
     check: dict[str, Any] | None
     results: dict[str, Any] | None
+    seconds: float = 0.0  # how long the unit took to analyse and check
 
     def figure(self, key: str) -> Any:
         return (self.results or {}).get(key)
@@ -77,7 +78,15 @@ def _role_files(unit: Path) -> dict[str, Path]:
 
 
 def check_unit(unit: Path, profile_path: str, settings: dict[str, Any]) -> UnitOutcome:
-    """Analyse (if needed) and check one unit; never raises for the unit's own problems."""
+    """Analyse (if needed) and check one unit, timed; never raises for the unit's own problems."""
+    import dataclasses
+    import time
+    start = time.perf_counter()
+    outcome = _check_unit(unit, profile_path, settings)
+    return dataclasses.replace(outcome, seconds=time.perf_counter() - start)
+
+
+def _check_unit(unit: Path, profile_path: str, settings: dict[str, Any]) -> UnitOutcome:
     serial = unit.name
     try:
         profile = load_profile(profile_path)
@@ -194,9 +203,10 @@ def junit_xml(outcomes: list[UnitOutcome], *, profile: str) -> str:
     stamp = _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
     lines = ['<?xml version="1.0" encoding="UTF-8"?>',
              f'<testsuite name={quoteattr("benchnf check " + profile)} tests="{len(outcomes)}" '
-             f'failures="{failures}" errors="{errors}" timestamp="{stamp}" hostname={quoteattr(socket.gethostname())}>']
+             f'failures="{failures}" errors="{errors}" time="{sum(o.seconds for o in outcomes):.3f}" '
+             f'timestamp="{stamp}" hostname={quoteattr(socket.gethostname())}>']
     for o in outcomes:
-        lines.append(f'  <testcase classname="benchnf.check" name={quoteattr(o.serial)}>')
+        lines.append(f'  <testcase classname="benchnf.check" name={quoteattr(o.serial)} time="{o.seconds:.3f}">')
         if o.verdict == "FAIL" and o.check is not None:
             failed = [v for v in o.check["limits"] if v["verdict"] == "FAIL"]
             text = "; ".join(f"{v['name']}: {_measured_text(v)} vs {v['limit']}" for v in failed)

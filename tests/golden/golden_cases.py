@@ -107,6 +107,7 @@ def normalise(text: str, tmp: Path) -> str:
     text = re.sub(r'("file": "(?!<DEMO>)[^"]*\.json",\s*"sha256": ")[0-9a-f]{64}', r"\1<HASH>", text)
     text = text.replace(f'"station": "{socket.gethostname()}"', '"station": "<HOST>"')
     text = text.replace(f'hostname="{socket.gethostname()}"', 'hostname="<HOST>"')
+    text = re.sub(r' time="\d+\.\d{3}"', ' time="<SECONDS>"', text)  # JUnit: how long each unit took
     return _STAMP.sub("<TIME>", text)
 
 
