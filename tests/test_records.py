@@ -244,3 +244,31 @@ def test_capability_with_too_few_units_says_so(tmp_path, capsys):
     captured = capsys.readouterr()
     assert "needs at least 10 units, the records hold 3" in captured.out
     assert "no limit has records of 10 or more units" in captured.err
+
+
+def test_parquet_export_holds_what_the_csv_holds_at_full_precision(tmp_path, monkeypatch):
+    """Read back with pyarrow (the reference reader of the format)."""
+    pq = pytest.importorskip("pyarrow.parquet")
+    db = tmp_path / "r.db"
+    store = connect(str(db))
+    for k in range(4):
+        store.add(_record(f"PQ-{k}", 1.0 + k / 3, n_limits=2 + k % 2))  # some checks lack figure_2
+    store.close()
+    assert main(["records", "--records", str(db), "export", "-o", str(tmp_path / "x.csv")]) == 0
+    assert main(["records", "--records", str(db), "export", "-o", str(tmp_path / "x.parquet")]) == 0
+    table = pq.read_table(tmp_path / "x.parquet")
+    import csv
+    with open(tmp_path / "x.csv", newline="") as f:
+        rows = list(csv.DictReader(f))
+    assert table.column_names == list(rows[0])
+    assert str(table.schema.field("checked_at").type) == "timestamp[us, tz=UTC]"
+    got = table.to_pylist()
+    assert [r["serial"] for r in got] == [r["serial"] for r in rows] == ["PQ-0", "PQ-1", "PQ-2", "PQ-3"]
+    assert [r["figure_0"] for r in got] == [1.0 + k / 3 for k in range(4)]  # not rounded as the CSV is
+    assert [r["figure_2"] is None for r in got] == [True, False, True, False]
+    assert [r["checked_at"].isoformat() for r in got] == [r["checked_at"] for r in rows]
+    monkeypatch.setitem(sys.modules, "pyarrow", None)  # as on a machine without it
+    monkeypatch.setitem(sys.modules, "pyarrow.parquet", None)
+    assert main(["records", "--records", str(db), "export", "-o", str(tmp_path / "y.parquet")]) \
+        == ExitStatus.MISSING_DEPENDENCY
+    assert not (tmp_path / "y.parquet").exists()

@@ -31,9 +31,10 @@ def add_parser(sub: Any) -> None:
     a.add_argument("--until", metavar="ISO-TIME")
     a = acts.add_parser("show", help="one unit's history: every check and what changed between them")
     a.add_argument("serial", metavar="SERIAL")
-    a = acts.add_parser("export", help="one row per check, one column per limit (CSV)")
-    a.add_argument("-o", "--output", type=Path, required=True, metavar="FILE.csv")
-    a.add_argument("--overwrite", action="store_true", help="replace FILE.csv if it exists")
+    a = acts.add_parser("export", help="one row per check, one column per limit (CSV, or Parquet for "
+                                       "FILE.parquet where pyarrow is installed)")
+    a.add_argument("-o", "--output", type=Path, required=True, metavar="FILE.csv|FILE.parquet")
+    a.add_argument("--overwrite", action="store_true", help="replace the file if it exists")
     a = acts.add_parser("chart", help="individuals and moving-range control chart of one figure, as PNG")
     a.add_argument("--figure", required=True, metavar="KEY", help="a limit's name, e.g. ein_dbu")
     a.add_argument("-o", "--output", type=Path, required=True, metavar="DIR")
@@ -95,20 +96,17 @@ def _show(store: Any, args: argparse.Namespace, writer: Writer) -> int:
 
 
 def _export(store: Any, args: argparse.Namespace, writer: Writer) -> int:
-    import csv
-    import io
-
     from ..records.store import iter_export_rows
     rows = list(iter_export_rows(store))
     columns: list[str] = []
     for r in rows:
         columns += [k for k in r if k not in columns]
-    buf = io.StringIO()
-    w = csv.DictWriter(buf, fieldnames=columns)
-    w.writeheader()
-    for r in rows:
-        w.writerow({k: (format(v, ".6g") if isinstance(v, float) else v) for k, v in r.items()})
-    writer.text(args.output, buf.getvalue())
+    if Path(args.output).suffix.lower() == ".parquet":
+        from ..records.export import parquet_bytes
+        writer.bytes(args.output, parquet_bytes(rows, columns))
+    else:
+        from ..records.export import csv_text
+        writer.text(args.output, csv_text(rows, columns))
     print(f"{len(rows)} check(s) written to {args.output}")
     return ExitStatus.OK
 
