@@ -103,8 +103,12 @@ def _stage_demos(src: Path, out: Path, cal, writer: Writer) -> list[str]:
         captures=tuple((src / f"{name}.flac", rs, None) for name, rs in (("shorted", 0.0), ("terminated", 20.0),
                                                                           ("rs_100", 100.0), ("rs_1000", 1000.0))),
         tone=src / "tone.flac", floor=src / "floor.flac", options=options))
-    writer.json(out / "budget.json", budget.to_dict())
-    writer.json(out / "eni.json", eni.to_dict())
+    from .measure.provenance import provenance
+    taps = [src / f"{n}.flac" for n in ("tap1", "tap1_tone", "tap2", "tap2_tone", "terminated", "tone", "floor")]
+    writer.json(out / "budget.json", {**budget.to_dict(), "provenance": provenance(
+        [*taps, src / "head_amp_chain.toml", src / "reference.flac"], root=out)})
+    sweep = [src / f"{n}.flac" for n in ("shorted", "terminated", "rs_100", "rs_1000", "tone", "floor", "reference")]
+    writer.json(out / "eni.json", {**eni.to_dict(), "provenance": provenance(sweep, root=out)})
     _figures(writer, out, budget_figures(budget) + eni_figures(eni))
     return ["", format_budget(budget), format_eni(eni)]
 
@@ -157,8 +161,12 @@ def _yfactor_demos(src: Path, out: Path, truth: dict, writer: Writer) -> list[st
     bath = analyze_yfactor(hot=open_capture(src / "bath_hot.flac"), cold=open_capture(src / "bath_cold.flac"),
                            floor=open_capture(src / "bath_floor.flac"),
                            source=HotColdSource(t_hot_k=a["t_hot_k"], t_cold_k=a["t_cold_k"]), n_rows=6)
+    from .measure.provenance import provenance
+    read = {"vhf": [*(src / f"vhf_{n}.sigmf-{h}" for n in ("hot", "cold", "cal_hot", "cal_cold") for h in ("meta", "data")),
+                    src / "noise_source_enr.toml"],
+            "bath": [src / f"bath_{n}.flac" for n in ("hot", "cold", "floor")]}
     for name, res in (("vhf", vhf), ("bath", bath)):
-        writer.json(out / f"yfactor_{name}.json", res.to_dict())
+        writer.json(out / f"yfactor_{name}.json", {**res.to_dict(), "provenance": provenance(read[name], root=out)})
         writer.text(out / f"yfactor_{name}.txt", format_yfactor(res))
         _figures(writer, out, yfactor_figures(res, name=f"yfactor_{name}.png"))
     v = truth["yfactor_vhf"]

@@ -13,6 +13,7 @@ import subprocess
 import sys
 import threading
 import time
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -211,6 +212,8 @@ tone_input_vrms = 0.001
     assert seen == ["floor.wav", "terminated.wav", "tone.wav"]
     results = json.loads((tmp_path / "run" / "results.json").read_text())
     assert results["floor_corrected"] is True and results["gain_db"] > 30
+    named = {i["file"] for i in results["provenance"]["inputs"]}  # the plan and each capture with its sidecar
+    assert {"floor.wav", "terminated.wav", "tone.wav", "tone.json"} <= named and plan.name in {Path(n).name for n in named}
 
 
 def test_missing_portaudio_gives_exit_3(monkeypatch, capsys):

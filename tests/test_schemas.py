@@ -44,6 +44,7 @@ def test_every_results_json_validates(written):
         if "schema_version" not in data:
             continue
         (analysis if data.get("kind") == "analysis" else other).validate(data)
+        assert "provenance" in data, path  # every results JSON says where it came from
         checked += 1
     assert checked >= 8
 

@@ -124,7 +124,8 @@ def _analyse(unit: Path, profile: Profile, settings: dict[str, Any]) -> dict[str
         condition_source=f"the profile's conditions (unit {unit.name})")
     from ..measure.provenance import provenance
     inputs = [p for p in (roles["terminated"], roles["tone"], floor, settings.get("calibration")) if p]
-    made = provenance([Path(p) for p in inputs], root=unit, station=settings.get("station"),
+    root = Path(settings["relative_to"]) if settings.get("relative_to") else unit
+    made = provenance([Path(p) for p in inputs], root=root, station=settings.get("station"),
                       operator=settings.get("operator"))
     return {**run_gain_method(request).to_dict(), "provenance": made}
 

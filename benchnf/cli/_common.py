@@ -15,15 +15,16 @@ from typing import Any
 from ..write import Writer
 from ._types import (
     channel_index,
+    existing_folder,
     non_negative_hz,
     positive_hz,
     positive_volts,
     segment_samples,
 )
 
-# Attributes of a parsed command line that name files benchnf writes (everything else that is a path
-# is an input, protected by the writer).
-OUTPUT_OPTIONS = ("json", "plot", "output", "report", "history", "out_dir", "spectra")
+# Attributes of a parsed command line that name files benchnf writes, or a folder it only names files
+# relative to (everything else that is a path is an input, protected by the writer).
+OUTPUT_OPTIONS = ("json", "plot", "output", "report", "history", "out_dir", "spectra", "relative_to")
 
 
 def input_paths(args: argparse.Namespace) -> list[Path]:
@@ -101,7 +102,8 @@ def write_outputs(args: argparse.Namespace, writer: Writer, data: dict[str, Any]
     """--json and --plot, the same way for every command."""
     if getattr(args, "json", None):
         from ..measure.provenance import provenance
-        data = {**data, "provenance": provenance(input_paths(args), root=Path(args.json).parent,
+        root = getattr(args, "relative_to", None) or Path(args.json).parent
+        data = {**data, "provenance": provenance(input_paths(args), root=root,
                                                  station=getattr(args, "station", None),
                                                  operator=getattr(args, "operator", None))}
         writer.json(args.json, data)
@@ -125,9 +127,16 @@ def sweep_options(p: argparse.ArgumentParser, *, band_default: tuple[float, floa
 
 def output_options(p: argparse.ArgumentParser, *, plot: bool = True) -> None:
     p.add_argument("--json", type=Path, metavar="OUT.json", help="write the results as JSON")
+    relative_to_option(p)
     if plot:
         p.add_argument("--plot", type=Path, metavar="DIR", help="write PNG plots into DIR")
     common_options(p)
+
+
+def relative_to_option(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--relative-to", type=existing_folder, metavar="DIR",
+                   help="name the input files in the results' provenance relative to DIR (default: the folder "
+                        "of the results file)")
 
 
 def device_options(q: argparse.ArgumentParser) -> None:

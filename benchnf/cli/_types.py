@@ -5,11 +5,12 @@ from __future__ import annotations
 import argparse
 import math
 from collections.abc import Callable
+from pathlib import Path
 
 __all__ = ["positive_ohm", "positive_volts", "positive_hz", "non_negative_hz", "kelvin", "non_negative_pct",
            "finite_db", "channel_index", "segment_samples", "positive_seconds", "channel_count", "resistor_kelvin",
            "celsius", "gain_db", "source_ohm", "update_rate", "finite_number", "positive_db", "fraction",
-           "whole_count", "loss_db", "mains_hz"]
+           "whole_count", "loss_db", "mains_hz", "existing_folder"]
 
 
 def _number(text: str, what: str, ok: Callable[[float], bool], units: tuple[str, ...] = ()) -> float:
@@ -92,6 +93,13 @@ def positive_db(text: str) -> float:
 
 def fraction(text: str) -> float:
     return _number(text, "a fraction from 0 to 0.45", lambda v: 0 <= v <= 0.45)
+
+
+def existing_folder(text: str) -> Path:
+    path = Path(text)
+    if not path.is_dir():
+        raise argparse.ArgumentTypeError(f"{text!r} is not an existing folder")
+    return path
 
 
 def whole_count(text: str) -> int:

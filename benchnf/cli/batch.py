@@ -14,6 +14,7 @@ from ._common import (
     progress,
     records_options,
     records_url_of,
+    relative_to_option,
     settle_station,
     verdict_table,
 )
@@ -44,6 +45,7 @@ def add_parser(sub: Any) -> None:
     p.add_argument("--history", type=Path, metavar="FILE", help="history CSV to append to (default DIR/history.csv)")
     p.add_argument("--workers", type=whole_count, metavar="N", help="parallel processes (default: the cores)")
     calibration_options(p)
+    relative_to_option(p)
     records_options(p)
     common_options(p)
     p.set_defaults(run=run)
@@ -81,7 +83,8 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
                 "volts_per_fs": args.volts_per_fs, "floor": str(args.floor) if args.floor else None,
                 "tone_input_vrms": args.tone_input_vrms, "rs_ohm": args.rs, "temperature_k": args.temperature_k,
                 "band_hz": tuple(args.band) if args.band else None, "weighting": args.weighting,
-                "station": args.station, "operator": args.operator}
+                "station": args.station, "operator": args.operator,
+                "relative_to": str(args.relative_to) if args.relative_to else None}
     with progress(len(units), quiet=args.quiet, label="checking") as tick:
         outcomes = check_batch(Path(args.units), str(args.profile), settings=settings, workers=args.workers,
                                progress=tick)

@@ -8,7 +8,7 @@ from typing import Any
 
 from ..errors import BenchError
 from ..write import Writer
-from ._common import common_options
+from ._common import common_options, relative_to_option, write_outputs
 from ._types import positive_db
 from .status import ExitStatus
 
@@ -25,6 +25,7 @@ def add_parser(sub: Any) -> None:
                    help="swap one stage's data: --what-if STAGE KEY=VALUE ..., keys gain, nf, te, loss, temperature_k, "
                         "en, in, output_ohm (or their full names), e.g. --what-if 2 nf=1.2 or --what-if 1 en=0.3n")
     p.add_argument("--json", type=Path, metavar="OUT.json")
+    relative_to_option(p)
     common_options(p)
     p.set_defaults(run=run)
 
@@ -59,6 +60,5 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
                 "where_to_spend": [{"stage": n, "noise_figure_saving_db": v} for n, v in spend]}
         if alternative:
             data["what_if"] = {"change": alternative[0], **alternative[1].to_dict()}
-        writer.json(args.json, data)
-        print(f"\nJSON written to {args.json}")
+        write_outputs(args, writer, data)
     return ExitStatus.OK

@@ -7,7 +7,7 @@ from pathlib import Path
 from typing import Any
 
 from ..write import Writer
-from ._common import common_options, records_options, records_url_of, settle_station
+from ._common import common_options, records_options, records_url_of, relative_to_option, settle_station
 from .status import ExitStatus
 
 
@@ -20,6 +20,7 @@ def add_parser(sub: Any) -> None:
     p.add_argument("--unit", metavar="SERIAL", help="the unit's name (default: the file name)")
     p.add_argument("--report", type=Path, metavar="DIR", help="write an HTML report and a PNG summary")
     p.add_argument("--json", type=Path, metavar="OUT.json")
+    relative_to_option(p)
     records_options(p)
     common_options(p)
     p.set_defaults(run=run)
@@ -57,7 +58,8 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
         from ..measure.provenance import provenance
         from ._common import input_paths
         writer.json(args.json, {**res.to_dict(), "provenance": provenance(
-            input_paths(args), root=Path(args.json).parent, station=args.station, operator=args.operator)})
+            input_paths(args), root=args.relative_to or Path(args.json).parent, station=args.station,
+            operator=args.operator)})
         print(f"\nJSON written to {args.json}")
     if args.report:
         from ..report.html import unit_png, unit_report_html

@@ -58,6 +58,8 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
             band_hz=tuple(a["band_hz"]) if a.get("band_hz") else None, weighting=a.get("weighting")))
         print()
         print(format_summary(result), end="")
-        writer.json(folder / "results.json", result.to_dict())
+        from ..measure.provenance import provenance
+        read = [args.plan, *files.values(), *([Path(a["calibration"])] if a.get("calibration") else [])]
+        writer.json(folder / "results.json", {**result.to_dict(), "provenance": provenance(read, root=folder)})
         print(f"\nresults written to {folder / 'results.json'}")
     return ExitStatus.OK

@@ -1,10 +1,12 @@
-"""Where a result came from, for the record: software, time, station, operator, and each input file with
-its SHA-256, named relative to the folder of the results file (so a results folder moved together with
-its captures still names them)."""
+"""Where a result came from, for the record: software, time, station, operator, each input file with its
+SHA-256 and the identity of each calibration used, files named relative to a root: the folder of the
+results file unless the user states another (so a results folder moved together with its captures still
+names them)."""
 
 from __future__ import annotations
 
 import datetime as _dt
+import json
 import os
 import socket
 from collections.abc import Iterable
@@ -34,8 +36,26 @@ def provenance(inputs: Iterable[Path], *, root: Path, station: str | None = None
         for extra in (Path(p).with_suffix(".json"), Path(p).with_name(Path(p).name + ".json")):
             if Path(p).suffix.lower() not in (".json", ".toml") and extra.is_file():
                 seen.setdefault(extra.resolve())  # a capture's sidecar is part of what was read
-    return {"software": f"benchnf {__version__}",
-            "created_utc": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
-            "station": station or os.environ.get("BENCHNF_STATION") or socket.gethostname(),
-            "operator": operator or os.environ.get("BENCHNF_OPERATOR"),
-            "inputs": [{"file": _name(p, root), "sha256": sha256_of(p)} for p in seen]}
+    block = {"software": f"benchnf {__version__}",
+             "created_utc": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
+             "station": station or os.environ.get("BENCHNF_STATION") or socket.gethostname(),
+             "operator": operator or os.environ.get("BENCHNF_OPERATOR"),
+             "inputs": [{"file": _name(p, root), "sha256": sha256_of(p)} for p in seen]}
+    calibrations = [c for c in (_calibration(p, root) for p in seen) if c]
+    return {**block, "calibrations": calibrations} if calibrations else block
+
+
+def _calibration(path: Path, root: Path) -> dict[str, Any] | None:
+    """A calibration file's identity (name, SHA-256, when it was made, its volts per full scale), or None
+    for any other input."""
+    from ..calibration import CALIBRATION_SCHEMA
+    if path.suffix.lower() != ".json":
+        return None
+    try:
+        data = json.loads(path.read_text(encoding="utf-8"))
+    except (OSError, UnicodeDecodeError, ValueError):
+        return None
+    if not isinstance(data, dict) or data.get("schema") != CALIBRATION_SCHEMA:
+        return None
+    return {"file": _name(path, root), "sha256": sha256_of(path), "made_at": data.get("made_at"),
+            "volts_per_fs": data.get("volts_per_fs")}
