@@ -9,6 +9,7 @@ missing server is a failure, not a skip.
 import math
 import multiprocessing as mp
 import os
+import re
 import shutil
 import signal
 import subprocess
@@ -185,6 +186,27 @@ def test_chart_and_history_import_through_the_command(tmp_path, capsys):
     png = tmp_path / "charts" / "control_ein_dbu.png"
     assert png.stat().st_size > 10_000
     assert main(["records", "--records", db, "chart", "--figure", "nothing", "-o", str(tmp_path / "c2")]) == 2
+
+
+def test_the_chart_page_shows_the_chart_its_limits_and_each_broken_rule(tmp_path):
+    """Seeded synthetic values (INVENTED DATA): 12 in control, then the last 8 shifted up by 3 sigma."""
+    from benchnf.records.charts import control_chart
+    db = tmp_path / "r.db"
+    store = connect(str(db))
+    rng = np.random.default_rng(4)
+    values = list(rng.normal(0.0, 0.1, 12)) + list(rng.normal(0.3, 0.1, 8))
+    for k, v in enumerate(values):
+        store.add(_record(f"C-{k:02d}", v, n_limits=1))
+        time.sleep(0.002)  # distinct times keep the order
+    store.close()
+    assert main(["records", "--records", str(db), "chart", "--figure", "figure_0", "-o", str(tmp_path / "c")]) == 0
+    page = (tmp_path / "c" / "control_figure_0.html").read_text()
+    assert "data:image/png;base64," in page and "RULES BROKEN" in page
+    chart = control_chart(values)
+    assert chart.signals  # the shift breaks at least one rule
+    listed = re.findall(r"<td>\d+</td><td>(C-\d\d)</td>", page)
+    assert listed == [f"C-{i:02d}" for i, _rule in chart.signals]
+    assert f"<td>{chart.upper:.6g}</td>" in page and f"<td>{chart.mr_upper:.6g}</td>" in page
 
 
 @pytest.fixture()

@@ -153,10 +153,23 @@ def _chart(store: Any, args: argparse.Namespace, writer: Writer) -> int:
     folder = writer.folder(args.output)
     for name, fig in control_chart_figures(chart, figure=args.figure):
         path = writer.figure(writer.child(folder, name.replace(" ", "_").replace("/", "_")), fig)
-        print(f"control chart of {args.figure} over {len(chart.values)} units written to {path}")
+        page = writer.text(path.with_suffix(".html"), _chart_page(chart, rows, args, png=path.read_bytes()))
+        print(f"control chart of {args.figure} over {len(chart.values)} units written to {path} and {page.name}")
     for i, rule in chart.signals:
         print(f"  unit {rows[i]['serial']} ({rows[i]['checked_at']}) breaks run rule {rule}")
     return ExitStatus.OK
+
+
+def _chart_page(chart: Any, rows: list[dict[str, Any]], args: argparse.Namespace, *, png: bytes) -> str:
+    import datetime as _dt
+
+    from .. import __version__
+    from ..records.store import shown_url
+    from ..report.html import control_chart_html
+    from ._common import records_url_of
+    return control_chart_html(chart, figure=args.figure, rows=rows, png=png,
+                              source=shown_url(records_url_of(args) or ""), software=f"benchnf {__version__}",
+                              made_utc=_dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"))
 
 
 _HISTORY_FIGURES = ("gain_db", "ein_dbu", "noise_figure_db", "nf_at_1khz_db", "flicker_corner_hz")

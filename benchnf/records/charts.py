@@ -17,7 +17,11 @@ from dataclasses import dataclass
 
 from ..errors import ParameterError
 
-__all__ = ["ControlChart", "control_chart", "E2", "D4"]
+__all__ = ["ControlChart", "control_chart", "E2", "D4", "RUN_RULES"]
+
+#: Each run rule's number and what it says, as shown in reports.
+RUN_RULES = {1: "a point beyond 3 sigma", 2: "two of three points beyond 2 sigma on one side",
+             3: "four of five points beyond 1 sigma on one side", 4: "eight points in a row on one side of the centre"}
 
 E2 = 2.660
 D4 = 3.267

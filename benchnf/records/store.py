@@ -21,7 +21,7 @@ from typing import Any
 
 from ..errors import BenchError
 
-__all__ = ["SCHEMA_VERSION", "RecordsError", "CheckRecord", "LimitRow", "Store", "connect", "records_url"]
+__all__ = ["SCHEMA_VERSION", "RecordsError", "CheckRecord", "LimitRow", "Store", "connect", "records_url", "shown_url"]
 
 SCHEMA_VERSION = 1
 
@@ -123,7 +123,7 @@ class Store:
         except sa.exc.IntegrityError:
             return False  # the same record written by a retry that raced this one
         except sa.exc.SQLAlchemyError as err:
-            raise RecordsError(f"cannot write to the records database {_shown(self.url)}: {_first_line(err)}") from err
+            raise RecordsError(f"cannot write to the records database {shown_url(self.url)}: {_first_line(err)}") from err
         return True
 
     # -- reading ----------------------------------------------------------------------------------
@@ -176,7 +176,7 @@ class Store:
             with self.engine.connect() as conn:
                 return [dict(r._mapping) for r in conn.execute(query)]
         except self._sa.exc.SQLAlchemyError as err:
-            raise RecordsError(f"cannot read the records database {_shown(self.url)}: {_first_line(err)}") from err
+            raise RecordsError(f"cannot read the records database {shown_url(self.url)}: {_first_line(err)}") from err
 
     def close(self) -> None:
         self.engine.dispose()
@@ -187,7 +187,7 @@ def _first_line(err: BaseException) -> str:
     return " ".join(text.strip().splitlines()[:1]) or type(err).__name__
 
 
-def _shown(url: str) -> str:
+def shown_url(url: str) -> str:
     """The URL without a password."""
     if "@" in url and "://" in url:
         scheme, rest = url.split("://", 1)
@@ -253,7 +253,7 @@ def connect(url_or_path: str | Path, *, create: bool = True) -> Store:
         engine = sa.create_engine(url, future=True, pool_pre_ping=True,
                                   **({"connect_args": {"timeout": 30}} if url.startswith("sqlite") else {}))
     except (sa.exc.ArgumentError, sa.exc.NoSuchModuleError, ValueError) as err:
-        raise RecordsError(f"{_shown(str(url_or_path))} is not a records URL (give a file path, sqlite:///FILE or "
+        raise RecordsError(f"{shown_url(str(url_or_path))} is not a records URL (give a file path, sqlite:///FILE or "
                            f"postgresql://USER@HOST/DB): {_first_line(err)}") from err
     if url.startswith("sqlite"):
         _sqlite_pragmas(engine, read_only=read_only)
@@ -273,12 +273,12 @@ def _prepare(store: Store, *, create: bool) -> None:
                 if create:
                     conn.execute(store._info.insert().values(key="schema_version", value=str(SCHEMA_VERSION)))
             elif int(row[0]) > SCHEMA_VERSION:
-                raise RecordsError(f"the records database {_shown(store.url)} has schema version {row[0]}, newer than "
+                raise RecordsError(f"the records database {shown_url(store.url)} has schema version {row[0]}, newer than "
                                    f"this benchnf's {SCHEMA_VERSION}: use the benchnf that made it, or upgrade")
     except sa.exc.IntegrityError:
         pass  # another process created it at the same moment
     except sa.exc.SQLAlchemyError as err:
-        raise RecordsError(f"cannot open the records database {_shown(store.url)}: {_first_line(err)}") from err
+        raise RecordsError(f"cannot open the records database {shown_url(store.url)}: {_first_line(err)}") from err
 
 
 def iter_export_rows(store: Store) -> Iterator[dict[str, Any]]:

@@ -1,5 +1,5 @@
-"""A self-contained HTML report per unit (styles and figures inline: no network needed to view it)
-and a PNG summary.  Layout, colours and wording are benchnf's own."""
+"""Self-contained HTML pages (styles and figures inline: no network needed to view them): the report of a
+unit with its PNG summary, and the control chart of a recorded figure.  Layout, colours and wording are benchnf's own."""
 
 from __future__ import annotations
 
@@ -13,7 +13,7 @@ import numpy as np
 
 from .._optional import require
 
-__all__ = ["unit_figure", "unit_report_html", "unit_png"]
+__all__ = ["unit_figure", "unit_report_html", "unit_png", "page_html", "control_chart_html"]
 
 _TONE = {"PASS": "#2e7d4f", "MARGINAL": "#b07d12", "FAIL": "#b3261e", "ERROR": "#5f5f5f"}
 
@@ -125,19 +125,7 @@ def unit_report_html(*, serial: str, verdict: str, check: dict[str, Any] | None,
     marginal = ("<p>MARGINAL: within the expanded measurement uncertainty of the limit, on either side: neither a "
                 "confident pass nor a proven failure. Measure longer, or check the setup, before deciding.</p>"
                 if any(v["verdict"] == "MARGINAL" for v in (check or {}).get("limits", [])) else "")
-    doc = f"""<!DOCTYPE html>
-<html lang="en"><head><meta charset="utf-8"><title>benchnf check: {html.escape(serial)}</title>
-<style>
-body {{ font-family: system-ui, sans-serif; margin: 2em auto; max-width: 70em; color: #1b1b1b; }}
-.verdict {{ display: inline-block; padding: .3em .9em; border-radius: .3em; color: white; background: {tone};
-           font-size: 1.6em; font-weight: 600; }}
-table {{ border-collapse: collapse; margin: 1em 0; }}
-th, td {{ border-bottom: 1px solid #ddd; padding: .35em .7em; text-align: left; vertical-align: top; }}
-tr.fail td {{ background: #fbe9e7; }} tr.marginal td {{ background: #fff5dc; }}
-img {{ max-width: 100%; border: 1px solid #eee; }} .err {{ color: #b3261e; font-weight: 600; }}
-footer {{ color: #777; font-size: .85em; margin-top: 2em; }}
-</style></head><body>
-<h1>Unit {html.escape(serial)}</h1>
+    body = f"""<h1>Unit {html.escape(serial)}</h1>
 <p><span class="verdict">{verdict}</span> against profile <i>{html.escape((check or {}).get('profile', '-'))}</i></p>
 {body_error}
 <h2>Limits</h2>
@@ -148,7 +136,52 @@ footer {{ color: #777; font-size: .85em; margin-top: 2em; }}
 <h2>Measurement conditions</h2><table>{cond_rows}</table>
 {record}
 <footer>benchnf check report. Suggestions are general trade knowledge, not a diagnosis. Mains and valve
-equipment carry lethal voltages: follow local codes and licensed practice.</footer>
+equipment carry lethal voltages: follow local codes and licensed practice.</footer>"""
+    return page_html(f"benchnf check: {serial}", body, accent=tone)
+
+
+def page_html(title: str, body: str, *, accent: str = "#5f5f5f") -> str:
+    """A self-contained page: benchnf's own plain styles inline, `accent` behind the verdict badge."""
+    return f"""<!DOCTYPE html>
+<html lang="en"><head><meta charset="utf-8"><title>{html.escape(title)}</title>
+<style>
+body {{ font-family: system-ui, sans-serif; margin: 2em auto; max-width: 70em; color: #1b1b1b; }}
+.verdict {{ display: inline-block; padding: .3em .9em; border-radius: .3em; color: white; background: {accent};
+           font-size: 1.6em; font-weight: 600; }}
+table {{ border-collapse: collapse; margin: 1em 0; }}
+th, td {{ border-bottom: 1px solid #ddd; padding: .35em .7em; text-align: left; vertical-align: top; }}
+tr.fail td {{ background: #fbe9e7; }} tr.marginal td {{ background: #fff5dc; }}
+img {{ max-width: 100%; border: 1px solid #eee; }} .err {{ color: #b3261e; font-weight: 600; }}
+footer {{ color: #777; font-size: .85em; margin-top: 2em; }}
+</style></head><body>
+{body}
 </body></html>
 """
-    return doc
+
+
+def control_chart_html(chart: Any, *, figure: str, rows: list[dict[str, Any]], png: bytes, source: str,
+                       software: str, made_utc: str) -> str:
+    """The control chart of one recorded figure as a page: the chart, its limits, and each point that breaks
+    a run rule with the unit's serial and time. `rows` are the records in the chart's order."""
+    from ..records.charts import RUN_RULES
+    breaks = "".join(f"<tr class='fail'><td>{i + 1}</td><td>{html.escape(str(rows[i]['serial']))}</td>"
+                     f"<td>{html.escape(str(rows[i]['checked_at']))}</td><td>{_fmt(chart.values[i])}</td>"
+                     f"<td>{rule}: {html.escape(RUN_RULES[rule])}</td></tr>" for i, rule in chart.signals)
+    verdict = "RULES BROKEN" if chart.signals else "IN CONTROL"
+    limits = (f"<tr><th>individuals</th><td>{chart.centre:.6g}</td><td>{chart.lower:.6g}</td>"
+              f"<td>{chart.upper:.6g}</td></tr><tr><th>moving range</th><td>{chart.mr_centre:.6g}</td>"
+              f"<td>0</td><td>{chart.mr_upper:.6g}</td></tr>")
+    img = base64.b64encode(png).decode("ascii")
+    body = f"""<h1>Control chart: {html.escape(figure)}</h1>
+<p><span class="verdict">{verdict}</span> over {len(chart.values)} units, each serial's latest check, in time order</p>
+<img alt='individuals and moving-range chart of {html.escape(figure)}' src='data:image/png;base64,{img}'>
+<h2>Limits</h2><table><tr><th></th><th>centre</th><th>lower</th><th>upper</th></tr>{limits}</table>
+<p>Individuals limits: centre &plusmn; 2.660 &times; mean moving range; moving-range upper limit: 3.267 &times;
+mean moving range.</p>
+<h2>Points that break a run rule</h2>
+{f"<table><tr><th>point</th><th>serial</th><th>checked (UTC)</th><th>value</th><th>rule</th></tr>{breaks}</table>"
+ if breaks else "<p>None.</p>"}
+<footer>Made {html.escape(made_utc)} (UTC) by {html.escape(software)} from the records at
+{html.escape(source)}. A broken rule says the process changed, not which unit is bad.</footer>"""
+    return page_html(f"benchnf control chart: {figure}", body,
+                     accent=_TONE["FAIL"] if chart.signals else _TONE["PASS"])
