@@ -9,7 +9,7 @@ from numpy.typing import NDArray
 
 from ..errors import ParameterError
 
-__all__ = ["make_signal", "align_lag", "SIGNALS"]
+__all__ = ["make_signal", "align_lag", "tone_span", "SIGNALS"]
 
 SIGNALS = ("tone", "multitone", "sweep", "noise")
 
@@ -55,3 +55,17 @@ def align_lag(recorded: NDArray, reference: NDArray) -> int:
     s = np.asarray(reference, dtype=np.float64)
     c = signal.correlate(r, s, mode="full", method="fft")
     return int(np.argmax(np.abs(c)) - (s.size - 1))
+
+
+def tone_span(recorded: NDArray, sample_rate_hz: float, *, window_s: float = 0.01) -> tuple[int, int]:
+    """First and one-past-last sample where a played burst is present in `recorded`: where its short-time
+    power (`window_s` windows) exceeds a quarter of the largest, i.e. the amplitude exceeds half.
+
+    Cross-correlation cannot place a steady tone (every period matches equally where the recording cuts the
+    tone short); its envelope can.
+    """
+    x = np.asarray(recorded, dtype=np.float64)
+    n = max(int(window_s * sample_rate_hz), 1)
+    power = np.convolve(x * x, np.ones(n) / n, mode="same")
+    on = np.flatnonzero(power > 0.25 * power.max()) if power.size and power.max() > 0 else np.array([], dtype=int)
+    return (int(on[0]), int(on[-1]) + 1) if on.size else (0, 0)

@@ -6,6 +6,7 @@ import argparse
 from pathlib import Path
 from typing import Any
 
+from ..errors import BenchError
 from ..write import Writer
 from ._common import common_options
 from ._types import finite_db, positive_hz, positive_seconds
@@ -38,13 +39,18 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     cal = Calibration.load(args.calibration)
     sig = make_signal("tone", sample_rate_hz=cal.sample_rate_hz, seconds=args.seconds, level_dbfs=args.level_dbfs,
                       frequency_hz=args.tone_hz)
-    from ..acquire.signals import align_lag
+    from ..acquire.signals import tone_span
     rec = SoundcardRecorder(args.device, host_api=args.host_api)
-    play = np.concatenate([sig, np.zeros(int(0.5 * cal.sample_rate_hz), dtype=np.float32)])
-    x = rec.play_and_record(np.column_stack([play, play]), sample_rate_hz=cal.sample_rate_hz, channels=cal.channel + 1)
-    lag = max(align_lag(x[:, cal.channel], sig), 0)
-    edge = int(0.1 * cal.sample_rate_hz)  # leave the ends, where the tone starts and stops
-    part = x[lag + edge:lag + sig.size - edge, cal.channel].astype(np.float64)
+    fs = cal.sample_rate_hz
+    play = np.concatenate([sig, np.zeros(int(1.0 * fs), dtype=np.float32)])  # room for the round-trip latency
+    x = rec.play_and_record(np.column_stack([play, play]), sample_rate_hz=fs, channels=cal.channel + 1)
+    start, stop = tone_span(x[:, cal.channel], fs)
+    if not 0.5 * sig.size <= stop - start <= sig.size + 0.05 * fs:
+        raise BenchError(f"the {args.seconds:g} s tone did not come back whole on input channel {cal.channel} "
+                         f"(found {(stop - start) / fs:.2f} s): loop the output to the input, through an attenuator "
+                         f"if needed, and check the levels")
+    edge = int(0.1 * fs)  # leave the ends, where the tone starts and stops
+    part = x[start + edge:stop - edge, cal.channel].astype(np.float64)
     fit = fit_sine(part, sample_rate_hz=cal.sample_rate_hz, frequency_hz=args.tone_hz)
     played_peak_fs = 10 ** (args.level_dbfs / 20)
     vpfs_out = fit.amplitude * cal.volts_per_fs / played_peak_fs
