@@ -13,7 +13,6 @@ from ._common import (
     common_options,
     progress,
     records_options,
-    records_url_of,
     relative_to_option,
     settle_station,
     verdict_table,
@@ -70,7 +69,7 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     units = find_units(args.units)
     if args.history:
         writer.appendable(args.history, HISTORY_HEADER)  # refused before the output folder is made
-    url = records_url_of(args)
+    url = args.records  # settled above: option, environment, station file
     store = None
     if url:
         from ..records import connect

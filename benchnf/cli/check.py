@@ -7,7 +7,7 @@ from pathlib import Path
 from typing import Any
 
 from ..write import Writer
-from ._common import common_options, records_options, records_url_of, relative_to_option, settle_station
+from ._common import common_options, records_options, relative_to_option, settle_station
 from .status import ExitStatus
 
 
@@ -34,7 +34,7 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     profile = load_profile(args.profile)
     results = read_results(args.results)
     unit = args.unit or Path(args.results).stem
-    url = records_url_of(args)
+    url = args.records  # settled above: option, environment, station file
     store = None
     if url:
         from ..records import connect

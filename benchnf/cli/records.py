@@ -49,7 +49,7 @@ def add_parser(sub: Any) -> None:
 
 def run(args: argparse.Namespace, writer: Writer) -> int:
     from ..records import connect
-    url = records_url_of(args)
+    url = args.records = records_url_of(args)
     if not url:
         raise BenchError("give the records database with --records URL (or set BENCHNF_RECORDS, or name it in a "
                          "station file)")
@@ -166,9 +166,8 @@ def _chart_page(chart: Any, rows: list[dict[str, Any]], args: argparse.Namespace
     from .. import __version__
     from ..records.store import shown_url
     from ..report.html import control_chart_html
-    from ._common import records_url_of
     return control_chart_html(chart, figure=args.figure, rows=rows, png=png,
-                              source=shown_url(records_url_of(args) or ""), software=f"benchnf {__version__}",
+                              source=shown_url(args.records), software=f"benchnf {__version__}",
                               made_utc=_dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"))
 
 

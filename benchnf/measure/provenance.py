@@ -15,7 +15,7 @@ from typing import Any
 
 from ..io.hashing import sha256_of
 
-__all__ = ["provenance"]
+__all__ = ["provenance", "station_name", "operator_name"]
 
 
 def _name(path: Path, root: Path) -> str:
@@ -36,18 +36,27 @@ def provenance(inputs: Iterable[Path], *, root: Path, station: str | None = None
         for extra in (Path(p).with_suffix(".json"), Path(p).with_name(Path(p).name + ".json")):
             if Path(p).suffix.lower() not in (".json", ".toml") and extra.is_file():
                 seen.setdefault(extra.resolve())  # a capture's sidecar is part of what was read
+    named = [{"file": _name(p, root), "sha256": sha256_of(p)} for p in seen]
     block = {"software": f"benchnf {__version__}",
              "created_utc": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
-             "station": station or os.environ.get("BENCHNF_STATION") or socket.gethostname(),
-             "operator": operator or os.environ.get("BENCHNF_OPERATOR"),
-             "inputs": [{"file": _name(p, root), "sha256": sha256_of(p)} for p in seen]}
-    calibrations = [c for c in (_calibration(p, root) for p in seen) if c]
+             "station": station_name(station), "operator": operator_name(operator), "inputs": named}
+    calibrations = [{**item, **c} for p, item in zip(seen, named) if (c := _calibration(p))]
     return {**block, "calibrations": calibrations} if calibrations else block
 
 
-def _calibration(path: Path, root: Path) -> dict[str, Any] | None:
-    """A calibration file's identity (name, SHA-256, when it was made, its volts per full scale), or None
-    for any other input."""
+def station_name(stated: str | None = None) -> str:
+    """The station: as stated, else BENCHNF_STATION, else the host name."""
+    return stated or os.environ.get("BENCHNF_STATION") or socket.gethostname()
+
+
+def operator_name(stated: str | None = None) -> str | None:
+    """The operator: as stated, else BENCHNF_OPERATOR, else unknown (None)."""
+    return stated or os.environ.get("BENCHNF_OPERATOR") or None
+
+
+def _calibration(path: Path) -> dict[str, Any] | None:
+    """What identifies a calibration file besides its name and hash (when it was made, its volts per full
+    scale), or None for any other input."""
     from ..calibration import CALIBRATION_SCHEMA
     if path.suffix.lower() != ".json":
         return None
@@ -57,5 +66,4 @@ def _calibration(path: Path, root: Path) -> dict[str, Any] | None:
         return None
     if not isinstance(data, dict) or data.get("schema") != CALIBRATION_SCHEMA:
         return None
-    return {"file": _name(path, root), "sha256": sha256_of(path), "made_at": data.get("made_at"),
-            "volts_per_fs": data.get("volts_per_fs")}
+    return {"made_at": data.get("made_at"), "volts_per_fs": data.get("volts_per_fs")}

@@ -3,15 +3,14 @@ where and with which profile (by the hash of its file) it was checked."""
 
 from __future__ import annotations
 
-import os
 import re
-import socket
 from pathlib import Path
 from typing import Any
 
+from ..measure.provenance import operator_name, station_name
 from .store import CheckRecord, LimitRow
 
-__all__ = ["check_record", "station_name", "file_sha256"]
+__all__ = ["check_record", "file_sha256"]
 
 
 def file_sha256(path: str | Path) -> str | None:
@@ -21,11 +20,6 @@ def file_sha256(path: str | Path) -> str | None:
         return sha256_of(path)
     except OSError:
         return None
-
-
-def station_name(stated: str | None = None) -> str:
-    """The station: as stated, else BENCHNF_STATION, else the host name."""
-    return stated or os.environ.get("BENCHNF_STATION") or socket.gethostname()
 
 
 def _stable(name: str) -> str:
@@ -49,5 +43,5 @@ def check_record(check: dict[str, Any] | None, *, serial: str, verdict: str, res
                  for v in (check or {}).get("limits", []))
     return CheckRecord(serial=serial, verdict=verdict, profile_name=profile.name,
                        profile_sha256=file_sha256(profile.source) if profile.source else None,
-                       station=station_name(station), operator=operator or os.environ.get("BENCHNF_OPERATOR"),
+                       station=station_name(station), operator=operator_name(operator),
                        software=f"benchnf {__version__}", limits=rows, results=results, check=check)
