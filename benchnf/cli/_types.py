@@ -102,14 +102,20 @@ def existing_folder(text: str) -> Path:
     return path
 
 
-def whole_count(text: str) -> int:
+def _integer(text: str, what: str, ok: Callable[[int], bool], refusal: str) -> int:
+    """`text` as an int: "is not {what}" if it is not one, `refusal` (after the text) if `ok` says no."""
     try:
         value = int(text)
     except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number (1, 2, ...)") from None
-    if not 1 <= value <= 10_000:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number from 1 to 10000")
+        raise argparse.ArgumentTypeError(f"{text!r} is not {what}") from None
+    if not ok(value):
+        raise argparse.ArgumentTypeError(f"{text!r}{refusal}")
     return value
+
+
+def whole_count(text: str) -> int:
+    return _integer(text, "a whole number (1, 2, ...)", lambda v: 1 <= v <= 10_000,
+                    " is not a whole number from 1 to 10000")
 
 
 def loss_db(text: str) -> float:
@@ -117,23 +123,12 @@ def loss_db(text: str) -> float:
 
 
 def channel_index(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a channel number (0, 1, ...)") from None
-    if value < 0:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a channel number: channels count from 0")
-    return value
+    return _integer(text, "a channel number (0, 1, ...)", lambda v: v >= 0,
+                    " is not a channel number: channels count from 0")
 
 
 def segment_samples(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number of samples") from None
-    if value < 64:
-        raise argparse.ArgumentTypeError(f"{text!r}: a segment needs at least 64 samples")
-    return value
+    return _integer(text, "a whole number of samples", lambda v: v >= 64, ": a segment needs at least 64 samples")
 
 
 
@@ -142,10 +137,5 @@ def positive_seconds(text: str) -> float:
 
 
 def channel_count(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a number of channels (1, 2, ...)") from None
-    if not 1 <= value <= 64:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a number of channels from 1 to 64")
-    return value
+    return _integer(text, "a number of channels (1, 2, ...)", lambda v: 1 <= v <= 64,
+                    " is not a number of channels from 1 to 64")
