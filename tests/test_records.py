@@ -207,6 +207,11 @@ def test_the_chart_page_shows_the_chart_its_limits_and_each_broken_rule(tmp_path
     listed = re.findall(r"<td>\d+</td><td>(C-\d\d)</td>", page)
     assert listed == [f"C-{i:02d}" for i, _rule in chart.signals]
     assert f"<td>{chart.upper:.6g}</td>" in page and f"<td>{chart.mr_upper:.6g}</td>" in page
+    (tmp_path / "d").mkdir()
+    (tmp_path / "d" / "control_figure_0.html").write_text("the user's own page")
+    assert main(["records", "--records", str(db), "chart", "--figure", "figure_0", "-o", str(tmp_path / "d")]) == 2
+    assert sorted(p.name for p in (tmp_path / "d").iterdir()) == ["control_figure_0.html"]  # nothing half-written
+    assert (tmp_path / "d" / "control_figure_0.html").read_text() == "the user's own page"
 
 
 @pytest.fixture()

@@ -152,7 +152,9 @@ def _chart(store: Any, args: argparse.Namespace, writer: Writer) -> int:
     chart = control_chart([r["measured"] for r in rows])
     folder = writer.folder(args.output)
     for name, fig in control_chart_figures(chart, figure=args.figure):
-        path = writer.figure(writer.child(folder, name.replace(" ", "_").replace("/", "_")), fig)
+        png = writer.child(folder, name.replace(" ", "_").replace("/", "_"))
+        writer.target(png.with_suffix(".html"))  # refused before the PNG is written, not half-way
+        path = writer.figure(png, fig)
         page = writer.text(path.with_suffix(".html"), _chart_page(chart, rows, args, png=path.read_bytes()))
         print(f"control chart of {args.figure} over {len(chart.values)} units written to {path} and {page.name}")
     for i, rule in chart.signals:
