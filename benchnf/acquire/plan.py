@@ -42,7 +42,8 @@ import numpy as np
 
 from ..errors import ParameterError
 
-__all__ = ["PlanStep", "Plan", "load_plan", "CAUTIONS", "run_plan", "check_capture"]
+__all__ = ["PlanStep", "Plan", "load_plan", "CAUTIONS", "run_plan", "check_capture", "step_metadata",
+           "analyse_plan"]
 
 CAUTIONS = {
     "phantom": "Switch 48 V phantom power OFF before connecting, and never hot-plug with it on: it can destroy "
@@ -215,3 +216,41 @@ def run_plan(plan: Plan, *, record: Callable[[Path, PlanStep], Any], folder: Pat
         if step.condition == "floor":
             floor = path
     return files
+
+
+def step_metadata(plan: Plan, step: PlanStep) -> dict[str, float]:
+    """What a step's capture states in its sidecar: the step's Rs and temperature (else the plan's), its tone.
+
+    The floor is the analyzer alone, so it states no source resistance.
+    """
+    rs = step.rs_ohm if step.rs_ohm is not None else plan.analysis.get("rs_ohm")
+    temperature = step.temperature_k if step.temperature_k is not None else plan.analysis.get("temperature_k")
+    meta = {k: v for k, v in (("rs_ohm", rs), ("temperature_k", temperature),
+                              ("tone_hz", step.tone_hz), ("tone_input_vrms", step.tone_input_vrms))
+            if v is not None}
+    if step.condition == "floor":
+        meta.pop("rs_ohm", None)
+    return meta
+
+
+def analyse_plan(plan: Plan, plan_path: Path, files: dict[str, Path], folder: Path, writer: Any) -> Any:
+    """The gain-method analysis of a finished plan, written to ``folder/results.json``.
+
+    Returns the :class:`~benchnf.measure.results.AnalysisResult`, or a sentence saying why there is none
+    (no terminated and tone steps, or no calibration in the plan).
+    """
+    if not {"terminated", "tone"} <= set(files):
+        return "the plan has no terminated and tone steps: captures kept, not analysed"
+    a = plan.analysis
+    if a.get("volts_per_fs") is None and not a.get("calibration"):
+        return "no calibration in the plan ([analysis] volts_per_fs or calibration): captures kept, not analysed"
+    from ..measure.provenance import provenance
+    from ..measure.requests import GainMethodRequest, run_gain_method
+    result = run_gain_method(GainMethodRequest(
+        terminated=(files["terminated"],), floor=files.get("floor"), shorted=files.get("shorted"),
+        tone=files["tone"], volts_per_fs=a.get("volts_per_fs"), calibration=a.get("calibration"),
+        rs_ohm=a.get("rs_ohm"), temperature_k=a.get("temperature_k"),
+        band_hz=tuple(a["band_hz"]) if a.get("band_hz") else None, weighting=a.get("weighting")))
+    read = [plan_path, *files.values(), *([Path(a["calibration"])] if a.get("calibration") else [])]
+    writer.json(folder / "results.json", {**result.to_dict(), "provenance": provenance(read, root=folder)})
+    return result
