@@ -20,7 +20,11 @@ FORBIDDEN = {
     "measure": ("check", "report", "cli"),
     "report": ("cli", "measure.gain_method", "measure.requests"),
     "write": ("measure", "check", "report", "cli", "io", "dsp", "noise"),
+    "desk": ("cli",),  # a front end beside cli/: neither imports the other's modules
 }
+# Only the command line starts the desk: no library layer imports it.
+for _layer in ("dsp", "noise", "io", "measure", "report", "write"):
+    FORBIDDEN[_layer] += ("desk",)
 
 
 def _modules():

@@ -13,12 +13,12 @@ import queue
 import sys
 import threading
 import time
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
 from ..dsp.integrate import band_bin_weights
-from ..dsp.spectrum import WelchAccumulator
+from ..dsp.spectrum import Psd, WelchAccumulator
 from ..dsp.spurs import find_lines
 from ..dsp.weighting import Band
 from ..units import fs_to_dbfs, vrms_to_dbu
@@ -35,6 +35,19 @@ class LiveSnapshot:
     strongest_line_rms: float | None
     frequency_hz: np.ndarray
     density: np.ndarray
+    lines: tuple = ()  # every line found (dsp.spurs.Line), strongest first
+    weighting: str = "none"
+    gain_db: float | None = None  # stated gain: then input_density and ein_rms are input-referred
+
+    @property
+    def input_density(self) -> np.ndarray | None:
+        """The density divided by the stated power gain (None without a gain)."""
+        return None if self.gain_db is None else self.density / 10 ** (self.gain_db / 10)
+
+    @property
+    def ein_rms(self) -> float | None:
+        """The band noise referred to the input through the stated gain: EIN = E_out / G_v."""
+        return None if self.gain_db is None else self.band_rms / 10 ** (self.gain_db / 20)
 
     def line(self) -> str:
         if self.band_rms is None:
@@ -48,34 +61,68 @@ class LiveSnapshot:
 
 
 class LiveAnalyzer:
-    """Accumulating Welch spectrum with band level and hum, resettable."""
+    """Welch spectrum with band level and hum, resettable: cumulative, or a running average of N segments.
+
+    With ``averages=N`` each snapshot blends the segments that arrived since the last one into the
+    running mean with weight ``m / min(n_seen, N)`` (m new segments): the plain mean until N segments
+    have been seen, an exponential average with a time constant of N segments after that (common
+    practice for analyzers' "exponential" averaging).
+    """
 
     def __init__(self, *, sample_rate_hz: float, segment_length: int = 8192, band: Band = Band(20.0, 20_000.0),
-                 volts_per_fs: float | None = None) -> None:
+                 volts_per_fs: float | None = None, weighting: str = "none", gain_db: float | None = None,
+                 averages: int | None = None) -> None:
         self.sample_rate_hz, self.segment_length, self.band = sample_rate_hz, segment_length, band
-        self.volts_per_fs = volts_per_fs
+        self.volts_per_fs, self.weighting, self.gain_db = volts_per_fs, weighting, gain_db
+        self.averages = averages
+        self._weights: tuple[int, np.ndarray] | None = None
         self.reset()
 
     def reset(self) -> None:
         self._acc = WelchAccumulator(sample_rate_hz=self.sample_rate_hz, segment_length=self.segment_length)
         self._frames = 0
+        self._running: Psd | None = None
+        self._seen = 0
+
+    def _psd(self) -> Psd | None:
+        """The averaged spectrum now (None before the first whole segment)."""
+        fresh = self._acc.n_averages
+        unit, scale = ("V" if self.volts_per_fs else "FS"), (self.volts_per_fs or 1.0)
+        if self.averages is None:
+            return self._acc.result(unit=unit, scale=scale) if fresh else None
+        if fresh:
+            new = self._acc.result(unit=unit, scale=scale)
+            self._acc.restart_average()
+            self._seen += fresh
+            if self._running is None:
+                self._running = new
+            else:
+                a = fresh / min(self._seen, self.averages)
+                n = min(self._seen, self.averages)
+                self._running = replace(new, psd_per_hz=self._running.psd_per_hz + a * (new.psd_per_hz -
+                                                                                         self._running.psd_per_hz),
+                                        n_averages=n, dof=new.dof * n / fresh)
+        return self._running
 
     def feed(self, block: np.ndarray) -> None:
         self._acc.update(block)
         self._frames += block.size
 
     def snapshot(self) -> LiveSnapshot | None:
-        if self._acc.n_averages < 1:
+        psd = self._psd()
+        if psd is None:
             return None
-        scale = self.volts_per_fs or 1.0
-        psd = self._acc.result(unit="V" if self.volts_per_fs else "FS", scale=scale)
-        w = band_bin_weights(psd.frequency_hz, self.band)
+        if self._weights is None or self._weights[0] != psd.frequency_hz.size:
+            self._weights = (psd.frequency_hz.size, band_bin_weights(psd.frequency_hz, self.band,
+                                                                     weighting=self.weighting))
+        w = self._weights[1]
         search = find_lines(psd) if psd.n_averages >= 4 else None
         lines = search.lines if search else ()
         rms = math.sqrt(float(np.dot(w, psd.psd_per_hz)))
         top = lines[0] if lines else None
         return LiveSnapshot(self._frames / self.sample_rate_hz, rms, psd.unit, top.freq_hz if top else None,
-                            top.vrms if top else None, psd.frequency_hz, psd.psd_per_hz)
+                            top.vrms if top else None, psd.frequency_hz, psd.psd_per_hz, tuple(lines),
+                            self.weighting, self.gain_db)
 
 
 def run_live(*, device: str | None, host_api: str | None, sample_rate_hz: float, volts_per_fs: float | None,

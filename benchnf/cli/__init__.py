@@ -21,6 +21,7 @@ from . import (
     cascade,
     check,
     demo,
+    desk,
     devices,
     eni,
     excite,
@@ -38,7 +39,7 @@ from .status import ExitStatus
 __all__ = ["main", "build_parser", "ExitStatus"]
 
 COMMANDS = (analyze, calibrate, yfactor, cascade, budget, eni, profile, check, batch, devices, record, excite,
-            measure, live, calibrate_output, recover, records, demo)
+            measure, live, calibrate_output, recover, records, desk, demo)
 
 
 class _Parser(argparse.ArgumentParser):

@@ -139,3 +139,8 @@ def positive_seconds(text: str) -> float:
 def channel_count(text: str) -> int:
     return _integer(text, "a number of channels (1, 2, ...)", lambda v: 1 <= v <= 64,
                     " is not a number of channels from 1 to 64")
+
+
+def port_number(text: str) -> int:
+    """A TCP port: 0 (any free one) to 65535."""
+    return _integer(text, "a TCP port number", lambda n: 0 <= n <= 65535, " is not a TCP port (0 to 65535)")

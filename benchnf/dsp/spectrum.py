@@ -235,6 +235,17 @@ class WelchAccumulator:
         total[self._support] = self._sum_sq_support
         return total
 
+    def restart_average(self) -> None:
+        """Forget the segments averaged so far, keeping the stream's unconsumed samples.
+
+        For a running average that is refreshed in pieces (the live view): the next :meth:`result` covers
+        only what was added since, and no sample between the pieces is lost.
+        """
+        self._flush()
+        self._sum_sq[:] = 0.0
+        self._sum_sq_support[:] = 0.0
+        self._count = 0
+
     def result(self, *, unit: str = "FS", scale: float = 1.0) -> Psd:
         """The PSD of everything added so far, amplitudes multiplied by `scale`.
 

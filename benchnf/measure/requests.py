@@ -154,3 +154,36 @@ def run_gain_method(req: GainMethodRequest, *, progress: Any = None) -> Any:
     """Resolve the request and run the gain-method analysis; the frozen AnalysisResult."""
     from .gain_method import analyze_gain_method
     return analyze_gain_method(**resolve_gain_method(req), progress=progress)
+
+
+def request_from_results(data: Mapping[str, Any]) -> GainMethodRequest:
+    """The request that re-runs a gain-method analysis from its results JSON (for its spectra).
+
+    The captures named under ``files`` with the volts per full scale, source resistance, temperature,
+    band, weighting and detector the results state. Raises BenchError when a capture is no longer there.
+    """
+    from ..errors import BenchError
+    files = data.get("files") or {}
+
+    def path(role: str) -> Path | None:
+        value = files.get(role)
+        if isinstance(value, list):
+            value = value[0] if value else None
+        if value is None:
+            return None
+        if not Path(value).is_file():
+            raise BenchError(f"the {role} capture {value} named in the results is not there")
+        return Path(value)
+
+    terminated = files.get("terminated")
+    terms = tuple(Path(t) for t in (terminated if isinstance(terminated, list) else [terminated]) if t)
+    if not terms:
+        raise BenchError("the results name no terminated capture")
+    path("terminated")
+    band = data.get("band_hz")
+    return GainMethodRequest(
+        terminated=terms, floor=path("floor"), shorted=path("shorted"), tone=path("tone"),
+        response=path("response"), volts_per_fs=data.get("volts_per_fs"), rs_ohm=data.get("rs_ohm"),
+        temperature_k=data.get("temperature_k"), band_hz=tuple(band) if band else None,
+        weighting=data.get("weighting"), detector=data.get("detector") or "rms",
+        segment_length=data.get("segment_length"))

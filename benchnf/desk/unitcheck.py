@@ -1,0 +1,92 @@
+"""A unit checked from the desk: its results (or its captures) against a profile, kept in the records store.
+
+The analysis, the check, the report page and the record are the command line's
+(:func:`benchnf.check.batch.check_unit`, :func:`benchnf.check.limits.check_results`,
+:func:`benchnf.report.html.unit_report_html`, :func:`benchnf.records.entry.check_record`).
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import re
+from pathlib import Path
+from typing import Any
+
+from ..errors import BenchError
+
+__all__ = ["check_unit_from_desk", "earlier_checks", "serial_ok"]
+
+_SERIAL = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$")
+
+
+def serial_ok(serial: str) -> str:
+    """A serial as typed or scanned: letters, digits, ``.``, ``_``, ``-``; at most 64 characters."""
+    serial = (serial or "").strip()
+    if not _SERIAL.match(serial):
+        raise BenchError(f"serial {serial!r}: use letters, digits, '.', '_' or '-' (at most 64), starting with a "
+                         f"letter or digit")
+    return serial
+
+
+def _outcome(serial: str, source: Path, profile_path: Path, settings: dict[str, Any]) -> tuple[Any, Any, Any]:
+    """(check dict, results dict, verdict) of the unit: a results JSON checked, or a folder analysed and checked."""
+    from ..check.limits import check_results
+    from ..check.profile import load_profile
+    profile = load_profile(profile_path)
+    if source.is_dir():
+        from ..check.batch import check_unit
+        out = check_unit(source, str(profile_path), settings)
+        if out.error:
+            raise BenchError(out.error)
+        return out.check, out.results, profile
+    from ..io.results_json import read_results
+    results = read_results(source)
+    return check_results(results, profile, unit=serial).to_dict(), results, profile
+
+
+def check_unit_from_desk(*, serial: str, source: Path, profile_path: Path, folder: Path, writer: Any,
+                         records_url: str | None, station: str | None, operator: str | None,
+                         calibration: Path | None = None) -> dict[str, Any]:
+    """Check one unit; write its report page into ``folder/checks``; record it. The page's payload."""
+    from ..report.html import unit_report_html
+    serial = serial_ok(serial)
+    store = None
+    if records_url:
+        from ..records import connect
+        store = connect(records_url)  # refused before the check when it cannot be written
+    settings = {"calibration": str(calibration) if calibration else None, "station": station,
+                "operator": operator}
+    check, results, profile = _outcome(serial, source, profile_path, settings)
+    verdict = check["verdict"]
+    stamp = _dt.datetime.now(_dt.timezone.utc).strftime("%Y%m%dT%H%M%SZ")
+    reports = writer.folder(folder / "checks")
+    page = writer.child(reports, f"{serial}-{stamp}.html")
+    writer.text(page, unit_report_html(serial=serial, verdict=verdict, check=check, results=results, profile=profile))
+    recorded = False
+    if store is not None:
+        from ..records.entry import check_record
+        try:
+            recorded = store.add(check_record(check, serial=serial, verdict=verdict, results=results,
+                                              profile=profile, station=station, operator=operator))
+        finally:
+            store.close()
+    from ..report.labels import limit_label, value_text
+    weighting = (results or {}).get("weighting")
+    limits = [{**v, "label": limit_label(v["name"], weighting=weighting), "measured_text": value_text(v["name"], v["measured"])}
+              for v in check["limits"]]
+    return {"serial": serial, "verdict": verdict, "limits": limits, "profile": profile.name,
+            "report": page, "recorded": recorded}
+
+
+def earlier_checks(records_url: str | None, serial: str) -> list[dict[str, Any]]:
+    """The unit's checks in the store, newest first (empty without a store)."""
+    if not records_url:
+        return []
+    from ..records import connect
+    store = connect(records_url, create=False)
+    try:
+        rows = store.checks(serial=serial_ok(serial))
+    finally:
+        store.close()
+    return [{"checked_at": r["checked_at"], "verdict": r["verdict"], "station": r["station"],
+             "operator": r["operator"], "profile": r["profile_name"]} for r in reversed(rows)]
