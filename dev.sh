@@ -21,7 +21,7 @@ ensure_venv() {
   fi
   local stamp="$venv/.benchnf-installed"
   if [ ! -f "$stamp" ] || [ "$here/pyproject.toml" -nt "$stamp" ]; then
-    "$venv/bin/python" -m pip install --quiet --disable-pip-version-check -e "$here[test,fast]"
+    "$venv/bin/python" -m pip install --quiet --disable-pip-version-check -e "$here[test,fast,desk]"
     touch "$stamp"
   fi
 }

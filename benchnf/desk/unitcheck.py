@@ -61,6 +61,10 @@ def check_unit_from_desk(*, serial: str, source: Path, profile_path: Path, folde
     stamp = _dt.datetime.now(_dt.timezone.utc).strftime("%Y%m%dT%H%M%SZ")
     reports = writer.folder(folder / "checks")
     page = writer.child(reports, f"{serial}-{stamp}.html")
+    n = 1
+    while page.exists():  # the same unit checked twice within a second: a new page, never the old one replaced
+        n += 1
+        page = writer.child(reports, f"{serial}-{stamp}-{n}.html")
     writer.text(page, unit_report_html(serial=serial, verdict=verdict, check=check, results=results, profile=profile))
     recorded = False
     if store is not None:

@@ -1,0 +1,214 @@
+"""The bench desk in a real browser: Debian's headless Chromium driven by Selenium through chromedriver.
+
+Nothing is downloaded: the driver's path is given and Selenium runs offline (SE_OFFLINE). The desk is a
+real ``benchnf desk`` process; the live and plan tests record through the PulseAudio loopback. Captures
+and signals are INVENTED DATA (the demo's, or seeded noise and tones played here).
+"""
+
+from __future__ import annotations
+
+import io
+import json
+import os
+import shutil
+import time
+
+import numpy as np
+import pytest
+
+pytest.importorskip("tornado")
+pytest.importorskip("plotly")
+webdriver = pytest.importorskip("selenium.webdriver")
+
+from desk_helpers import demo_folder, running_desk  # noqa: E402
+from loopback_helpers import DEVICE, loopback_missing  # noqa: E402
+from selenium.webdriver.common.by import By  # noqa: E402
+from selenium.webdriver.support.ui import Select, WebDriverWait  # noqa: E402
+
+CHROMIUM, DRIVER = shutil.which("chromium"), shutil.which("chromedriver")
+_NO_BROWSER = None if CHROMIUM and DRIVER else "Debian's chromium and chromium-driver are not installed"
+if _NO_BROWSER and os.environ.get("CI") == "true":
+    raise RuntimeError(f"CI must run the browser tests, but: {_NO_BROWSER}")
+pytestmark = pytest.mark.skipif(_NO_BROWSER is not None, reason=_NO_BROWSER or "")
+
+
+@pytest.fixture(scope="module")
+def browser():
+    os.environ["SE_OFFLINE"] = "true"  # no driver download, no usage statistics
+    from selenium.webdriver.chrome.service import Service
+    opts = webdriver.ChromeOptions()
+    opts.binary_location = CHROMIUM
+    for flag in ("--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+                 "--disable-background-networking", "--disable-component-update", "--disable-sync",
+                 "--window-size=1400,1600"):
+        opts.add_argument(flag)
+    driver = webdriver.Chrome(options=opts, service=Service(DRIVER))
+    yield driver
+    driver.quit()
+
+
+@pytest.fixture(scope="module")
+def bench(tmp_path_factory):
+    return demo_folder(tmp_path_factory.mktemp("desk-browser"))
+
+
+def _wait(driver, condition, seconds=30.0):
+    return WebDriverWait(driver, seconds, poll_frequency=0.05).until(lambda d: condition(d))
+
+
+def test_demo_results_show_ein_and_noise_figure(browser, bench):
+    data = json.loads((bench / "results" / "results.json").read_text())
+    with running_desk(bench, "--open", "results/results.json") as (_proc, url):
+        browser.get(url)
+        _wait(browser, lambda d: d.find_element(By.ID, "result").get_attribute("data-ready"))
+        figures = browser.find_element(By.ID, "figures").text
+    assert f"{data['ein_dbu']:.2f}" in figures and "dBu" in figures  # the demo's EIN, as the JSON has it
+    assert f"{data['noise_figure_db']:.2f}" in figures
+    assert f"± {data['uncertainty']['ein_db']:.2f}" in figures
+
+
+def _not_blank(png: bytes) -> tuple[int, float]:
+    """(distinct colours, share of pixels off the background colour) of a screenshot."""
+    from PIL import Image
+    img = np.asarray(Image.open(io.BytesIO(png)).convert("RGB")).reshape(-1, 3)
+    colours, counts = np.unique(img, axis=0, return_counts=True)
+    return len(colours), 1.0 - counts.max() / counts.sum()
+
+
+def test_a_result_view_draws_its_plots(browser, bench, tmp_path):
+    with running_desk(bench) as (_proc, url):
+        browser.get(url)
+        _wait(browser, lambda d: d.find_elements(By.CSS_SELECTOR, "[data-file='results/eni.json']"))
+        browser.find_element(By.CSS_SELECTOR, "[data-file='results/results.json']").click()
+        _wait(browser, lambda d: d.find_element(By.ID, "result").get_attribute("data-ready") == "results/results.json")
+        plot = browser.find_element(By.ID, "plot-output")
+        traces = browser.execute_script("return arguments[0].data.map(t => t.x.length)", plot)
+        png = plot.screenshot_as_png
+        (tmp_path / "output_spectrum.png").write_bytes(png)
+    assert len(traces) == 3 and min(traces) > 1000
+    colours, inked = _not_blank(png)
+    assert colours > 50 and inked > 0.05, (colours, inked)
+
+
+_LOOP = loopback_missing()
+loopback = pytest.mark.skipif(_LOOP is not None, reason=_LOOP or "")
+
+
+def _player(tone_hz: float | None, level: list[float], fs: int = 48_000):
+    """An output stream into the loopback: seeded noise of the current level, plus a tone when asked."""
+    import sounddevice as sd
+    rng = np.random.default_rng(7)
+    state = {"n": 0}
+
+    def source(outdata, frames, _t, _status):
+        x = rng.normal(0.0, level[0], frames)
+        if tone_hz is not None and level[1]:
+            x += level[1] * np.sin(2 * np.pi * tone_hz * (state["n"] + np.arange(frames)) / fs)
+        state["n"] += frames
+        outdata[:] = np.column_stack([x, x]).astype(np.float32)
+    return sd.OutputStream(samplerate=fs, channels=2, dtype="float32", device=DEVICE, callback=source)
+
+
+@loopback
+def test_live_view_shows_a_played_tone_within_two_seconds(browser, bench):
+    tone = 1234.5
+    with running_desk(bench) as (_proc, url), _player(tone, [1e-4, 0.1]):
+        browser.get(url)
+        browser.find_element(By.CSS_SELECTOR, "[data-view=live]").click()
+        _wait(browser, lambda d: d.find_elements(By.CSS_SELECTOR, f"#live-device option[value='{DEVICE}']"))
+        Select(browser.find_element(By.ID, "live-device")).select_by_value(DEVICE)
+        browser.find_element(By.NAME, "volts_per_fs").send_keys("1.0")
+        start = time.monotonic()
+        browser.find_element(By.ID, "live-start").click()
+        peak = _wait(browser, lambda d: d.find_element(By.ID, "live-plot").get_attribute("data-peak-hz"), 5.0)
+        seen_after = time.monotonic() - start
+        band = browser.find_element(By.ID, "live-band").text
+        browser.find_element(By.ID, "live-stop").click()
+    bin_hz = 48_000 / 8192
+    assert abs(float(peak) - tone) < bin_hz and seen_after < 2.0, (peak, seen_after)
+    # A 0.1 FS sine at 1 V/FS is 0.0707 V RMS, 20 lg(0.0707 / 0.7746) = -20.8 dBu (dBu re 0.7746 V: common
+    # practice); the band noise is dominated by it.
+    assert band.endswith("dBu") and abs(float(band.split()[0]) - 20 * np.log10(0.1 / np.sqrt(2) / 0.7746)) < 0.5
+
+
+_PLAN = '''name = "loopback plan"
+device = "pulse"
+sample_rate_hz = 48000
+
+[analysis]
+rs_ohm = 200
+temperature_k = 290
+volts_per_fs = 1.0
+
+[[step]]
+condition = "floor"
+seconds = 2
+prompt = "Terminate the analyzer input."
+
+[[step]]
+condition = "terminated"
+seconds = 2
+prompt = "Connect the amplifier; terminate its input in 200 ohm."
+
+[[step]]
+condition = "tone"
+seconds = 2
+tone_hz = 1000
+tone_input_vrms = 0.001
+'''
+
+
+@loopback
+def test_a_guided_plan_runs_through_every_step(browser, bench):
+    (bench / "loop_plan.toml").write_text(_PLAN)
+    level = [1e-5, 0.0]  # what the loopback carries follows the steps: floor, then "DUT" noise, then a tone
+    with running_desk(bench) as (_proc, url), _player(1000.0, level):
+        browser.get(url)
+        browser.find_element(By.CSS_SELECTOR, "[data-view=plan]").click()
+        _wait(browser, lambda d: d.find_elements(By.CSS_SELECTOR, "#plan-file option[value='loop_plan.toml']"))
+        Select(browser.find_element(By.ID, "plan-file")).select_by_value("loop_plan.toml")
+        browser.find_element(By.ID, "plan-open").click()
+        checks = []
+        for step, after in ((1, (3e-4, 0.0)), (2, (3e-4, 0.1)), (3, None)):
+            _wait(browser, lambda d: d.find_elements(By.CSS_SELECTOR, f"button[data-step='{step}']"))
+            time.sleep(0.5)  # the new signal reaches the monitor before recording starts
+            browser.find_element(By.CSS_SELECTOR, f"button[data-step='{step}']").click()
+            _wait(browser, lambda d: d.find_element(By.ID, "plan").get_attribute("data-busy") == "" and
+                  "kept:" in d.find_element(By.CSS_SELECTOR, f"div.step[data-step='{step}']").text)
+            checks.append(browser.find_element(By.CSS_SELECTOR, f"div.step[data-step='{step}']").text)
+            if after:
+                level[:] = after
+        browser.find_element(By.ID, "plan-finish").click()
+        _wait(browser, lambda d: d.find_element(By.ID, "result").get_attribute("data-ready"), 60)
+        shown = browser.find_element(By.ID, "result").get_attribute("data-ready")
+        figures = browser.find_element(By.ID, "figures").text
+    assert all("checked: no problems found" in c for c in checks), checks
+    results = json.loads((bench / shown).read_text())
+    assert shown.startswith("loop_plan") and results["floor_corrected"] is True and results["gain_db"] > 30
+    assert f"{results['gain_db']:.2f}" in figures
+    assert "Caution: Switch 48 V phantom power OFF" in checks[1]
+
+
+def test_unit_check_shows_the_verdict_and_earlier_checks(browser, bench):
+    from benchnf.check.limits import check_results
+    from benchnf.check.profile import load_profile
+    from benchnf.io.results_json import read_results
+    expected = check_results(read_results(bench / "results" / "results.json"),
+                             load_profile(bench / "known_good_profile.toml")).verdict
+    with running_desk(bench) as (_proc, url):
+        browser.get(url)
+        browser.find_element(By.CSS_SELECTOR, "[data-view=check]").click()
+        _wait(browser, lambda d: d.find_elements(By.CSS_SELECTOR, "#check-source option[value='results/results.json']"))
+        Select(browser.find_element(By.ID, "check-source")).select_by_value("results/results.json")
+        for n in (1, 2):
+            serial = browser.find_element(By.ID, "serial")
+            serial.clear()
+            serial.send_keys("SN-0042\n")  # a scanner types the serial and Enter
+            _wait(browser, lambda d: len(d.find_elements(By.CSS_SELECTOR, "#check-detail table:last-of-type tbody tr"))
+                  == n)
+        verdict = browser.find_element(By.ID, "verdict")
+        big = browser.execute_script("return parseFloat(getComputedStyle(arguments[0]).fontSize)", verdict)
+        detail = browser.find_element(By.ID, "check-detail").text
+    assert verdict.text.splitlines()[0] == expected and big >= 48
+    assert detail.count(expected) >= 3  # limits and the two records of this serial
+    assert "Checks of SN-0042 in the records" in detail
