@@ -20,7 +20,7 @@ prompt = "Terminate the sound-card input with a 50 ohm plug."
 condition = "terminated"
 seconds = 10
 prompt = "Connect the DUT output; terminate the DUT input in 150 ohm."
-cautions = ["phantom"]        # extra cautions: phantom, speaker, valve, mains
+cautions = ["phantom"]        # cautions: phantom, speaker, valve, mains, hot-load, cold-load
 
 [[step]]
 condition = "tone"
@@ -54,8 +54,12 @@ CAUTIONS = {
              "measure before touching.",
     "mains": "Mains-powered equipment under test carries lethal voltages: follow local codes and licensed "
              "practice; never defeat the safety earth.",
+    "hot-load": "A boiling-water hot load scalds: secure the vessel, keep mains equipment and leads away from it.",
+    "cold-load": "A liquid-nitrogen cold load burns on contact and displaces oxygen without any smell: ventilate "
+                 "the room, wear eye and hand protection, never seal it in a closed container.",
 }
-_DEFAULT_CAUTIONS = {"terminated": ["phantom"], "shorted": ["phantom"], "tone": ["phantom"]}
+_DEFAULT_CAUTIONS = {"terminated": ["phantom"], "shorted": ["phantom"], "tone": ["phantom"], "hot": ["hot-load"],
+                     "cold": ["cold-load"]}
 _STEP_KEYS = {"condition", "seconds", "prompt", "tone_hz", "tone_input_vrms", "rs_ohm", "temperature_k",
               "cautions", "name", "channels"}
 _TOP_KEYS = {"name", "device", "host_api", "sample_rate_hz", "channels", "out_dir", "analysis", "step"}

@@ -181,6 +181,7 @@ function drawLive() {
   $("#live-avg").textContent = p.averages ? `running average of ${p.averages} segments` : "averaging until restarted";
   const top = p.lines[0];
   div.dataset.peakHz = top ? top.freq_hz.toFixed(1) : "";
+  div.dataset.draws = String((Number(div.dataset.draws) || 0) + 1);  // read by benchmarks/bench_desk.py
   $("#live-lines tbody").replaceChildren(...p.lines.map((l) => el("tr", {}, el("td", {}, l.freq_hz.toFixed(1)),
     el("td", {}, l.family), el("td", {}, fmtLevel(l.rms, p.unit)), el("td", {}, l.excess_db.toFixed(1) + " dB"))));
 }
