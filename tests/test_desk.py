@@ -261,3 +261,92 @@ def test_one_recording_at_a_time(desk, bench):
     status, answer = call(desk, "/api/plan/record", {"step": 2})
     assert status == 400 and "busy with the live view" in answer["error"]
     assert call(desk, "/api/live/stop", {})[0] == 200
+
+
+def test_a_folder_of_captures_is_analysed_as_the_command_line_would(desk, bench, tmp_path):
+    from benchnf.cli import main
+    status, out = call(desk, "/api/analyse", {"folder": "units/HA-0001", "calibration": "results/calibration.json"})
+    assert status == 200 and out["results"] == "units/HA-0001/analysis/results.json"
+    written = bench / "units" / "HA-0001" / "analysis"
+    assert sorted(p.name for p in written.iterdir()) == ["report.html", "results.json", "spectra.csv", "summary.txt"]
+    unit = bench / "units" / "HA-0001"
+    cli_csv = tmp_path / "cli.csv"
+    assert main(["analyze", "--terminated", str(unit / "terminated.flac"), "--tone", str(unit / "tone.flac"),
+                 "--calibration", str(bench / "results" / "calibration.json"), "--spectra", str(cli_csv),
+                 "--quiet"]) == 0
+    assert (written / "spectra.csv").read_text() == cli_csv.read_text()  # every bin, every column
+    ours = json.loads((written / "results.json").read_text())
+    status, view = call(desk, "/api/result?path=" + out["results"])
+    assert view["exports"] == ["csv", "html"]
+    assert {f["label"]: f["value"] for f in view["headline"]}["Gain"] == f"{ours['gain_db']:.2f}"
+    status, again = call(desk, "/api/analyse", {"folder": "units/HA-0001", "calibration": "results/calibration.json"})
+    assert status == 200 and again["results"] == "units/HA-0001/analysis-2/results.json"  # never over the first
+
+
+def test_exports_are_made_on_request_for_analyses_only(desk, bench):
+    with urllib.request.urlopen(desk.rstrip("/") + "/api/export?form=html&path=results/results.json") as r:
+        page = r.read().decode()
+    assert "<pre>" in page and "data:image/png;base64," in page and "EIN" in page
+    status, answer = call(desk, "/api/export?form=csv&path=results/eni.json")
+    assert status == 400 and "gain-method results only" in answer["error"]
+
+
+def test_live_gain_can_come_from_a_measured_result(bench):
+    from benchnf.desk.folder import DeskFolder
+    from benchnf.desk.handlers import live_settings
+    from benchnf.errors import BenchError
+    data = json.loads((bench / "results" / "results.json").read_text())
+    folder = DeskFolder(bench)
+    s = live_settings({"gain_from": "results/results.json", "calibration": "results/calibration.json",
+                       "averages": "0", "channel": "2", "weighting": "A"}, folder)
+    assert s.gain_db == data["gain_db"] and s.volts_per_fs == data["volts_per_fs"]
+    assert s.averages is None and s.channel == 1 and s.weighting == "A"
+    with pytest.raises(BenchError, match="not both"):
+        live_settings({"gain_from": "results/results.json", "gain_db": "20"}, folder)
+
+
+def test_without_portaudio_the_page_says_what_to_install(bench, tmp_path):
+    shim = tmp_path / "shim"
+    shim.mkdir()
+    (shim / "sounddevice.py").write_text('raise OSError("PortAudio library not found")\n')
+    env = {**os.environ, "PYTHONPATH": os.pathsep.join([str(shim), os.environ.get("PYTHONPATH", "")])}
+    old = dict(os.environ)
+    os.environ.update(env)
+    try:
+        with running_desk(bench) as (_proc, url):
+            status, answer = call(url, "/api/devices")
+            started = call(url, "/api/live/start", {})
+    finally:
+        os.environ.clear()
+        os.environ.update(old)
+    assert status == 400 and "PortAudio library not found" in answer["error"] and "benchnf[audio]" in answer["error"]
+    assert started[0] == 400 and "benchnf[audio]" in started[1]["error"]
+
+
+def _golden_results():
+    from pathlib import Path
+    folder = Path(__file__).parent / "golden" / "expected"
+    for p in sorted(folder.glob("*.json.golden")):
+        data = json.loads(p.read_text())
+        if isinstance(data, dict) and data.get("kind") in ("analysis", "yfactor", "eni", "budget"):
+            yield p
+
+
+@pytest.mark.parametrize("golden", list(_golden_results()), ids=lambda p: p.name)
+def test_every_recorded_result_shape_has_a_view(golden, tmp_path):
+    """The results the golden runs wrote (repeats, 468 quasi-peak, losses, three Rs, ...) all show, with
+    their headline figures as the JSON has them; their captures are not here, and the view says so."""
+    from benchnf.desk.views import result_view
+    copy = tmp_path / "r.json"
+    copy.write_text(golden.read_text())
+    data = json.loads(copy.read_text())
+    view = result_view(copy, "r.json")
+    assert view["kind"] == data["kind"] and view["plots"] and view["headline"]
+    key = {"analysis": "ein_dbu", "yfactor": "noise_figure_db", "eni": "en_at_1khz_v_per_rthz",
+           "budget": "measured_noise_figure_db"}[data["kind"]]
+    scale = 1e9 if key.endswith("rthz") else 1.0
+    digits = 3 if key.endswith("rthz") else 2
+    assert f"{data[key] * scale:.{digits}f}" in [f["value"] for f in view["headline"]]
+    if data["kind"] == "analysis":
+        assert any(n.startswith("spectra not shown") for n in view["notes"]) and view["exports"] == []
+    json.dumps(view, allow_nan=False)  # what the page receives is valid JSON

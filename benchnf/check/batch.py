@@ -59,7 +59,9 @@ def find_units(folder: Path) -> list[Path]:
     return units
 
 
-def _role_files(unit: Path) -> dict[str, Path]:
+def role_files(unit: Path) -> dict[str, Path]:
+    """A unit folder's captures by role (terminated, tone, floor, shorted): the sidecar's condition, else
+    the file name (``term.*``, ``short.*`` too)."""
     roles: dict[str, Path] = {}
     for p in sorted(unit.iterdir()):
         if p.suffix.lower() not in _AUDIO:
@@ -108,7 +110,7 @@ def _analyse(unit: Path, profile: Profile, settings: dict[str, Any]) -> dict[str
     """The unit's captures analysed as the command line would, with the profile's conditions taking
     part in the agreement rule (a unit recorded under other conditions is refused, as check refuses it)."""
     from ..measure.requests import GainMethodRequest, run_gain_method
-    roles = _role_files(unit)
+    roles = role_files(unit)
     missing = [r for r in ("terminated", "tone") if r not in roles]
     if missing:
         raise BenchError(f"unit {unit.name} lacks its {' and '.join(missing)} capture(s)")

@@ -82,6 +82,37 @@ class Download(DeskHandler):
         self.finish(path.read_bytes())
 
 
+class Export(DeskHandler):
+    """A gain-method result's spectra CSV or HTML report, made from its re-run and sent (nothing written)."""
+
+    def get(self) -> None:
+        from .analysis import export
+        name, content = export(self.path_arg("path"), self.get_query_argument("form", "csv"))
+        self.set_header("Content-Type", "text/csv" if name.endswith(".csv") else "text/html; charset=utf-8")
+        self.set_header("Content-Disposition", f'attachment; filename="{name}"')
+        self.finish(content)
+
+
+class Analyse(DeskHandler):
+    """A folder of captures analysed as ``benchnf analyze`` would; its results written beside them."""
+
+    def post(self) -> None:
+        from ..dsp.weighting import WEIGHTINGS
+        from .analysis import SETTINGS, analyse_folder
+        data, st = self.body(), self.state
+        captures = self.path_arg("folder", str(data.get("folder", "")))
+        if not captures.is_dir():
+            raise BenchError(f"{data.get('folder')!r} is not a folder of captures")
+        numbers = {k: _number(data, k, low=lo, high=hi) for k, (lo, hi) in SETTINGS.items()}
+        calibration = self.path_arg("calibration", str(data["calibration"])) if data.get("calibration") else None
+        weighting = data.get("weighting") or None
+        if weighting is not None and weighting not in WEIGHTINGS:
+            raise BenchError(f"weighting {weighting!r}: one of {', '.join(WEIGHTINGS)}")
+        path = analyse_folder(captures, writer=st.writer, calibration=calibration, numbers=numbers,
+                              band_hz=None, weighting=weighting, root=captures)
+        self.reply({"results": st.folder.relative(path)})
+
+
 class Devices(DeskHandler):
     def get(self) -> None:
         from ..acquire.devices import list_devices
@@ -118,10 +149,18 @@ def live_settings(data: dict[str, Any], folder: Any) -> Any:
     if weighting not in WEIGHTINGS:
         raise BenchError(f"weighting {weighting!r}: one of {', '.join(WEIGHTINGS)}")
     averages = _number(data, "averages", low=0, high=100_000, default=16)
+    gain = _number(data, "gain_db", low=-40.0, high=160.0)
+    if data.get("gain_from"):  # the gain a gain-method result measured
+        from ..io.results_json import read_results
+        measured = read_results(folder.resolve(str(data["gain_from"])))
+        if gain is not None or measured.get("gain_db") is None:
+            raise BenchError("state a gain or take it from a result, not both" if gain is not None else
+                             f"{data['gain_from']} has no measured gain")
+        gain = float(measured["gain_db"])
     return LiveSettings(device=data.get("device") or None, host_api=data.get("host_api") or None,
                         rate_hz=_number(data, "rate_hz", low=1000.0, high=1e6, default=48_000.0),
                         channel=int(_number(data, "channel", low=1, high=64, default=1)) - 1, volts_per_fs=vpfs,
-                        gain_db=_number(data, "gain_db", low=-40.0, high=160.0), band_hz=band, weighting=weighting,
+                        gain_db=gain, band_hz=band, weighting=weighting,
                         averages=int(averages) or None)
 
 
@@ -270,7 +309,8 @@ class Upload(DeskHandler):
         self.reply({"saved": st.folder.relative(path)})
 
 
-API = {"state": State, "files": Files, "result": Result, "download": Download, "devices": Devices,
+API = {"state": State, "files": Files, "result": Result, "download": Download, "export": Export,
+       "analyse": Analyse, "devices": Devices,
        "live/start": LiveStart, "live/stop": LiveStop, "live/reset": LiveReset, "live/reference": LiveReference,
        "live/save": LiveSave, "plan/open": PlanOpen, "plan/record": PlanRecord, "plan/state": PlanState,
        "plan/finish": PlanFinish, "check": Check, "checks": Checks, "upload": Upload}

@@ -24,6 +24,13 @@ def figure_row(label: str, value: Any, unit: str, u: Any = None, *, digits: int 
     return {"label": label, "value": num(value), "unit": unit, "u": None if u is None else num(u)}
 
 
+def _f(value: Any, spec: str, scale: float = 1.0) -> str:
+    """A table cell: the number formatted, or "-" where the result has none."""
+    if value is None or (isinstance(value, float) and not math.isfinite(value)):
+        return "-"
+    return format(value * scale, spec)
+
+
 def _u(data: dict[str, Any], key: str) -> Any:
     return (data.get("uncertainty") or {}).get(key)
 
@@ -65,11 +72,10 @@ def _analysis(data: dict[str, Any], where: Path) -> dict[str, Any]:
             figure_row("Flicker corner", data.get("flicker_corner_hz"), "Hz",
                        _scaled(data.get("flicker_corner_std_hz"), 2.0), digits=1),
             figure_row("Floor margin", data.get("floor_margin_db"), "dB", digits=1)]
-    spot = [[f"{r['freq_hz']:g}", f"{r['input_density_v_per_rthz'] * _NV:.3f}", f"{r['noise_figure_db']:.2f}",
-             f"{r.get('floor_margin_db', float('nan')):.1f}"] for r in data.get("spot") or []]
-    hum = [[f"{r['freq_hz']:.2f}", r.get("family", ""), f"{r['output_vrms'] * 1e6:.3f}",
-            f"{r['input_vrms'] * _NV:.2f}", f"{r.get('excess_db', float('nan')):.1f}"]
-           for r in data.get("spurs") or []]
+    spot = [[_f(r.get("freq_hz"), "g"), _f(r.get("input_density_v_per_rthz"), ".3f", _NV),
+             _f(r.get("noise_figure_db"), ".2f"), _f(r.get("floor_margin_db"), ".1f")] for r in data.get("spot") or []]
+    hum = [[_f(r.get("freq_hz"), ".2f"), r.get("family", ""), _f(r.get("output_vrms"), ".3f", 1e6),
+            _f(r.get("input_vrms"), ".2f", _NV), _f(r.get("excess_db"), ".1f")] for r in data.get("spurs") or []]
     tables = [{"title": "Spot values", "columns": ["f (Hz)", "input density (nV/\u221aHz)", "NF (dB)",
                                                    "floor margin (dB)"], "rows": spot},
               {"title": "Hum and spur lines", "columns": ["f (Hz)", "family", "output (\u00b5V)", "input (nV)",
@@ -79,28 +85,25 @@ def _analysis(data: dict[str, Any], where: Path) -> dict[str, Any]:
                                              "floor_corrected", "gain_reference", "sample_rate_hz", "rbw_hz",
                                              "n_averages", "volts_per_fs", "mains_hz")),
             "notes": [*(data.get("notes") or []), *(data.get("hum_hints") or [])]}
-    view["plots"], note = _analysis_plots(data)
+    view["plots"], note = _analysis_plots(data, where)
     if note:
         view["notes"].append(note)
+    view["exports"] = [] if note else ["csv", "html"]
     return view
 
 
-def _analysis_plots(data: dict[str, Any]) -> tuple[list[dict[str, Any]], str | None]:
+def _analysis_plots(data: dict[str, Any], where: Path) -> tuple[list[dict[str, Any]], str | None]:
     """The spectra of a gain-method result, re-run from its captures; spot NF from the JSON otherwise."""
     spot = data.get("spot") or []
     fallback = [_plot("nf", "Noise figure at the spot frequencies", "Frequency (Hz)", "NF (dB)",
                       [_trace("NF", [r["freq_hz"] for r in spot], [r["noise_figure_db"] for r in spot],
                               mode="lines+markers")], log_y=False)]
     from ..errors import BenchError
-    from ..measure.requests import request_from_results, run_gain_method
+    from .analysis import rerun
     try:
-        result = run_gain_method(request_from_results(data))
+        result = rerun(where, data)
     except (BenchError, OSError, ValueError) as err:
         return fallback, f"spectra not shown: {err}"
-    stored, again = data.get("ein_dbu"), result.ein_dbu
-    if stored is None or again is None or abs(stored - again) > 1e-3:
-        return fallback, (f"spectra not shown: re-running the analysis gave EIN {again} dBu, not the stored "
-                          f"{stored} dBu (the captures changed since?)")
     return _spectra_plots(result, data), None
 
 
@@ -135,8 +138,8 @@ def _yfactor(data: dict[str, Any], where: Path) -> dict[str, Any]:
                    [_trace("NF", [r["freq_hz"] for r in rows], [r["noise_figure_db"] for r in rows],
                            upper=[r.get("noise_figure_expanded_db") for r in rows])],
                    log_x=(data.get("centre_hz") is None), log_y=False, band=data.get("band_hz"))]
-    table = [[f"{r['freq_hz']:.6g}", f"{r['y_factor_db']:.3f}", f"{r['noise_figure_db']:.2f}",
-              f"{r.get('noise_temperature_k', float('nan')):.0f}"] for r in rows]
+    table = [[_f(r.get("freq_hz"), ".6g"), _f(r.get("y_factor_db"), ".3f"), _f(r.get("noise_figure_db"), ".2f"),
+              _f(r.get("noise_temperature_k"), ".0f")] for r in rows]
     return {"headline": head, "plots": plots,
             "tables": [{"title": "Per frequency", "columns": ["f (Hz)", "Y (dB)", "NF (dB)", "Te (K)"],
                         "rows": table}],
@@ -161,7 +164,7 @@ def _eni(data: dict[str, Any], where: Path) -> dict[str, Any]:
              _plot("in", "Current noise in", "Frequency (Hz)", "A/\u221aHz",
                    [_trace("in", f, [r["in_a_per_rthz"] for r in rows])]),
              _plot("nfrs", "Noise figure against source resistance", "Rs (\u03a9)", "NF (dB)", curves, log_y=False)]
-    table = [[f"{p['rs_ohm']:g}", p.get("label", ""), f"{p.get('gain_db', float('nan')):.2f}"]
+    table = [[_f(p.get("rs_ohm"), "g"), p.get("label", ""), _f(p.get("gain_db"), ".2f")]
              for p in data.get("points") or []]
     return {"headline": head, "plots": plots, "conditions": [],
             "tables": [{"title": "Captures swept", "columns": ["Rs (\u03a9)", "capture", "gain (dB)"], "rows": table}],
@@ -178,8 +181,8 @@ def _budget(data: dict[str, Any], where: Path) -> dict[str, Any]:
                            labels=names),
                     _trace("predicted", list(range(len(taps))), [t.get("share_predicted") for t in taps],
                            kind="bar", labels=names)], log_x=False, log_y=False)]
-    table = [[t["name"], f"{t['gain_db']:.2f}", f"{t['input_density_v_per_rthz'] * _NV:.3f}",
-              f"{(t.get('share_measured') or 0) * 100:.1f}", "yes" if t.get("unexplained") else ""] for t in taps]
+    table = [[t["name"], _f(t.get("gain_db"), ".2f"), _f(t.get("input_density_v_per_rthz"), ".3f", _NV),
+              _f(t.get("share_measured"), ".1f", 100.0), "yes" if t.get("unexplained") else ""] for t in taps]
     return {"headline": head, "plots": plots,
             "tables": [{"title": "Stages", "columns": ["stage", "gain (dB)", "input density (nV/\u221aHz)",
                                                        "share (%)", "unexplained"], "rows": table}],
@@ -203,6 +206,7 @@ def result_view(path: Path, name: str) -> dict[str, Any]:
     if kind not in _KINDS:
         raise BenchError(f"{name} is not a benchnf results file (kind {kind!r}); open one written by benchnf")
     view = _KINDS[kind](data, path)
+    view.setdefault("exports", [])
     view.update(kind=kind, name=name, downloads=_downloads(path, name))
     view["provenance"] = (data.get("provenance") or {}).get("made_at")
     return view

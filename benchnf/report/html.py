@@ -13,7 +13,7 @@ import numpy as np
 
 from .._optional import require
 
-__all__ = ["unit_figure", "unit_report_html", "unit_png", "page_html", "control_chart_html"]
+__all__ = ["unit_figure", "unit_report_html", "unit_png", "page_html", "control_chart_html", "analysis_report_html"]
 
 _TONE = {"PASS": "#2e7d4f", "MARGINAL": "#b07d12", "FAIL": "#b3261e", "ERROR": "#5f5f5f"}
 
@@ -138,6 +138,20 @@ def unit_report_html(*, serial: str, verdict: str, check: dict[str, Any] | None,
 <footer>benchnf check report. Suggestions are general trade knowledge, not a diagnosis. Mains and valve
 equipment carry lethal voltages: follow local codes and licensed practice.</footer>"""
     return page_html(f"benchnf check: {serial}", body, accent=tone)
+
+
+def analysis_report_html(*, title: str, summary: str, figures: list[tuple[str, bytes]],
+                         inputs: list[dict[str, Any]] | None = None) -> str:
+    """A gain-method result as one self-contained page: its summary text, its figures (PNG inline) and the
+    inputs it read with their SHA-256."""
+    import base64
+    imgs = "".join(f'<h2>{html.escape(name)}</h2><img alt="{html.escape(name)}" '
+                   f'src="data:image/png;base64,{base64.b64encode(png).decode()}">' for name, png in figures)
+    rows = "".join(f"<tr><td>{html.escape(str(i.get('file')))}</td><td><code>{html.escape(str(i.get('sha256')))}"
+                   f"</code></td></tr>" for i in inputs or [])
+    table = f"<h2>Inputs</h2><table><tr><th>file</th><th>SHA-256</th></tr>{rows}</table>" if rows else ""
+    body = f"<h1>{html.escape(title)}</h1><pre>{html.escape(summary)}</pre>{imgs}{table}"
+    return page_html(title, body)
 
 
 def page_html(title: str, body: str, *, accent: str = "#5f5f5f") -> str:

@@ -67,6 +67,8 @@ async function loadResultsList(chosen) {
   const list = $("#results-list");
   list.replaceChildren(...files.map((f) => el("li", {}, el("button", {"data-file": f, onclick: () => openResult(f)}, f))));
   if (!files.length) list.append(el("li", {class: "hint"}, "No results here yet: analyse captures, or run a plan."));
+  await fillFiles($("#analyse-folder"), "units");
+  await fillFiles($("#analyse-cal"), "calibrations", "—");
   if (chosen) openResult(chosen);
 }
 function figureCard(f) {
@@ -90,9 +92,23 @@ async function openResult(name) {
       ...v.tables.flatMap((t) => t.rows.length ? table(t.title, t.columns, t.rows) : []),
       ...(v.notes.length ? [el("h3", {}, "Notes"), el("ul", {class: "notes"}, ...v.notes.map((n) => el("li", {}, n)))] : []),
       el("h3", {}, "Downloads"), el("p", {class: "downloads"}, ...v.downloads.map((d) =>
-        el("a", {href: "/api/download?path=" + encodeURIComponent(d), download: d.split("/").pop()}, d))));
+        el("a", {href: "/api/download?path=" + encodeURIComponent(d), download: d.split("/").pop()}, d)),
+        ...v.exports.map((f) => el("a", {href: `/api/export?form=${f}&path=` + encodeURIComponent(name)},
+          f === "csv" ? "spectra (CSV, every bin)" : "report (HTML)"))));
     for (let i = 0; i < v.plots.length; i++) await drawPlot(plots[i], v.plots[i]);
     box.dataset.ready = name;
+  });
+}
+async function analyseFolder(ev) {
+  ev.preventDefault();
+  await guarded(async () => {
+    const data = Object.fromEntries(new FormData($("#analyse-form")).entries());
+    $("#analyse-run").disabled = true;
+    try {
+      const r = await api("analyse", data);
+      say("analysed; results in " + r.results, true);
+      await loadResultsList(r.results);
+    } finally { $("#analyse-run").disabled = false; }
   });
 }
 async function upload(input) {
@@ -117,6 +133,7 @@ async function prepareLive() {
     $("#live-device").replaceChildren(el("option", {value: ""}, "default input"),
       ...devs.map((d) => el("option", {value: d.name, "data-api": d.host_api}, `${d.name} — ${d.host_api} (${d.inputs} in)`)));
     await fillFiles($("#live-cal"), "calibrations", "—");
+    await fillFiles($("#live-gain-from"), "analyses", "—");
     await refFiles();
   });
 }
@@ -160,6 +177,12 @@ function drawLive() {
   const unit = p.unit === "V" ? "V/√Hz" : "FS/√Hz";
   const traces = [{x: p.x, y: p.y, type: "scatter", mode: "lines", name: p.referred + "-referred",
     line: {color: COLOURS[0], width: 1.2}}];
+  if (p.lines.length) {
+    const at = (f) => { let k = 0; while (k < p.x.length - 1 && p.x[k] < f) k++; return p.y[k]; };
+    traces.push({x: p.lines.map((l) => l.freq_hz), y: p.lines.map((l) => at(l.freq_hz)), type: "scatter",
+      mode: "markers+text", name: "lines found", text: p.lines.map((l) => l.family === "unclassified" ? "" : l.family),
+      textposition: "top center", marker: {color: COLOURS[2], size: 9, symbol: "triangle-down"}});
+  }
   if (live.reference) traces.push({x: live.reference.x, y: live.reference.y, type: "scatter", mode: "lines",
     name: live.reference.name, line: {color: COLOURS[1], width: 1.2, dash: "dot"}});
   const div = $("#live-plot");
@@ -176,7 +199,7 @@ function drawLive() {
   $("#live-band-cond").textContent = `${p.band_hz[0]}–${p.band_hz[1]} Hz, weighting ${p.weighting}, output`;
   $("#live-ein").textContent = p.ein_rms === null ? "–" : fmtLevel(p.ein_rms, p.unit);
   $("#live-ein-cond").textContent = p.gain_db === null ? "state a gain to refer to the input"
-    : `band noise through the stated ${p.gain_db} dB gain`;
+    : `band noise through the stated ${p.gain_db.toFixed(2)} dB gain`;
   $("#live-secs").textContent = p.seconds.toFixed(1) + " s";
   $("#live-avg").textContent = p.averages ? `running average of ${p.averages} segments` : "averaging until restarted";
   const top = p.lines[0];
@@ -295,6 +318,7 @@ window.addEventListener("DOMContentLoaded", async () => {
   $("#ref-file").addEventListener("change", liveReference);
   $("#plan-open").addEventListener("click", planOpen);
   $("#check-form").addEventListener("submit", runCheck);
+  $("#analyse-form").addEventListener("submit", analyseFolder);
   const s = await refreshState();
   await loadResultsList(s && s.opened);
   document.body.dataset.ready = "1";
