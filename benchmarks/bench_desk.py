@@ -66,11 +66,13 @@ def player(fs: int):
 def live_rate(driver, url: str, pid: int, rate: int, seconds: float) -> tuple[float, float]:
     from selenium.webdriver.common.by import By
     from selenium.webdriver.support.ui import Select
+    from selenium.webdriver.support.ui import WebDriverWait
     driver.get(url)
+    WebDriverWait(driver, 30).until(lambda d: d.execute_script("return document.body.dataset.ready === '1'"))
     driver.find_element(By.CSS_SELECTOR, "[data-view=live]").click()
     time.sleep(1.0)
     Select(driver.find_element(By.ID, "live-device")).select_by_value("pulse")
-    Select(driver.find_element(By.NAME, "rate_hz")).select_by_value(str(rate))
+    Select(driver.find_element(By.CSS_SELECTOR, "#live-form [name=rate_hz]")).select_by_value(str(rate))
     driver.find_element(By.ID, "live-start").click()
     time.sleep(2.0)  # settle: device open, first averages
     plot = driver.find_element(By.ID, "live-plot")

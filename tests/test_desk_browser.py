@@ -56,10 +56,16 @@ def _wait(driver, condition, seconds=30.0):
     return WebDriverWait(driver, seconds, poll_frequency=0.05).until(lambda d: condition(d))
 
 
+def _open(driver, url):
+    """Load the page and wait until its script has wired the buttons (body data-ready)."""
+    driver.get(url)
+    _wait(driver, lambda d: d.execute_script("return document.body.dataset.ready === '1'"))
+
+
 def test_demo_results_show_ein_and_noise_figure(browser, bench):
     data = json.loads((bench / "results" / "results.json").read_text())
     with running_desk(bench, "--open", "results/results.json") as (_proc, url):
-        browser.get(url)
+        _open(browser, url)
         _wait(browser, lambda d: d.find_element(By.ID, "result").get_attribute("data-ready"))
         figures = browser.find_element(By.ID, "figures").text
     assert f"{data['ein_dbu']:.2f}" in figures and "dBu" in figures  # the demo's EIN, as the JSON has it
@@ -77,7 +83,7 @@ def _not_blank(png: bytes) -> tuple[int, float]:
 
 def test_a_result_view_draws_its_plots(browser, bench, tmp_path):
     with running_desk(bench) as (_proc, url):
-        browser.get(url)
+        _open(browser, url)
         _wait(browser, lambda d: d.find_elements(By.CSS_SELECTOR, "[data-file='results/eni.json']"))
         browser.find_element(By.CSS_SELECTOR, "[data-file='results/results.json']").click()
         _wait(browser, lambda d: d.find_element(By.ID, "result").get_attribute("data-ready") == "results/results.json")
@@ -113,11 +119,11 @@ def _player(tone_hz: float | None, level: list[float], fs: int = 48_000):
 def test_live_view_shows_a_played_tone_within_two_seconds(browser, bench):
     tone = 1234.5
     with running_desk(bench) as (_proc, url), _player(tone, [1e-4, 0.1]):
-        browser.get(url)
+        _open(browser, url)
         browser.find_element(By.CSS_SELECTOR, "[data-view=live]").click()
         _wait(browser, lambda d: d.find_elements(By.CSS_SELECTOR, f"#live-device option[value='{DEVICE}']"))
         Select(browser.find_element(By.ID, "live-device")).select_by_value(DEVICE)
-        browser.find_element(By.NAME, "volts_per_fs").send_keys("1.0")
+        browser.find_element(By.CSS_SELECTOR, "#live-form [name=volts_per_fs]").send_keys("1.0")
         start = time.monotonic()
         browser.find_element(By.ID, "live-start").click()
         peak = _wait(browser, lambda d: d.find_element(By.ID, "live-plot").get_attribute("data-peak-hz"), 5.0)
@@ -163,7 +169,7 @@ def test_a_guided_plan_runs_through_every_step(browser, bench):
     (bench / "loop_plan.toml").write_text(_PLAN)
     level = [1e-5, 0.0]  # what the loopback carries follows the steps: floor, then "DUT" noise, then a tone
     with running_desk(bench) as (_proc, url), _player(1000.0, level):
-        browser.get(url)
+        _open(browser, url)
         browser.find_element(By.CSS_SELECTOR, "[data-view=plan]").click()
         _wait(browser, lambda d: d.find_elements(By.CSS_SELECTOR, "#plan-file option[value='loop_plan.toml']"))
         Select(browser.find_element(By.ID, "plan-file")).select_by_value("loop_plan.toml")
@@ -196,7 +202,7 @@ def test_unit_check_shows_the_verdict_and_earlier_checks(browser, bench):
     expected = check_results(read_results(bench / "results" / "results.json"),
                              load_profile(bench / "known_good_profile.toml")).verdict
     with running_desk(bench) as (_proc, url):
-        browser.get(url)
+        _open(browser, url)
         browser.find_element(By.CSS_SELECTOR, "[data-view=check]").click()
         _wait(browser, lambda d: d.find_elements(By.CSS_SELECTOR, "#check-source option[value='results/results.json']"))
         Select(browser.find_element(By.ID, "check-source")).select_by_value("results/results.json")

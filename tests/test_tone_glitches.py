@@ -1,0 +1,45 @@
+"""Why calibrate-output plays its tone again when the sine fit's residual is within 30 dB of the tone.
+
+A tone that came back through a sound system that dropped or repeated samples reads low: the one-phase
+sine fit (IEEE 1057, dsp.tones.fit_sine) averages the parts either side of a phase jump. Signals are
+synthetic (INVENTED DATA, seeded): a clean sine with noise 60 dB down, the same with a 20 ms gap of
+zeros, and with 10 ms of it played twice.
+"""
+
+import numpy as np
+import pytest
+
+from benchnf.dsp.tones import fit_sine
+
+FS, F, A = 48_000, 1000.0, 0.3
+THRESHOLD_DB = 30.0  # benchnf/cli/calibrate_output.py _MIN_SNR_DB
+
+
+def _tone():
+    t = np.arange(int(1.8 * FS)) / FS
+    return A * np.sin(2 * np.pi * F * t) + np.random.default_rng(2).normal(0, A / np.sqrt(2) * 1e-3, t.size)
+
+
+def test_the_threshold_is_the_module_s():
+    from benchnf.cli import calibrate_output
+    assert calibrate_output._MIN_SNR_DB == THRESHOLD_DB
+
+
+def test_a_clean_tone_passes_with_its_amplitude():
+    fit = fit_sine(_tone(), sample_rate_hz=FS, frequency_hz=F)
+    assert fit.snr_db > 55 and fit.amplitude == pytest.approx(A, rel=1e-3)
+
+
+@pytest.mark.parametrize("jump", [12, 24, 36])  # a quarter, half and three quarters of the 48-sample period
+def test_a_repeated_buffer_reads_low_and_is_caught(jump):
+    x = _tone()
+    glitch = np.concatenate([x[:40_000], x[40_000 - 480 - jump:]])  # 10 ms and `jump` samples played twice
+    fit = fit_sine(glitch, sample_rate_hz=FS, frequency_hz=F)
+    assert fit.amplitude < 0.99 * A  # what the output calibration would have reported
+    assert fit.snr_db < THRESHOLD_DB
+
+
+def test_a_gap_of_zeros_is_caught():
+    x = _tone()
+    x[40_000:40_960] = 0.0
+    assert fit_sine(x, sample_rate_hz=FS, frequency_hz=F).snr_db < THRESHOLD_DB
