@@ -350,3 +350,10 @@ def test_every_recorded_result_shape_has_a_view(golden, tmp_path):
     if data["kind"] == "analysis":
         assert any(n.startswith("spectra not shown") for n in view["notes"]) and view["exports"] == []
     json.dumps(view, allow_nan=False)  # what the page receives is valid JSON
+
+
+@pytest.mark.skipif(_LOOP is not None, reason=_LOOP or "")
+def test_a_channel_the_device_lacks_is_refused(desk):
+    status, answer = call(desk, "/api/live/start", {"device": "pulse", "channel": "64"})
+    assert status == 400 and "channel 64 does not exist" in answer["error"]
+    assert call(desk, "/api/state")[1]["audio"] is None  # nothing left holding the card
