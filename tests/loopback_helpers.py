@@ -19,3 +19,33 @@ def loopback_missing() -> str | None:
     if why and os.environ.get("CI") == "true":
         raise RuntimeError(f"CI must run the loopback tests, but: {why}")
     return why
+
+
+def loopback_plan(*, seconds: float, out_dir: str | None = None, fs: int = 48_000) -> str:
+    """A guided plan through the loopback (floor, terminated, tone at 1 kHz, 1 mV at the source), as TOML."""
+    where = f'out_dir = "{out_dir}"\n' if out_dir else ""
+    return f'''name = "loopback plan"
+device = "{DEVICE}"
+sample_rate_hz = {fs}
+{where}
+[analysis]
+rs_ohm = 200
+temperature_k = 290
+volts_per_fs = 1.0
+
+[[step]]
+condition = "floor"
+seconds = {seconds}
+prompt = "Terminate the analyzer input."
+
+[[step]]
+condition = "terminated"
+seconds = {seconds}
+prompt = "Connect the amplifier; terminate its input in 200 ohm."
+
+[[step]]
+condition = "tone"
+seconds = {seconds}
+tone_hz = 1000
+tone_input_vrms = 0.001
+'''

@@ -19,7 +19,7 @@ import pytest
 import soundfile as sf
 
 from benchnf.cli import ExitStatus, main
-from loopback_helpers import DEVICE, loopback_missing
+from loopback_helpers import DEVICE, loopback_missing, loopback_plan
 
 FS = 48_000
 
@@ -138,31 +138,8 @@ def test_ctrl_c_and_sigterm_keep_what_was_recorded(tmp_path, sig):
 
 def test_guided_plan_runs_non_interactively(tmp_path):
     plan = tmp_path / "plan.toml"
-    plan.write_text(f'''name = "loopback plan"
-device = "{DEVICE}"
-sample_rate_hz = {FS}
-out_dir = "{tmp_path / 'run'}"
+    plan.write_text(loopback_plan(seconds=2.5, out_dir=str(tmp_path / 'run'), fs=FS))
 
-[analysis]
-rs_ohm = 200
-temperature_k = 290
-volts_per_fs = 1.0
-
-[[step]]
-condition = "floor"
-seconds = 2.5
-prompt = "Terminate the analyzer input."
-
-[[step]]
-condition = "terminated"
-seconds = 2.5
-
-[[step]]
-condition = "tone"
-seconds = 2.5
-tone_hz = 1000
-tone_input_vrms = 0.001
-''')
     import sounddevice as sd
     import benchnf.acquire.plan as plan_mod
     rng = np.random.default_rng(4)

@@ -21,7 +21,7 @@ pytest.importorskip("plotly")
 webdriver = pytest.importorskip("selenium.webdriver")
 
 from desk_helpers import demo_folder, running_desk  # noqa: E402
-from loopback_helpers import DEVICE, loopback_missing  # noqa: E402
+from loopback_helpers import DEVICE, loopback_missing, loopback_plan  # noqa: E402
 from selenium.webdriver.common.by import By  # noqa: E402
 from selenium.webdriver.support.ui import Select, WebDriverWait  # noqa: E402
 
@@ -137,36 +137,11 @@ def test_live_view_shows_a_played_tone_within_two_seconds(browser, bench):
     assert band.endswith("dBu") and abs(float(band.split()[0]) - 20 * np.log10(0.1 / np.sqrt(2) / 0.7746)) < 0.5
 
 
-_PLAN = '''name = "loopback plan"
-device = "pulse"
-sample_rate_hz = 48000
-
-[analysis]
-rs_ohm = 200
-temperature_k = 290
-volts_per_fs = 1.0
-
-[[step]]
-condition = "floor"
-seconds = 2
-prompt = "Terminate the analyzer input."
-
-[[step]]
-condition = "terminated"
-seconds = 2
-prompt = "Connect the amplifier; terminate its input in 200 ohm."
-
-[[step]]
-condition = "tone"
-seconds = 2
-tone_hz = 1000
-tone_input_vrms = 0.001
-'''
 
 
 @loopback
 def test_a_guided_plan_runs_through_every_step(browser, bench):
-    (bench / "loop_plan.toml").write_text(_PLAN)
+    (bench / "loop_plan.toml").write_text(loopback_plan(seconds=2))
     level = [1e-5, 0.0]  # what the loopback carries follows the steps: floor, then "DUT" noise, then a tone
     with running_desk(bench) as (_proc, url), _player(1000.0, level):
         _open(browser, url)

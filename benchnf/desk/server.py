@@ -61,10 +61,7 @@ class DeskHandler(tornado.web.RequestHandler):
         self.state = state
 
     def prepare(self) -> None:
-        refusal = guard_refusal(self.state, self.request, self.get_query_argument("token", None),
-                                self.get_cookie(COOKIE))
-        if refusal:
-            raise tornado.web.HTTPError(403, reason=refusal)
+        guard(self, self.state)
         if self.state.token and self.get_query_argument("token", None):
             self.set_cookie(COOKIE, self.state.token, httponly=True, samesite="Strict")
         if self.request.method in ("POST", "PUT", "DELETE") and self.request.headers.get("X-Benchnf-Desk") != "1":
@@ -110,6 +107,14 @@ def _json_default(v: Any) -> Any:
     raise TypeError(f"{type(v).__name__} is not JSON")
 
 
+def guard(handler: tornado.web.RequestHandler, state: DeskState) -> None:
+    """Refuse the request (403) unless :func:`guard_refusal` allows it: every handler calls this first."""
+    refusal = guard_refusal(state, handler.request, handler.get_query_argument("token", None),
+                            handler.get_cookie(COOKIE))
+    if refusal:
+        raise tornado.web.HTTPError(403, reason=refusal)
+
+
 def guard_refusal(state: DeskState, request: Any, query_token: str | None, cookie: str | None) -> str | None:
     """Why a request is refused (None: allowed): a missing or wrong token, or a foreign Host on loopback."""
     if state.token:
@@ -149,10 +154,7 @@ class GuardedStatic(tornado.web.StaticFileHandler):
         self.state = state
 
     def prepare(self) -> None:
-        refusal = guard_refusal(self.state, self.request, self.get_query_argument("token", None),
-                                self.get_cookie(COOKIE))
-        if refusal:
-            raise tornado.web.HTTPError(403, reason=refusal)
+        guard(self, self.state)
 
 
 class LiveSocket(tornado.websocket.WebSocketHandler):
@@ -166,10 +168,7 @@ class LiveSocket(tornado.websocket.WebSocketHandler):
         return urlparse(origin).netloc == self.request.host
 
     def prepare(self) -> None:
-        refusal = guard_refusal(self.state, self.request, self.get_query_argument("token", None),
-                                self.get_cookie(COOKIE))
-        if refusal:
-            raise tornado.web.HTTPError(403, reason=refusal)
+        guard(self, self.state)
 
     def open(self, *args: Any, **kwargs: Any) -> None:
         self.state.sockets.add(self)
