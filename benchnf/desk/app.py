@@ -80,9 +80,27 @@ def _bind(app: Any, host: str, port: int) -> tuple[Any, int]:
     return server, sockets[0].getsockname()[1]
 
 
+# Loaded on a thread while the desk waits for its first request: the first live start, result or check
+# then answers at once (importing them on the first click took about a second here).
+_WARM = ("numpy", "scipy.signal", "benchnf.acquire.live", "benchnf.desk.live", "benchnf.desk.views",
+         "benchnf.measure.requests", "sounddevice")
+
+
+def _warm_up() -> None:
+    import importlib
+    for name in _WARM:
+        try:
+            importlib.import_module(name)
+        except (ImportError, OSError):  # an optional library missing: the page says so when it is needed
+            pass
+
+
 def serve(desk: RunningDesk) -> None:
     """Run until Ctrl-C or SIGTERM: the live timer pushes snapshots; the sound card is closed at the end."""
+    import threading
+
     import tornado.ioloop
+    threading.Thread(target=_warm_up, name="benchnf-desk-warm-up", daemon=True).start()
 
     from .handlers import push_live
     timer = tornado.ioloop.PeriodicCallback(lambda: push_live(desk.state), LIVE_TICK_MS)
