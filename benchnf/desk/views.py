@@ -58,6 +58,8 @@ def _plot(pid: str, title: str, x_label: str, y_label: str, traces: list[dict[st
 def _trace(name: str, x: Any, y: Any, **extra: Any) -> dict[str, Any]:
     def clean(a: Any) -> list[float | None]:
         return [None if v is None or not math.isfinite(float(v)) else float(v) for v in a]
+    if extra.get("u") is not None:
+        extra["u"] = clean(extra["u"])
     return {"name": name, "x": clean(x), "y": clean(y), **extra}
 
 
@@ -134,9 +136,9 @@ def _yfactor(data: dict[str, Any], where: Path) -> dict[str, Any]:
             figure_row("Noise temperature", data.get("noise_temperature_k"), "K", digits=1),
             figure_row("Y factor", data.get("y_factor_db"), "dB", digits=3),
             figure_row("Gain", data.get("gain_db"), "dB")]
-    plots = [_plot("yf", "Y-factor noise figure against frequency", "Frequency (Hz)", "NF (dB)",
+    plots = [_plot("yf", "Y-factor noise figure against frequency (bars: U, k=2)", "Frequency (Hz)", "NF (dB)",
                    [_trace("NF", [r["freq_hz"] for r in rows], [r["noise_figure_db"] for r in rows],
-                           upper=[r.get("noise_figure_expanded_db") for r in rows])],
+                           u=[r.get("noise_figure_expanded_db") for r in rows])],
                    log_x=(data.get("centre_hz") is None), log_y=False, band=data.get("band_hz"))]
     table = [[_f(r.get("freq_hz"), ".6g"), _f(r.get("y_factor_db"), ".3f"), _f(r.get("noise_figure_db"), ".2f"),
               _f(r.get("noise_temperature_k"), ".0f")] for r in rows]
@@ -159,10 +161,12 @@ def _eni(data: dict[str, Any], where: Path) -> dict[str, Any]:
     nf = data.get("nf_vs_rs") or {}
     curves = [_trace(f"{k} Hz", nf.get("rs_ohm_grid", []), c if isinstance(c, list) else c.get("nf_db", []))
               for k, c in (nf.get("curves") or {}).items()]
-    plots = [_plot("en", "Voltage noise en", "Frequency (Hz)", "V/\u221aHz",
-                   [_trace("en", f, [r["en_v_per_rthz"] for r in rows])]),
-             _plot("in", "Current noise in", "Frequency (Hz)", "A/\u221aHz",
-                   [_trace("in", f, [r["in_a_per_rthz"] for r in rows])]),
+    def u(key: str) -> list[float | None]:
+        return [None if r.get(key) is None else 2.0 * r[key] for r in rows]
+    plots = [_plot("en", "Voltage noise en (bars: U, k=2)", "Frequency (Hz)", "V/\u221aHz",
+                   [_trace("en", f, [r["en_v_per_rthz"] for r in rows], u=u("en_std_v_per_rthz"))]),
+             _plot("in", "Current noise in (bars: U, k=2)", "Frequency (Hz)", "A/\u221aHz",
+                   [_trace("in", f, [r["in_a_per_rthz"] for r in rows], u=u("in_std_a_per_rthz"))]),
              _plot("nfrs", "Noise figure against source resistance", "Rs (\u03a9)", "NF (dB)", curves, log_y=False)]
     table = [[_f(p.get("rs_ohm"), "g"), p.get("label", ""), _f(p.get("gain_db"), ".2f")]
              for p in data.get("points") or []]

@@ -50,7 +50,8 @@ function drawPlot(div, spec) {
   const traces = spec.traces.map((t, i) => t.kind === "bar"
     ? {type: "bar", name: t.name, x: t.labels, y: t.y, marker: {color: COLOURS[i % COLOURS.length]}}
     : {type: "scatter", mode: t.mode || "lines", name: t.name, x: t.x, y: t.y,
-       line: {color: COLOURS[i % COLOURS.length], width: 1.4}, hovertemplate: "%{x:.4g} Hz<br>%{y:.4g}<extra>" + t.name + "</extra>"});
+       line: {color: COLOURS[i % COLOURS.length], width: 1.4}, hovertemplate: "%{x:.4g} Hz<br>%{y:.4g}<extra>" + t.name + "</extra>",
+       ...(t.u ? {error_y: {type: "data", array: t.u, color: "#9aa3a8", thickness: 1}} : {})});
   const shapes = spec.band ? [{type: "rect", xref: "x", yref: "paper", x0: spec.band[0], x1: spec.band[1], y0: 0, y1: 1,
     fillcolor: "#d7e9e8", opacity: 0.35, line: {width: 0}, layer: "below"}] : [];
   const layout = {title: {text: spec.title, font: {size: 14}}, margin: {l: 70, r: 20, t: 40, b: 50},
