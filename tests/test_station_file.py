@@ -96,3 +96,23 @@ def test_a_bad_station_file_is_refused_in_one_line_before_any_output(station, tm
 def test_a_missing_station_file_is_refused(station, tmp_path, capsys):
     assert main(["records", "--station-file", str(tmp_path / "none.toml"), "list"]) == ExitStatus.BAD_INPUT
     assert "no such file" in capsys.readouterr().err
+
+
+def test_the_file_can_say_what_inputs_are_named_relative_to(station, tmp_path):
+    results = tmp_path / "r.json"
+    unit = DEMO / "units" / "HA-0001"
+    assert main(["analyze", "--terminated", str(unit / "terminated.flac"), "--tone", str(unit / "tone.flac"),
+                 "--calibration", str(station / "cal" / "c.json"), "--rs", "20", "--band", "20", "20000",
+                 "--json", str(results), "--quiet"]) == 0
+    text = (station / "station.toml").read_text()
+    (station / "station.toml").write_text(text + 'relative_to = "."\n')  # the station's own folder
+    out = tmp_path / "check.json"
+    assert main(["check", str(results), "--profile", str(DEMO / "known_good_profile.toml"), "--station-file",
+                 str(station / "station.toml"), "--json", str(out)]) == 0
+    named = {i["file"] for i in json.loads(out.read_text())["provenance"]["inputs"]}
+    assert "station.toml" in named  # named from the station folder, not from the JSON's folder
+    out2 = tmp_path / "check2.json"
+    assert main(["check", str(results), "--profile", str(DEMO / "known_good_profile.toml"), "--station-file",
+                 str(station / "station.toml"), "--relative-to", str(tmp_path), "--json", str(out2)]) == 0
+    named = {i["file"] for i in json.loads(out2.read_text())["provenance"]["inputs"]}
+    assert "station/station.toml" in named  # the command line comes first

@@ -183,6 +183,8 @@ def settle_station(args: argparse.Namespace) -> None:
         setattr(args, key, getattr(args, key, None) or os.environ.get(env) or getattr(stated, key))
     if hasattr(args, "calibration") and args.calibration is None and getattr(args, "volts_per_fs", None) is None:
         args.calibration = stated.calibration
+    if hasattr(args, "relative_to") and args.relative_to is None:
+        args.relative_to = stated.relative_to
 
 
 def records_url_of(args: argparse.Namespace) -> str | None:

@@ -5,8 +5,9 @@ where its checks are recorded and which calibration it uses, so scripts on that 
     operator = "ann"
     records = "records.db"                 # a file path, sqlite:///FILE or postgresql://USER@HOST/DB
     calibration = "cal/today.json"        # written by 'benchnf calibrate'
+    relative_to = "/srv/bench"             # inputs are named relative to this folder in the provenance
 
-Every key is optional. A relative path (records given as a path, calibration) is taken from the station
+Every key is optional. A relative path (records given as a path, calibration, relative_to) is taken from the station
 file's folder, so the file means the same wherever the command is started.
 """
 
@@ -20,7 +21,7 @@ from .toml_file import check_keys, read_toml
 
 __all__ = ["StationFile", "read_station_file"]
 
-_KEYS = {"station", "operator", "records", "calibration"}
+_KEYS = {"station", "operator", "records", "calibration", "relative_to"}
 
 
 @dataclass(frozen=True)
@@ -32,6 +33,7 @@ class StationFile:
     operator: str | None = None
     records: str | None = None
     calibration: Path | None = None
+    relative_to: Path | None = None
 
 
 def _text(table: dict[str, object], key: str, where: str) -> str | None:
@@ -53,6 +55,8 @@ def read_station_file(path: str | Path) -> StationFile:
     if records is not None and "://" not in records:
         records = str(path.parent / Path(records).expanduser())
     calibration = _text(table, "calibration", where)
+    relative_to = _text(table, "relative_to", where)
     return StationFile(path=path, station=_text(table, "station", where), operator=_text(table, "operator", where),
                        records=records,
-                       calibration=path.parent / Path(calibration).expanduser() if calibration else None)
+                       calibration=path.parent / Path(calibration).expanduser() if calibration else None,
+                       relative_to=path.parent / Path(relative_to).expanduser() if relative_to else None)
