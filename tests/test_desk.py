@@ -357,3 +357,9 @@ def test_a_channel_the_device_lacks_is_refused(desk):
     status, answer = call(desk, "/api/live/start", {"device": "pulse", "channel": "64"})
     assert status == 400 and "channel 64 does not exist" in answer["error"]
     assert call(desk, "/api/state")[1]["audio"] is None  # nothing left holding the card
+
+
+def test_no_file_named_is_bad_input_not_a_refusal(desk):
+    for path in ("/api/result?path=", "/api/download?path="):
+        status, answer = call(desk, path)
+        assert status == 400 and "no file named" in answer["error"]

@@ -43,3 +43,57 @@ def test_a_gap_of_zeros_is_caught():
     x = _tone()
     x[40_000:40_960] = 0.0
     assert fit_sine(x, sample_rate_hz=FS, frequency_hz=F).snr_db < THRESHOLD_DB
+
+
+class _Loop:
+    """A stand-in for the sound card's loop (INVENTED DATA): returns the takes it is given, in turn."""
+
+    def __init__(self, takes):
+        self.takes, self.calls = list(takes), 0
+        self.input = type("Dev", (), {"name": "test loop"})()
+
+    def __call__(self, *args, **kwargs):
+        return self
+
+    def play_and_record(self, signal, *, sample_rate_hz, channels=1, output_device=None):
+        self.calls += 1
+        take = self.takes.pop(0)
+        return take(signal[:, :channels].copy())
+
+
+def _calibration(tmp_path):
+    import json
+    cal = tmp_path / "cal.json"
+    cal.write_text(json.dumps({"schema": "benchnf.calibration/1", "volts_per_fs": 2.0, "channel": 0,
+                               "sample_rate_hz": 48000.0, "reference_vrms": 0.5, "reference_frequency_hz": 1000.0,
+                               "reference_level_dbfs": -9.0, "tone_snr_db": 90.0, "made_at": "2026-12-02T00:00:00Z"}))
+    return cal
+
+
+def _glitched(x):
+    x = x.copy()
+    x[20_000:] = np.concatenate([x[20_000 - 492:-492]])  # 10.25 ms played twice from here on
+    return x
+
+
+@pytest.mark.parametrize("takes, calls, ok", [
+    ([lambda x: x], 1, True),
+    ([_glitched, lambda x: x], 2, True),
+    ([lambda x: 0 * x] * 3, 3, False),
+])
+def test_calibrate_output_plays_again_and_then_refuses(tmp_path, monkeypatch, capsys, takes, calls, ok):
+    import json
+
+    import benchnf.acquire.record as record
+    from benchnf.cli import main
+    loop = _Loop(takes)
+    monkeypatch.setattr(record, "SoundcardRecorder", loop)
+    out = tmp_path / "out.json"
+    rc = main(["calibrate-output", "--calibration", str(_calibration(tmp_path)), "-o", str(out), "--tone-hz", "1000"])
+    err = capsys.readouterr().err
+    assert loop.calls == calls and (rc == 0) == ok
+    if ok:
+        assert json.loads(out.read_text())["output_volts_per_fs"] == pytest.approx(2.0, rel=1e-6)
+        assert err.count("played again") == calls - 1
+    else:
+        assert not out.exists() and "in 3 tries, the 2 s tone did not come back whole" in err

@@ -35,40 +35,49 @@ _ATTEMPTS = 3
 _MIN_SNR_DB = 30.0
 
 
-def run(args: argparse.Namespace, writer: Writer) -> int:
+def _loop_once(rec: Any, sig: Any, cal: Any, args: argparse.Namespace) -> tuple[Any, str | None]:
+    """Play the tone once and fit what came back: (the fit, None) or (the fit or None, what went wrong)."""
     import numpy as np
+
+    from ..acquire.signals import tone_span
+    from ..dsp.tones import fit_sine
+    fs = cal.sample_rate_hz
+    play = np.concatenate([sig, np.zeros(int(1.0 * fs), dtype=np.float32)])  # room for the round-trip latency
+    x = rec.play_and_record(np.column_stack([play, play]), sample_rate_hz=fs, channels=cal.channel + 1)
+    start, stop = tone_span(x[:, cal.channel], fs)
+    if stop - start < 0.5 * sig.size:
+        return None, (f"the {args.seconds:g} s tone did not come back whole on input channel {cal.channel} (found "
+                      f"{(stop - start) / fs:.2f} s)")
+    edge = int(0.1 * fs)  # leave the ends, where the tone starts and stops
+    fit = fit_sine(x[start + edge:stop - edge, cal.channel].astype(np.float64), sample_rate_hz=fs,
+                   frequency_hz=args.tone_hz)
+    longer = (stop - start - sig.size) / fs  # a buffer repeated by the sound system lengthens the tone
+    if fit.snr_db < _MIN_SNR_DB or longer > 0.05:
+        return fit, (f"the tone came back broken (tone over residual {fit.snr_db:.0f} dB, {longer * 1e3:+.0f} ms "
+                     f"long: samples dropped or repeated by the sound system)")
+    return fit, None
+
+
+def run(args: argparse.Namespace, writer: Writer) -> int:
 
     from ..acquire.record import SoundcardRecorder
     from ..acquire.signals import make_signal
     from ..calibration import Calibration
-    from ..dsp.tones import fit_sine
     out = writer.target(args.output)  # refused before anything is played
     cal = Calibration.load(args.calibration)
     sig = make_signal("tone", sample_rate_hz=cal.sample_rate_hz, seconds=args.seconds, level_dbfs=args.level_dbfs,
                       frequency_hz=args.tone_hz)
-    from ..acquire.signals import tone_span
     rec = SoundcardRecorder(args.device, host_api=args.host_api)
-    fs = cal.sample_rate_hz
-    play = np.concatenate([sig, np.zeros(int(1.0 * fs), dtype=np.float32)])  # room for the round-trip latency
+    fit = None
     for attempt in range(1, _ATTEMPTS + 1):
-        x = rec.play_and_record(np.column_stack([play, play]), sample_rate_hz=fs, channels=cal.channel + 1)
-        start, stop = tone_span(x[:, cal.channel], fs)
-        if stop - start < 0.5 * sig.size:
-            raise BenchError(f"the {args.seconds:g} s tone did not come back whole on input channel {cal.channel} "
-                             f"(found {(stop - start) / fs:.2f} s): loop the output to the input, through an "
-                             f"attenuator if needed, and check the levels")
-        edge = int(0.1 * fs)  # leave the ends, where the tone starts and stops
-        part = x[start + edge:stop - edge, cal.channel].astype(np.float64)
-        fit = fit_sine(part, sample_rate_hz=cal.sample_rate_hz, frequency_hz=args.tone_hz)
-        longer = (stop - start - sig.size) / fs  # a buffer repeated by the sound system lengthens the tone
-        if fit.snr_db >= _MIN_SNR_DB and longer <= 0.05:
+        fit, trouble = _loop_once(rec, sig, cal, args)
+        if trouble is None:
             break
-        print(f"benchnf: note: the tone came back broken (tone over residual {fit.snr_db:.0f} dB, {longer * 1e3:+.0f} "
-              f"ms long: samples dropped or repeated); played again ({attempt} of {_ATTEMPTS})", file=sys.stderr)
+        print(f"benchnf: note: {trouble}; played again ({attempt} of {_ATTEMPTS})", file=sys.stderr)
     else:
-        raise BenchError(f"the tone came back broken in {_ATTEMPTS} tries (tone over residual {fit.snr_db:.0f} dB, "
-                         f"under {_MIN_SNR_DB:g} dB: samples dropped or repeated by the sound system, or a noisy "
-                         f"loop): close other audio programs, use a larger buffer, or lower the system load")
+        raise BenchError(f"in {_ATTEMPTS} tries, {trouble}: loop the output to the input (through an attenuator if "
+                         f"needed) and check the levels; if it is looped, close other audio programs or lower the "
+                         f"system load")
     played_peak_fs = 10 ** (args.level_dbfs / 20)
     vpfs_out = fit.amplitude * cal.volts_per_fs / played_peak_fs
     data = {"schema": "benchnf.output-calibration/1", "output_volts_per_fs": vpfs_out,

@@ -42,7 +42,7 @@ class DeskFolder:
         Symbolic links are followed before the check, so a link that points out is refused too.
         """
         if not name or "\x00" in name:
-            raise OutsideFolder("no file named")
+            raise BenchError("no file named: choose one from the lists on the page")
         candidate = (self.root / name).resolve()
         if candidate != self.root and self.root not in candidate.parents:
             raise OutsideFolder(f"{name!r} is outside the desk's folder {self.root}; only files inside it are served")
