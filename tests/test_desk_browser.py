@@ -154,10 +154,16 @@ def test_a_guided_plan_runs_through_every_step(browser, bench):
         for step, after in ((1, (3e-4, 0.0)), (2, (3e-4, 0.1)), (3, None)):
             _wait(browser, lambda d: d.find_elements(By.CSS_SELECTOR, f"button[data-step='{step}']"))
             time.sleep(0.5)  # the new signal reaches the monitor before recording starts
-            browser.find_element(By.CSS_SELECTOR, f"button[data-step='{step}']").click()
-            _wait(browser, lambda d: d.find_element(By.ID, "plan").get_attribute("data-busy") == "" and
-                  "kept:" in d.find_element(By.CSS_SELECTOR, f"div.step[data-step='{step}']").text)
-            checks.append(browser.find_element(By.CSS_SELECTOR, f"div.step[data-step='{step}']").text)
+            for take in (1, 2, 3):  # the loopback can drop samples under load; the check says so: record again
+                stem = ("floor", "terminated", "tone")[step - 1]
+                kept = f"kept: {stem}.wav" if take == 1 else f"kept: {stem}-take{take}.wav"
+                browser.find_element(By.CSS_SELECTOR, f"button[data-step='{step}']").click()
+                _wait(browser, lambda d: d.find_element(By.ID, "plan").get_attribute("data-busy") == "" and
+                      kept in d.find_element(By.CSS_SELECTOR, f"div.step[data-step='{step}']").text)
+                card = browser.find_element(By.CSS_SELECTOR, f"div.step[data-step='{step}']").text
+                if "record it again" not in card:
+                    break
+            checks.append(card)
             if after:
                 level[:] = after
         browser.find_element(By.ID, "plan-finish").click()

@@ -97,3 +97,17 @@ def test_calibrate_output_plays_again_and_then_refuses(tmp_path, monkeypatch, ca
         assert err.count("played again") == calls - 1
     else:
         assert not out.exists() and "in 3 tries, the 2 s tone did not come back whole" in err
+
+
+@pytest.mark.parametrize("broken, asked", [(False, 0), (True, 1)])
+def test_a_guided_tone_step_with_a_glitch_asks_to_record_again(tmp_path, broken, asked):
+    import soundfile as sf
+
+    from benchnf.acquire.plan import PlanStep, check_capture
+    x = _tone()
+    if broken:
+        x = _glitched(x)
+    path = tmp_path / "tone.wav"
+    sf.write(str(path), x.astype(np.float32), FS, subtype="FLOAT")
+    problems = check_capture(path, step=PlanStep("tone", 1.8, tone_hz=F), floor_path=None)
+    assert sum("record it again" in p for p in problems) == asked

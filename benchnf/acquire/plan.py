@@ -171,6 +171,8 @@ def check_capture(path: Path, *, step: PlanStep, floor_path: Path | None) -> lis
     elif step.condition != "tone" and level > -20:
         problems.append(f"noise at {level:.1f} dBFS: keep noise 12-15 dB or more below full scale")
     psd = welch_psd(cap.blocks(), sample_rate_hz=cap.sample_rate_hz)
+    if step.condition == "tone" and stats.peak_fs > 0:
+        problems += _tone_problems(cap, step)
     if step.condition in ("terminated", "shorted") and floor_path is not None:
         fl = welch_psd(open_capture(floor_path, accept_dropouts=True).blocks(), sample_rate_hz=cap.sample_rate_hz)
         sel = (psd.frequency_hz > 20) & (psd.frequency_hz < 20_000)
@@ -184,6 +186,20 @@ def check_capture(path: Path, *, step: PlanStep, floor_path: Path | None) -> lis
             problems.append(f"hum: {len(lines)} mains-family lines (strongest {lines[0].freq_hz:.0f} Hz) - "
                             f"check grounding and leads (never lift a safety earth)")
     return problems
+
+
+def _tone_problems(cap: Any, step: PlanStep) -> list[str]:
+    """A tone step whose sine fit leaves a residual within 30 dB of the tone: samples dropped or repeated by
+    the sound system (a phase jump), or too little tone; either way the gain would read wrong."""
+    from ..dsp.tones import fit_sine
+    x = np.concatenate(list(cap.blocks()))
+    edge = int(0.1 * cap.sample_rate_hz)
+    fit = fit_sine(x[edge:x.size - edge] if x.size > 4 * edge else x, sample_rate_hz=cap.sample_rate_hz,
+                   frequency_hz=step.tone_hz)
+    if fit.snr_db < 30.0:
+        return [f"tone only {fit.snr_db:.0f} dB above what is left after fitting it: samples dropped or repeated, "
+                f"or too little tone - record it again"]
+    return []
 
 
 def run_plan(plan: Plan, *, record: Callable[[Path, PlanStep], Any], folder: Path, interactive: bool,
