@@ -23,7 +23,12 @@ from ..dsp.spurs import find_lines
 from ..dsp.weighting import Band
 from ..units import fs_to_dbfs, vrms_to_dbu
 
-__all__ = ["LiveSnapshot", "LiveAnalyzer", "run_live"]
+__all__ = ["LiveSnapshot", "LiveAnalyzer", "run_live", "referred_to_input"]
+
+
+def referred_to_input(density: np.ndarray, gain_db: float) -> np.ndarray:
+    """An output power density referred to the input through a voltage gain in dB: S_in = S_out / G^2."""
+    return density / 10 ** (gain_db / 10)
 
 
 @dataclass(frozen=True)
@@ -42,7 +47,7 @@ class LiveSnapshot:
     @property
     def input_density(self) -> np.ndarray | None:
         """The density divided by the stated power gain (None without a gain)."""
-        return None if self.gain_db is None else self.density / 10 ** (self.gain_db / 10)
+        return None if self.gain_db is None else referred_to_input(self.density, self.gain_db)
 
     @property
     def ein_rms(self) -> float | None:

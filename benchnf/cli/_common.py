@@ -157,7 +157,8 @@ def records_options(p: argparse.ArgumentParser) -> None:
 
 def station_file_option(p: argparse.ArgumentParser) -> None:
     p.add_argument("--station-file", type=Path, metavar="STATION.toml",
-                   help="this station's name, operator, records URL and calibration, for what the command line "
+                   help="this station's name, operator, records URL, calibration and relative_to folder, for what "
+                        "the command line "
                         "and the BENCHNF_* variables leave unset (default: BENCHNF_STATION_FILE)")
 
 

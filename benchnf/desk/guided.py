@@ -32,7 +32,8 @@ class GuidedRun:
         base = Path(self.plan.out_dir) if self.plan.out_dir else Path(plan_path.stem)
         if not base.is_absolute():
             base = plan_path.parent / base
-        self.folder = writer.fresh_folder(folder_of(base))
+        self._base = folder_of(base)  # refused now if it lies outside the desk's folder
+        self.folder: Path | None = None  # made at the first recording: opening a plan leaves nothing behind
         self.writer, self.guard = writer, guard
         self.steps = [StepState() for _ in self.plan.steps]
         self.busy: int | None = None
@@ -52,6 +53,8 @@ class GuidedRun:
     def record(self, i: int) -> None:
         """Start recording step i (0-based) on a thread; refused while the sound card is in use."""
         self._ready(i)
+        if self.folder is None:
+            self.folder = self.writer.fresh_folder(self._base)
         self.guard.take(f"step {i + 1} of the plan")
         self.busy, self.error = i, None
         threading.Thread(target=self._record, args=(i,), daemon=True).start()
@@ -61,6 +64,7 @@ class GuidedRun:
         from ..acquire.record import record_to_file
         step, state = self.plan.steps[i], self.steps[i]
         take = len(state.takes) + 1
+        assert self.folder is not None  # made by record()
         path = self.folder / (f"{step.file_stem}.wav" if take == 1 else f"{step.file_stem}-take{take}.wav")
         try:
             state.frames = 0
@@ -93,6 +97,7 @@ class GuidedRun:
         if missing:
             raise BenchError(f"step {missing[0]} has no recording yet")
         from ..acquire.plan import analyse_plan
+        assert self.folder is not None  # every step has a take, so the folder was made
         outcome = analyse_plan(self.plan, self.plan_path, self.files(), self.folder, self.writer)
         if isinstance(outcome, str):
             self.outcome = outcome
@@ -109,6 +114,6 @@ class GuidedRun:
                           "cautions": [CAUTIONS[c] for c in st.cautions], "takes": [p.name for p in s.takes],
                           "problems": s.problems, "recording": self.busy == i,
                           "progress": min(1.0, s.frames / total)})
-        return {"name": plan.name, "plan": relative(self.plan_path), "folder": relative(self.folder),
+        return {"name": plan.name, "plan": relative(self.plan_path), "folder": relative(self.folder or self._base),
                 "steps": steps, "busy": self.busy, "error": self.error, "outcome": self.outcome,
                 "results": relative(self.results) if self.results else None}

@@ -59,10 +59,10 @@ class Files(DeskHandler):
 
 
 def _unit_folders(folder: Any) -> list[str]:
-    """Folders holding a terminated and a tone capture (a unit the check can analyse)."""
-    names = {folder.relative(Path(p).parent) for p in (folder.root / c for c in folder.listing("captures"))
-             if Path(p).stem.lower().startswith(("terminated", "term", "tone"))}
-    return sorted(n for n in names if n != ".")
+    """Folders below the desk's own holding a terminated and a tone capture, found as batch finds a unit's."""
+    from ..check.batch import role_files
+    holders = {(folder.root / c).parent for c in folder.listing("captures")} - {folder.root}
+    return sorted(folder.relative(d) for d in holders if {"terminated", "tone"} <= set(role_files(d)))
 
 
 class Result(DeskHandler):

@@ -175,7 +175,8 @@ def reference_trace(kind: str, path: Path | None, *, settings: LiveSettings, pro
     scale = settings.volts_per_fs or 1.0
     density = psd.psd_per_hz * scale ** 2
     if settings.gain_db is not None:
-        density = density / 10 ** (settings.gain_db / 10)
+        from ..acquire.live import referred_to_input
+        density = referred_to_input(density, settings.gain_db)
     return {"name": path.name, "x": psd.frequency_hz[1:].tolist(), "y": np.sqrt(density[1:]).tolist()}
 
 

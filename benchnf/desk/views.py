@@ -223,7 +223,7 @@ def _downloads(path: Path, name: str) -> list[str]:
     stems = {path.stem, *(("summary", "spectra", "report") if path.stem == "results" else ())}
     found = [name]
     for p in sorted(path.parent.iterdir()):
-        if p != path and p.suffix.lower() in (".csv", ".html", ".txt") and p.stem.split("_")[0] in stems | {
-                path.stem.split("_")[0]} and (p.stem in stems or p.stem.startswith(path.stem)):
+        if p != path and p.suffix.lower() in (".csv", ".html", ".txt") and (p.stem in stems or
+                                                                           p.stem.startswith(path.stem)):
             found.append((folder / p.name).as_posix())
     return found

@@ -179,7 +179,9 @@ def request_from_results(data: Mapping[str, Any]) -> GainMethodRequest:
     terms = tuple(Path(t) for t in (terminated if isinstance(terminated, list) else [terminated]) if t)
     if not terms:
         raise BenchError("the results name no terminated capture")
-    path("terminated")
+    for t in terms:
+        if not t.is_file():
+            raise BenchError(f"the terminated capture {t} named in the results is not there")
     band = data.get("band_hz")
     return GainMethodRequest(
         terminated=terms, floor=path("floor"), shorted=path("shorted"), tone=path("tone"),
