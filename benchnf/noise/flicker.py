@@ -31,6 +31,11 @@ from ..errors import MeasurementError
 
 __all__ = ["FlickerFit", "fit_flicker"]
 
+# Convergence of the least-squares fit, relative. MINPACK's default (1.5e-8) left the corner's last seven
+# digits to the path the iteration took, so another BLAS or scipy release moved it by 1e-7; at 1e-13 the
+# fit stops at the optimum itself, and the same spectrum gives the same corner everywhere.
+_TOL = 1e-13
+
 
 @dataclass(frozen=True)
 class FlickerFit:
@@ -99,7 +104,8 @@ def fit_flicker(frequency_hz: ArrayLike, density_v2_per_hz: ArrayLike, *, dof: f
         with warnings.catch_warnings():
             warnings.simplefilter("error", optimize.OptimizeWarning)
             popt, pcov = optimize.curve_fit(model, fu, ls, p0=p0, sigma=np.full(fu.size, sigma),
-                                            absolute_sigma=True, maxfev=20_000)
+                                            absolute_sigma=True, maxfev=20_000,
+                                            ftol=_TOL, xtol=_TOL)
     except optimize.OptimizeWarning:
         raise MeasurementError(f"no 1/f corner is resolved between {range_hz[0]:g} and {range_hz[1]:g} Hz "
                                f"(the noise is white there, or the range is too narrow)") from None
