@@ -1,12 +1,23 @@
 #!/usr/bin/env bash
 # Set-up and entry point for a fresh machine: creates .venv on first use, installs benchnf
-# into it (again whenever pyproject.toml changes), then runs the demo or the test suite.
+# into it with the versions pinned in requirements-dev.lock (again whenever pyproject.toml or the lock
+# changes), then runs the demo or the test suite.
 #   ./dev.sh demo [benchnf demo options]   analyse the shipped demo captures
 #   ./dev.sh test [pytest options]         run the whole test suite
+#   ./dev.sh lock                          pin the newest releases into requirements-dev.lock
+# BENCHNF_NEWEST=1 installs the newest releases instead of the lock (into .venv-newest), as CI does once.
 set -euo pipefail
 here="$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)"
-venv="${BENCHNF_VENV:-$here/.venv}"
+lock="$here/requirements-dev.lock"
+extras="test,fast,desk"
 python="${PYTHON:-python3}"
+if [ "${BENCHNF_NEWEST:-}" = 1 ]; then
+  venv="${BENCHNF_VENV:-$here/.venv-newest}"
+  constraints=()
+else
+  venv="${BENCHNF_VENV:-$here/.venv}"
+  constraints=(-c "$lock")
+fi
 
 ensure_venv() {
   if [ ! -x "$venv/bin/python" ]; then
@@ -20,10 +31,29 @@ ensure_venv() {
     }
   fi
   local stamp="$venv/.benchnf-installed"
-  if [ ! -f "$stamp" ] || [ "$here/pyproject.toml" -nt "$stamp" ]; then
-    "$venv/bin/python" -m pip install --quiet --disable-pip-version-check -e "$here[test,fast,desk]"
+  if [ ! -f "$stamp" ] || [ "$here/pyproject.toml" -nt "$stamp" ] || [ "$lock" -nt "$stamp" ]; then
+    "$venv/bin/python" -m pip install --quiet --disable-pip-version-check ${constraints[@]+"${constraints[@]}"} \
+      -e "$here[$extras]"
     touch "$stamp"
   fi
+}
+
+make_lock() {
+  # A throw-away environment with the newest releases that pyproject.toml allows; their exact versions
+  # become the lock (benchnf itself left out).
+  local tmp
+  tmp="$(mktemp -d)"
+  "$python" -m venv "$tmp/venv"
+  "$tmp/venv/bin/python" -m pip install --quiet --disable-pip-version-check "$here[$extras]"
+  {
+    echo "# The development environment's exact versions, installed by ./dev.sh (pip install -c this file)."
+    echo "# Made by './dev.sh lock' with $("$tmp/venv/bin/python" -V) on $(date -u +%Y-%m-%d); CI also runs the"
+    echo "# suite once on the newest releases (BENCHNF_NEWEST=1 ./dev.sh test)."
+    "$tmp/venv/bin/python" -m pip freeze --disable-pip-version-check --exclude-editable | grep -iv '^benchnf[= @]'
+  } > "$lock.part"
+  mv "$lock.part" "$lock"
+  rm -rf "$tmp"
+  echo "dev.sh: wrote $lock"
 }
 
 case "${1:-}" in
@@ -48,8 +78,11 @@ case "${1:-}" in
     fi
     exit "$rc"
     ;;
+  lock)
+    make_lock
+    ;;
   *)
-    echo "usage: ./dev.sh demo | ./dev.sh test [pytest options]" >&2
+    echo "usage: ./dev.sh demo | ./dev.sh test [pytest options] | ./dev.sh lock" >&2
     exit 2
     ;;
 esac
