@@ -38,8 +38,8 @@ _PUBLIC = {
     "analyze_yfactor": "benchnf.measure.yfactor",
     "HotColdSource": "benchnf.measure.yfactor",
     "Loss": "benchnf.measure.yfactor",
-    "YFactorResult": "benchnf.measure.yfactor",
-    "YRow": "benchnf.measure.yfactor",
+    "YFactorResult": "benchnf.measure.yfactor_result",
+    "YRow": "benchnf.measure.yfactor_result",
     "measured_budget": "benchnf.measure.stages",
     "BudgetResult": "benchnf.measure.stages",
     "TapResult": "benchnf.measure.stages",
@@ -50,14 +50,18 @@ _PUBLIC = {
     "load_chain": "benchnf.noise.cascade",
     "predict": "benchnf.noise.cascade",
     "CascadeResult": "benchnf.noise.cascade",
+    "CascadePrediction": "benchnf.measure.cascade",
+    "run_cascade": "benchnf.measure.cascade",
     "Profile": "benchnf.check.profile",
     "load_profile": "benchnf.check.profile",
     "check_results": "benchnf.check.limits",
     "CheckResult": "benchnf.check.limits",
     "Writer": "benchnf.write",
+    "read_result": "benchnf.registry",
+    "Quantity": "benchnf.quantity",
 }
 _SUBMODULES = {"units", "errors", "capture", "io", "dsp", "noise", "measure", "calibration",
-               "report", "cli", "demo", "check", "write"}
+               "report", "cli", "demo", "check", "write", "registry", "codec", "records"}
 
 __all__ = sorted(_PUBLIC) + ["__version__"]
 

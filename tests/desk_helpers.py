@@ -59,7 +59,8 @@ def call(url: str, path: str, body: dict | None = None, *, headers: dict | None 
 
 
 def demo_folder(tmp_path: Path) -> Path:
-    """A copy of the demo captures with the demo's results in ``results/`` (INVENTED DATA)."""
+    """A copy of the demo captures with the demo's results in ``results/`` (INVENTED DATA); the gain-method
+    result is made again from the copied captures, so the captures it names lie inside the folder."""
     import shutil
 
     from benchnf.cli import main
@@ -67,4 +68,8 @@ def demo_folder(tmp_path: Path) -> Path:
     folder = tmp_path / "bench"
     shutil.copytree(shipped(), folder, ignore=shutil.ignore_patterns("*.py", "__pycache__"))
     assert main(["demo", "--quiet", "-o", str(folder / "results")]) == 0
+    assert main(["analyze", *(x for role in ("terminated", "floor", "shorted", "tone", "response")
+                              for x in (f"--{role}", str(folder / f"{role}.flac"))),
+                 "--calibration", str(folder / "results" / "calibration.json"), "--json",
+                 str(folder / "results" / "results.json"), "--overwrite", "--quiet"]) == 0
     return folder

@@ -16,21 +16,23 @@ from benchnf.check.profile import Mask, load_profile, profile_from_results
 from benchnf.cli import ExitStatus, main
 from benchnf.errors import ParameterError
 
+from results_factory import analysis_result
 from synth import Bench
 
 DEMO = Path(__file__).parents[1] / "benchnf" / "captures_demo"
 
 
 def _results(**over):
-    base = {"schema_version": "1", "kind": "analysis", "rs_ohm": 200.0, "band_hz": [20.0, 20000.0],
-            "weighting": "none", "sample_rate_hz": 48000.0, "temperature_k": 290.0, "gain_db": 40.0,
-            "ein_dbu": -125.0, "noise_figure_db": 3.0, "output_noise_vrms": 4e-5, "nf_at_1khz_db": 3.1, "flicker_corner_hz": 40.0,
+    """A typed result with these figures (INVENTED DATA, on the template of tests/results_factory.py)."""
+    base = {"rs_ohm": 200.0, "band_hz": [20.0, 20000.0], "weighting": "none", "sample_rate_hz": 48000.0,
+            "temperature_k": 290.0, "gain_db": 40.0, "ein_dbu": -125.0, "noise_figure_db": 3.0,
+            "output_noise_vrms": 4e-5, "nf_at_1khz_db": 3.1, "flicker_corner_hz": 40.0,
             "uncertainty": {"ein_db": 0.1, "noise_figure_db": 0.12, "gain_db": 0.1, "nf_at_1khz_db": 0.2},
             "spot": [{"freq_hz": f, "input_density_v_per_rthz": 2e-9, "input_density_expanded_db": 0.3}
                      for f in (100.0, 1000.0, 10000.0)],
             "spurs": [{"freq_hz": 100.0, "output_vrms": 1e-6, "family": "ripple"}]}
     base.update(over)
-    return base
+    return analysis_result(**base)
 
 
 def _profile(tmp_path, body: str, name="p.toml"):
@@ -48,8 +50,7 @@ def test_limits_exactly_at_the_boundary_and_the_marginal_zone(tmp_path):
     assert check_results(_results(noise_figure_db=2.95), prof).verdict == "MARGINAL"
     assert check_results(_results(noise_figure_db=3.1), prof).verdict == "MARGINAL"  # over by less than U
     assert check_results(_results(noise_figure_db=3.2), prof).verdict == "FAIL"
-    no_u = _results(noise_figure_db=3.0)
-    no_u["uncertainty"] = {}
+    no_u = _results(noise_figure_db=3.0, uncertainty={})
     assert check_results(no_u, prof).verdict == "PASS"  # sharp limit without an uncertainty: 3.0 <= 3.0
     v = check_results(_results(noise_figure_db=3.3), prof).limits[0]
     assert v.margin == pytest.approx(-0.3) and v.hint and "input stage" in v.hint
@@ -93,8 +94,9 @@ def test_other_conditions_and_schema_are_refused(tmp_path):
         check_results(_results(rs_ohm=150.0), prof)
     with pytest.raises(ParameterError, match="band"):
         check_results(_results(band_hz=[22.0, 22000.0]), prof)
+    from benchnf.registry import result_from_dict
     with pytest.raises(ParameterError, match="schema_version"):
-        check_results(_results(schema_version="0"), prof)
+        check_results(result_from_dict({**_results().to_dict(), "schema_version": "0"}, where="x"), prof)
 
 
 def test_profile_from_several_good_units_uses_their_spread():
@@ -166,24 +168,25 @@ def test_batch_of_synthetic_units_with_known_faults(tmp_path, capsys):
 def test_check_command_exit_status(tmp_path, capsys):
     prof = _profile(tmp_path, '[[limit]]\nkey = "noise_figure_db"\nmax = 5.0\n')
     good, bad = tmp_path / "g.json", tmp_path / "b.json"
-    good.write_text(json.dumps(_results()))
-    bad.write_text(json.dumps(_results(noise_figure_db=7.0)))
+    good.write_text(json.dumps(_results().to_dict()))
+    bad.write_text(json.dumps(_results(noise_figure_db=7.0).to_dict()))
     assert main(["check", "--profile", str(prof), str(good), "--report", str(tmp_path / "r")]) == ExitStatus.OK
     assert main(["check", "--profile", str(prof), str(bad)]) == ExitStatus.CHECK_FAILED
     other = tmp_path / "o.json"
-    other.write_text(json.dumps(_results(schema_version="7")))
+    other.write_text(json.dumps({**_results().to_dict(), "schema_version": "7"}))
     assert main(["check", "--profile", str(prof), str(other)]) == ExitStatus.BAD_INPUT
     assert "schema_version" in capsys.readouterr().err
     assert (tmp_path / "r" / "g.html").is_file() and (tmp_path / "r" / "g.png").is_file()
 
 
 def test_demo_units_against_the_demo_profile(tmp_path):
+    from benchnf.check.batch import UnitSettings
     out = check_batch(DEMO / "units", str(DEMO / "known_good_profile.toml"),
-                      settings={"volts_per_fs": 2.0, "floor": str(DEMO / "floor.flac")}, workers=1)
+                      settings=UnitSettings(volts_per_fs=2.0, floor=DEMO / "floor.flac"), workers=1)
     assert [o.verdict for o in out] == ["PASS", "FAIL", "FAIL"]
-    hum = [v["name"] for v in out[1].check["limits"] if v["verdict"] == "FAIL"]
+    hum = [v.name for v in out[1].check.limits if v.verdict == "FAIL"]
     assert any(n.startswith("hum ripple") for n in hum)
-    noisy = [v["name"] for v in out[2].check["limits"] if v["verdict"] == "FAIL"]
+    noisy = [v.name for v in out[2].check.limits if v.verdict == "FAIL"]
     assert "noise_figure_db" in noisy
 
 
@@ -199,14 +202,14 @@ def test_html_report_renders_in_headless_chromium(tmp_path):
     from benchnf.check.profile import load_profile as lp
     from benchnf.report.html import unit_report_html
     prof = lp(DEMO / "known_good_profile.toml")
-    res = json.loads(json.dumps(_results(rs_ohm=20.0)))
+    from benchnf.check.limits import CheckConditions, CheckResult, LimitVerdict
+    res = _results(rs_ohm=20.0)
+    check = CheckResult("HA-9999", prof.name, "FAIL", CheckConditions(20.0, 290.0, (20.0, 20000.0), "none", "rms",
+                                                                      True, 48000.0),
+                        (LimitVerdict("noise_figure_db", 7.0, "max 5.00 dB", -2.0, "dB", 0.1, "FAIL", "input stage",
+                                      "dB", None, 5.0),))
     page = tmp_path / "u.html"
-    page.write_text(unit_report_html(serial="HA-9999", verdict="FAIL",
-                             check={"unit": "HA-9999", "profile": prof.name, "verdict": "FAIL", "conditions": {},
-                                    "limits": [{"name": "noise_figure_db", "measured": 7.0, "limit": "max 5",
-                                                "margin": -2.0, "unit": "dB", "uncertainty": 0.1,
-                                                "verdict": "FAIL", "hint": "input stage"}]},
-                             results=res, profile=prof))
+    page.write_text(unit_report_html(serial="HA-9999", verdict="FAIL", check=check, results=res, profile=prof))
     shot = tmp_path / "shot.png"
     subprocess.run([_chromium(), "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
                     "--disable-background-networking", "--disable-component-update", "--disable-sync",
@@ -224,7 +227,7 @@ def test_profile_masks_skip_bands_too_narrow_to_carry_a_figure():
     from benchnf.check.profile import MIN_MASK_BINS, profile_from_results
     spots = [{"freq_hz": f, "input_density_v_per_rthz": 1e-9, "input_density_expanded_db": 0.5}
              for f in (20.0, 25.0, 50.0, 100.0, 125.0, 160.0, 1000.0, 10000.0)]
-    r = {**_results(), "sample_rate_hz": 48_000.0, "segment_length": 16384, "spot": spots}
+    r = _results(sample_rate_hz=48_000.0, segment_length=16384, spot=spots)
     mask = profile_from_results([r], margin_db=1.0).masks[0]
     lowest = MIN_MASK_BINS * 48_000.0 / 16384 / (10 ** 0.05 - 10 ** -0.05)
     assert min(mask.frequency_hz) >= lowest > 100.0 and 160.0 in mask.frequency_hz

@@ -49,10 +49,10 @@ def test_result_view_shows_the_results_figures(desk, bench):
     data = json.loads((bench / "results" / "results.json").read_text())
     status, view = call(desk, "/api/result?path=results/results.json")
     assert status == 200
-    shown = {f["label"].split(" (")[0]: f for f in view["headline"]}
-    assert shown["EIN"]["value"] == f"{data['ein_dbu']:.2f}" and shown["EIN"]["unit"] == "dBu"
-    assert shown["EIN"]["u"] == f"{data['uncertainty']['ein_db']:.2f}"
-    assert shown["Noise figure"]["value"] == f"{data['noise_figure_db']:.2f}"
+    shown = {f["key"]: f for f in view["headline"]}
+    assert shown["ein_dbu"]["value"] == f"{data['ein_dbu']:.2f}" and shown["ein_dbu"]["unit"] == "dBu"
+    assert shown["ein_dbu"]["u"] == f"± {data['uncertainty']['ein_db']:.2f} dB"
+    assert shown["noise_figure_db"]["value"] == f"{data['noise_figure_db']:.2f}"
     assert [p["id"] for p in view["plots"]] == ["output", "input", "nf"]  # spectra re-run from the captures
     nf = view["plots"][2]["traces"][0]
     spot = {round(r["freq_hz"]): r["noise_figure_db"] for r in data["spot"]}
@@ -67,7 +67,8 @@ def test_a_result_whose_captures_are_gone_says_why_no_spectra(desk, bench):
     (bench / "moved").mkdir(exist_ok=True)
     (bench / "moved" / "results.json").write_text(json.dumps(data))
     status, view = call(desk, "/api/result?path=moved/results.json")
-    assert status == 200 and [p["id"] for p in view["plots"]] == ["nf"]
+    # without its captures: the one-third-octave values the JSON holds, no spectra
+    assert status == 200 and [p["id"] for p in view["plots"]] == ["input", "nf"]
     assert any(n.startswith("spectra not shown: ") and "no-such.flac" in n for n in view["notes"])
 
 
@@ -138,14 +139,14 @@ def test_bad_plan_and_profile_give_one_clear_message(desk, bench):
 def test_check_is_recorded_and_listed(desk, bench):
     from benchnf.check.limits import check_results
     from benchnf.check.profile import load_profile
-    from benchnf.io.results_json import read_results
-    expected = check_results(read_results(bench / "results" / "results.json"),
+    from benchnf.registry import read_result
+    expected = check_results(read_result(bench / "results" / "results.json"),
                              load_profile(bench / "known_good_profile.toml")).verdict
     before = set((bench / "checks").iterdir()) if (bench / "checks").exists() else set()
     body = {"serial": "SN-7", "source": "results/results.json", "profile": "known_good_profile.toml"}
     status, out = call(desk, "/api/check", body)
     assert status == 200 and out["verdict"] == expected and out["recorded"] is True
-    assert {lim["label"] for lim in out["limits"]} >= {"gain"}
+    assert {row[0] for row in out["limits"]["rows"]} >= {"gain"}
     first_page = (bench / out["report"]).read_bytes()
     status, again = call(desk, "/api/check", body)  # checked again at once: a new page, the first one untouched
     assert status == 200 and again["report"] != out["report"]
@@ -230,7 +231,7 @@ def test_live_without_a_sound_card_says_so(desk, monkeypatch):
 
 @pytest.mark.parametrize("field, value, words", [
     ("rate_hz", "fast", "not a number"), ("band_lo_hz", "30000", "must be below"), ("weighting", "B", "weighting"),
-    ("channel", "0", "outside"), ("gain_db", "1e9", "outside")])
+    ("channel", "-1", "outside"), ("channel", "64", "outside"), ("gain_db", "1e9", "outside")])
 def test_live_settings_are_checked(desk, field, value, words):
     status, answer = call(desk, "/api/live/start", {field: value})
     assert status == 400 and words in answer["error"]
@@ -278,7 +279,7 @@ def test_a_folder_of_captures_is_analysed_as_the_command_line_would(desk, bench,
     ours = json.loads((written / "results.json").read_text())
     status, view = call(desk, "/api/result?path=" + out["results"])
     assert view["exports"] == ["csv", "html"]
-    assert {f["label"]: f["value"] for f in view["headline"]}["Gain"] == f"{ours['gain_db']:.2f}"
+    assert {f["key"]: f["value"] for f in view["headline"]}["gain_db"] == f"{ours['gain_db']:.3f}"
     status, again = call(desk, "/api/analyse", {"folder": "units/HA-0001", "calibration": "results/calibration.json"})
     assert status == 200 and again["results"] == "units/HA-0001/analysis-2/results.json"  # never over the first
 
@@ -286,7 +287,7 @@ def test_a_folder_of_captures_is_analysed_as_the_command_line_would(desk, bench,
 def test_exports_are_made_on_request_for_analyses_only(desk, bench):
     with urllib.request.urlopen(desk.rstrip("/") + "/api/export?form=html&path=results/results.json") as r:
         page = r.read().decode()
-    assert "<pre>" in page and "data:image/png;base64," in page and "EIN" in page
+    assert "<table>" in page and "data:image/png;base64," in page and "EIN" in page
     status, answer = call(desk, "/api/export?form=csv&path=results/eni.json")
     assert status == 400 and "gain-method results only" in answer["error"]
 
@@ -300,7 +301,7 @@ def test_live_gain_can_come_from_a_measured_result(bench):
     s = live_settings({"gain_from": "results/results.json", "calibration": "results/calibration.json",
                        "averages": "0", "channel": "2", "weighting": "A"}, folder)
     assert s.gain_db == data["gain_db"] and s.volts_per_fs == data["volts_per_fs"]
-    assert s.averages is None and s.channel == 1 and s.weighting == "A"
+    assert s.averages is None and s.channel == 2 and s.weighting == "A"  # channels count from 0 everywhere
     with pytest.raises(BenchError, match="not both"):
         live_settings({"gain_from": "results/results.json", "gain_db": "20"}, folder)
 
@@ -328,7 +329,7 @@ def _golden_results():
     folder = Path(__file__).parent / "golden" / "expected"
     for p in sorted(folder.glob("*.json.golden")):
         data = json.loads(p.read_text())
-        if isinstance(data, dict) and data.get("kind") in ("analysis", "yfactor", "eni", "budget"):
+        if isinstance(data, dict) and data.get("kind") in ("analysis", "yfactor", "eni", "budget", "cascade"):
             yield p
 
 
@@ -336,26 +337,27 @@ def _golden_results():
 def test_every_recorded_result_shape_has_a_view(golden, tmp_path):
     """The results the golden runs wrote (repeats, 468 quasi-peak, losses, three Rs, ...) all show, with
     their headline figures as the JSON has them; their captures are not here, and the view says so."""
+    from benchnf.desk.folder import DeskFolder
     from benchnf.desk.views import result_view
     copy = tmp_path / "r.json"
     copy.write_text(golden.read_text())
     data = json.loads(copy.read_text())
-    view = result_view(copy, "r.json")
+    view = result_view(copy, "r.json", DeskFolder(tmp_path))
     assert view["kind"] == data["kind"] and view["plots"] and view["headline"]
     key = {"analysis": "ein_dbu", "yfactor": "noise_figure_db", "eni": "en_at_1khz_v_per_rthz",
-           "budget": "measured_noise_figure_db"}[data["kind"]]
+           "budget": "measured_noise_figure_db", "cascade": "noise_figure_db"}[data["kind"]]
     scale = 1e9 if key.endswith("rthz") else 1.0
-    digits = 3 if key.endswith("rthz") else 2
+    digits = 3 if key.endswith("rthz") or data["kind"] == "cascade" else 2
     assert f"{data[key] * scale:.{digits}f}" in [f["value"] for f in view["headline"]]
     if data["kind"] == "analysis":
-        assert any(n.startswith("spectra not shown") for n in view["notes"]) and view["exports"] == []
+        assert any(n.startswith("spectra not shown") for n in view["notes"]) and view["exports"] == ["html"]
     json.dumps(view, allow_nan=False)  # what the page receives is valid JSON
 
 
 @pytest.mark.skipif(_LOOP is not None, reason=_LOOP or "")
 def test_a_channel_the_device_lacks_is_refused(desk):
-    status, answer = call(desk, "/api/live/start", {"device": "pulse", "channel": "64"})
-    assert status == 400 and "channel 64 does not exist" in answer["error"]
+    status, answer = call(desk, "/api/live/start", {"device": "pulse", "channel": "63"})
+    assert status == 400 and "channel 63 does not exist" in answer["error"]
     assert call(desk, "/api/state")[1]["audio"] is None  # nothing left holding the card
 
 

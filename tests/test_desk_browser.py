@@ -91,7 +91,7 @@ def test_a_result_view_draws_its_plots(browser, bench, tmp_path):
         traces = browser.execute_script("return arguments[0].data.map(t => t.x.length)", plot)
         png = plot.screenshot_as_png
         (tmp_path / "output_spectrum.png").write_bytes(png)
-    assert len(traces) == 3 and min(traces) > 1000
+    assert len([n for n in traces if n > 1000]) == 3  # as measured, the floor, floor subtracted (and the lines)
     colours, inked = _not_blank(png)
     assert colours > 50 and inked > 0.05, (colours, inked)
 
@@ -173,15 +173,15 @@ def test_a_guided_plan_runs_through_every_step(browser, bench):
     assert all("checked: no problems found" in c for c in checks), checks
     results = json.loads((bench / shown).read_text())
     assert shown.startswith("loop_plan") and results["floor_corrected"] is True and results["gain_db"] > 30
-    assert f"{results['gain_db']:.2f}" in figures
+    assert f"{results['gain_db']:.3f}" in figures  # the gain to 3 decimals, as every view shows it
     assert "Caution: Switch 48 V phantom power OFF" in checks[1]
 
 
 def test_unit_check_shows_the_verdict_and_earlier_checks(browser, bench):
     from benchnf.check.limits import check_results
     from benchnf.check.profile import load_profile
-    from benchnf.io.results_json import read_results
-    expected = check_results(read_results(bench / "results" / "results.json"),
+    from benchnf.registry import read_result
+    expected = check_results(read_result(bench / "results" / "results.json"),
                              load_profile(bench / "known_good_profile.toml")).verdict
     with running_desk(bench) as (_proc, url):
         _open(browser, url)

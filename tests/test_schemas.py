@@ -1,5 +1,6 @@
-"""Every JSON benchnf writes validates against the schema files shipped in the package (benchnf/schemas/),
-checked with the jsonschema library (PyPI). The JSON comes from the demo and the golden command-line runs."""
+"""Every results JSON benchnf writes validates against its schema shipped in the package (benchnf/schemas/),
+checked with the jsonschema library (PyPI), and reads back as the same typed result; the shipped schemas are
+the ones the result types give (tools/make_schemas.py). The JSON comes from the demo and the golden runs."""
 
 import json
 import sys
@@ -11,9 +12,12 @@ jsonschema = pytest.importorskip("jsonschema")
 from referencing import Registry, Resource  # noqa: E402  (installed with jsonschema)
 
 sys.path.insert(0, str(Path(__file__).resolve().parent / "golden"))
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "tools"))
 from golden_cases import CASES, DEMO, make_inputs  # noqa: E402
+from make_schemas import generated  # noqa: E402
 
 from benchnf.cli import main  # noqa: E402
+from benchnf.registry import result_from_dict  # noqa: E402
 
 SCHEMAS = Path(__file__).resolve().parent.parent / "benchnf" / "schemas"
 
@@ -36,17 +40,22 @@ def written(tmp_path_factory):
     return [p for p in tmp.rglob("*.json") if p.parent.name != "units"]
 
 
-def test_every_results_json_validates(written):
-    analysis, other = _validator("analysis-results-1.json"), _validator("results-1.json")
-    checked = 0
+def test_the_shipped_schemas_are_the_result_types_own():
+    for name, text in generated().items():
+        assert (SCHEMAS / name).read_text() == text, f"{name} is stale: run python tools/make_schemas.py"
+
+
+def test_every_results_json_validates_and_reads_back_exactly(written):
+    kinds = set()
     for path in written:
         data = json.loads(path.read_text())
         if "schema_version" not in data:
             continue
-        (analysis if data.get("kind") == "analysis" else other).validate(data)
+        _validator(f"{data['kind']}-results-1.json").validate(data)
         assert "provenance" in data, path  # every results JSON says where it came from
-        checked += 1
-    assert checked >= 8
+        assert result_from_dict(data, where=str(path)).to_dict() == data, path
+        kinds.add(data["kind"])
+    assert kinds == {"analysis", "yfactor", "eni", "budget", "cascade", "check"}
 
 
 def test_calibrations_and_sidecars_validate(written):
@@ -58,4 +67,3 @@ def test_calibrations_and_sidecars_validate(written):
     sidecars = [p for p in DEMO.rglob("*.json") if p.name != "ground_truth.json"]
     for p in sidecars:
         side.validate(json.loads(p.read_text()))
-    assert len(sidecars) > 20

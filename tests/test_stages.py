@@ -81,10 +81,10 @@ def test_en_in_recovered_from_an_rs_sweep():
     floor = _cap(_noise(rng, FLOOR ** 2, 6.0))
     r = extract_en_in(sweep=sweep, floor=floor)
     a = r.at_1khz
-    assert a["en_v_per_rthz"] == pytest.approx(EN1, abs=3 * a["en_std_v_per_rthz"] + 0.03 * EN1)
-    assert a["in_a_per_rthz"] == pytest.approx(IN1, abs=3 * a["in_std_a_per_rthz"] + 0.05 * IN1)
-    assert a["ropt_ohm"] == pytest.approx(EN1 / IN1, rel=0.15)
-    assert abs(a["correlation"]) < 0.3
+    assert a.en_v_per_rthz == pytest.approx(EN1, abs=3 * a.en_std_v_per_rthz + 0.03 * EN1)
+    assert a.in_a_per_rthz == pytest.approx(IN1, abs=3 * a.in_std_a_per_rthz + 0.05 * IN1)
+    assert a.ropt_ohm == pytest.approx(EN1 / IN1, rel=0.15)
+    assert abs(a.correlation) < 0.3
     assert any("lowest source impedance" in n for n in r.notes)
 
 

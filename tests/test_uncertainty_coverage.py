@@ -139,8 +139,8 @@ def _eni_runs(n, *, rs_list=(0.0, 1000.0, 20_000.0), en=2e-9, i_n=1e-12, fs=16_0
             sweep.append((cap, rs, b.temperature_k, GainSetup(gain_db=b.gain_db)))
         r = extract_en_in(sweep=sweep, band=Band(100.0, 6000.0), segment_length=1024)
         a = r.at_1khz
-        out.append([(a["en_v_per_rthz"], 2 * a["en_std_v_per_rthz"], en),
-                    (a["in_a_per_rthz"], 2 * a["in_std_a_per_rthz"], i_n)])
+        out.append([(a.en_v_per_rthz, 2 * a.en_std_v_per_rthz, en),
+                    (a.in_a_per_rthz, 2 * a.in_std_a_per_rthz, i_n)])
     return np.array(out, dtype=np.float64)
 
 
@@ -217,7 +217,7 @@ def _eni_curve_u95():
                                            (demo / "rs_100.flac", 100.0, None), (demo / "rs_1000.flac", 1000.0, None)),
                                  tone=demo / "tone.flac", floor=demo / "floor.flac",
                                  options=CaptureOptions(volts_per_fs=2.0)))
-    return eni.nf_vs_rs["curves"]["1000"]["noise_figure_u95_db"]
+    return eni.nf_vs_rs.curves["1000"].noise_figure_u95_db
 
 
 def test_noise_near_one_step_of_a_16_bit_capture_is_refused_and_24_bit_is_not(tmp_path):

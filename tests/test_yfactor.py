@@ -74,7 +74,7 @@ def test_repeats_give_scatter():
     r = analyze_yfactor(hot=[p["hot"] for p in pairs], cold=[p["cold"] for p in pairs],
                         cal_hot=pairs[0]["cal_hot"], cal_cold=pairs[0]["cal_cold"],
                         source=HotColdSource(enr=EnrTable.constant(15.0, cold_k=296.0)))
-    assert r.repeats["n"] == 4 and r.repeats["noise_figure_std_db"] < 0.2
+    assert r.repeats.n == 4 and r.repeats.noise_figure_std_db < 0.2
 
 
 def test_small_y_is_flagged():

@@ -272,5 +272,5 @@ def analyse_plan(plan: Plan, plan_path: Path, files: dict[str, Path], folder: Pa
         rs_ohm=a.get("rs_ohm"), temperature_k=a.get("temperature_k"),
         band_hz=tuple(a["band_hz"]) if a.get("band_hz") else None, weighting=a.get("weighting")))
     read = [plan_path, *files.values(), *([Path(a["calibration"])] if a.get("calibration") else [])]
-    writer.json(folder / "results.json", {**result.to_dict(), "provenance": provenance(read, root=folder)})
+    writer.json(folder / "results.json", result.with_provenance(provenance(read, root=folder)).to_dict())
     return result

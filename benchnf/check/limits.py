@@ -20,15 +20,16 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, Literal
 
+from ..codec import ResultFile, figure
 from ..errors import ParameterError
-from ..units import eng
-from .profile import UNCERTAINTY_OF, Profile
+from ..measure.provenance import Provenance
+from ..measure.results import FIGURE_UNITS, RELATIVE_UNITS, AnalysisResult
+from ..quantity import Quantity
+from .profile import Profile
 
-__all__ = ["LimitVerdict", "CheckResult", "check_results", "RESULTS_SCHEMA_VERSION", "HINTS"]
-
-RESULTS_SCHEMA_VERSION = "1"
+__all__ = ["LimitVerdict", "CheckConditions", "CheckResult", "check_results", "HINTS"]
 
 #: Where a failed limit usually points (general trade knowledge, worded as suggestions).
 HINTS = {
@@ -49,7 +50,7 @@ HINTS = {
 
 @dataclass(frozen=True)
 class LimitVerdict:
-    """One limit checked."""
+    """One limit checked: the measured value and the margin in the limit's unit, U (k = 2) where known."""
 
     name: str
     measured: float | None
@@ -57,34 +58,49 @@ class LimitVerdict:
     margin: float | None
     unit: str
     uncertainty: float | None
-    verdict: str
+    verdict: Literal["PASS", "MARGINAL", "FAIL"]
     hint: str | None
+    value_unit: str = ""  # the unit of `measured`, `lower` and `upper`
+    lower: float | None = None
+    upper: float | None = None
 
-    def to_dict(self) -> dict[str, Any]:
-        return dict(self.__dict__)
+    def measured_text(self) -> str:
+        """The measured value in its unit (``-133.02 dBu``, ``638 nV``)."""
+        return Quantity(self.measured, self.value_unit).text() if self.measured is not None else "-"
 
 
 @dataclass(frozen=True)
-class CheckResult:
+class CheckConditions:
+    """The conditions the unit was measured under, as its results state them."""
+
+    rs_ohm: float | None
+    temperature_k: float | None
+    band_hz: tuple[float, float] | None
+    weighting: str | None
+    detector: str | None
+    floor_corrected: bool | None
+    sample_rate_hz: float | None
+
+
+@dataclass(frozen=True)
+class CheckResult(ResultFile):
     """A unit against a profile."""
+
+    KIND = "check"
 
     unit: str
     profile: str
-    verdict: str
+    verdict: Literal["PASS", "MARGINAL", "FAIL"]
+    conditions: CheckConditions
     limits: tuple[LimitVerdict, ...]
-    conditions: dict[str, Any]
+    provenance: Provenance | None = figure(default=None, omit_if_none=True)
 
     @property
     def failed(self) -> bool:
         return self.verdict == "FAIL"
 
-    def to_dict(self) -> dict[str, Any]:
-        return {"schema_version": "1", "kind": "check", "unit": self.unit, "profile": self.profile,
-                "verdict": self.verdict, "conditions": self.conditions,
-                "limits": [v.to_dict() for v in self.limits]}
 
-
-def _classify(margin: float | None, u: float | None) -> str:
+def _classify(margin: float | None, u: float | None) -> Literal["PASS", "MARGINAL", "FAIL"]:
     if margin is None:
         return "FAIL"
     u = u or 0.0
@@ -95,106 +111,113 @@ def _classify(margin: float | None, u: float | None) -> str:
     return "FAIL"
 
 
-def _check_conditions(results: dict[str, Any], profile: Profile) -> None:
+def _check_conditions(results: AnalysisResult, profile: Profile) -> None:
     c = profile.conditions
     for key in ("rs_ohm", "weighting", "sample_rate_hz", "temperature_k"):
-        if key in c and results.get(key) is not None:
-            a, b = c[key], results[key]
+        if key in c:
+            a, b = c[key], getattr(results, key)
             same = math.isclose(float(a), float(b), rel_tol=1e-6) if key != "weighting" else a == b
             if key == "temperature_k":
                 same = abs(float(a) - float(b)) <= 5.0
             if not same:
                 raise ParameterError(f"the unit was measured with {key} = {b!r} but the profile {profile.name!r} "
                                      f"applies to {a!r}: measure it under the profile's conditions")
-    if "band_hz" in c and results.get("band_hz") is not None:
-        if [float(x) for x in c["band_hz"]] != [float(x) for x in results["band_hz"]]:
-            raise ParameterError(f"the unit was measured over {results['band_hz']} Hz but the profile applies to "
-                                 f"{c['band_hz']} Hz: analyse it with the profile's band")
-    if "gain_setting" in c and results.get("gain_setting") not in (None, c["gain_setting"]):
-        raise ParameterError(f"the unit was measured at gain setting {results.get('gain_setting')!r}, the profile "
-                             f"is for {c['gain_setting']!r}")
+    if "band_hz" in c and [float(x) for x in c["band_hz"]] != [float(x) for x in results.band_hz]:
+        raise ParameterError(f"the unit was measured over {list(results.band_hz)} Hz but the profile applies to "
+                             f"{c['band_hz']} Hz: analyse it with the profile's band")
+    if "floor_corrected" in c and bool(c["floor_corrected"]) != results.floor_corrected:
+        said = "with" if results.floor_corrected else "without"
+        raise ParameterError(f"the unit was analysed {said} the analyzer floor subtracted but the profile "
+                             f"{profile.name!r} was made from units analysed "
+                             f"{'with' if c['floor_corrected'] else 'without'} it: give the floor capture "
+                             f"(--floor) as the profile's units had it, or make the profile again")
 
 
-def check_results(results: dict[str, Any], profile: Profile, *, unit: str = "unit") -> CheckResult:
-    """Check an analysis results dict (``benchnf analyze --json``) against a profile.
+def _scalar(results: AnalysisResult, lim: Any) -> LimitVerdict:
+    value = results.figure(lim.key)
+    unit = FIGURE_UNITS[lim.key][0]
+    u = results.figure_u(lim.key)
+    text = _limit_text(lim.min, lim.max, unit, value)
+    if value is None:
+        return LimitVerdict(lim.key, None, text, None, "", u, "FAIL",
+                            f"the results carry no {lim.key}: the analysis could not resolve it", unit, lim.min, lim.max)
+    relative = unit in RELATIVE_UNITS  # compared as a ratio in dB, as their uncertainty is stated
+    margins = []
+    if lim.max is not None:
+        margins.append(20 * math.log10(lim.max / value) if relative else lim.max - value)
+    if lim.min is not None:
+        margins.append(20 * math.log10(value / lim.min) if relative else value - lim.min)
+    margin = min(margins)
+    verdict = _classify(margin, u)
+    margin_unit = "dB" if relative or unit in ("dBu", "dBV") else unit
+    return LimitVerdict(lim.key, float(value), text, margin, margin_unit, u, verdict,
+                        HINTS.get(lim.key) if verdict != "PASS" else None, unit, lim.min, lim.max)
+
+
+def _mask(results: AnalysisResult, mask: Any) -> LimitVerdict:
+    rank = {"PASS": 0, "MARGINAL": 1, "FAIL": 2}
+    unit = "dB" if mask.quantity == "noise_figure_db" else "V/√Hz"
+    worst_row: tuple[int, float, float, float, float | None] | None = None
+    for s in results.spot:
+        v = getattr(s, mask.quantity)
+        at = mask.at(s.freq_hz)
+        if at is None or v is None or not math.isfinite(v):
+            continue
+        margin = (at - v) if mask.quantity == "noise_figure_db" else 20 * math.log10(at / v)
+        u = s.input_density_expanded_db if mask.quantity != "noise_figure_db" else s.noise_figure_expanded_db
+        key = (rank[_classify(margin, u)], -margin)
+        if worst_row is None or key > (worst_row[0], -worst_row[1]):
+            worst_row = (key[0], margin, s.freq_hz, float(v), u)
+    if worst_row is None:
+        return LimitVerdict(f"mask {mask.quantity}", None, "mask", None, "dB", None, "FAIL",
+                            "no spot value lies inside the mask's span", unit)
+    _r, margin, f_worst, value, u = worst_row
+    verdict = _classify(margin, u)
+    at = mask.at(f_worst) or math.nan  # a worst point lies inside the mask's span
+    return LimitVerdict(f"mask {mask.quantity} (worst at {f_worst:g} Hz)", value, f"max {Quantity(at, unit).text()}",
+                        margin, "dB", u, verdict, HINTS["input_density_v_per_rthz"] if verdict != "PASS" else None,
+                        unit, None, at)
+
+
+def _hum(results: AnalysisResult, h: Any) -> LimitVerdict:
+    level = math.sqrt(sum(sp.output_vrms ** 2 for sp in results.spurs if h.family in ("all", sp.family)))
+    margin = 20 * math.log10(h.max_output_vrms / level) if level > 0 else math.inf
+    verdict = _classify(margin, None)
+    return LimitVerdict(f"hum {h.family}", level, f"max {_in_unit_of(h.max_output_vrms, level, 'V')}",
+                        margin if math.isfinite(margin) else 99.0, "dB", None, verdict,
+                        HINTS[h.family] if verdict != "PASS" else None, "V", None, h.max_output_vrms)
+
+
+def check_results(results: AnalysisResult, profile: Profile, *, unit: str = "unit") -> CheckResult:
+    """Check a unit's gain-method result against a profile.
 
     Raises
     ------
     ParameterError
-        Another schema version, or other measurement conditions.
+        Other measurement conditions than the profile's.
     """
-    if str(results.get("schema_version")) != RESULTS_SCHEMA_VERSION:
-        raise ParameterError(f"the results of {unit} have schema_version {results.get('schema_version')!r}; "
-                             f"this benchnf checks version {RESULTS_SCHEMA_VERSION}: analyse the unit again")
     _check_conditions(results, profile)
-    unc = results.get("uncertainty") or {}
-    verdicts = []
-    for lim in profile.limits:
-        value = results.get(lim.key)
-        u = unc.get(UNCERTAINTY_OF.get(lim.key, ""), None)
-        u = float(u) if isinstance(u, (int, float)) else None
-        if not isinstance(value, (int, float)):
-            verdicts.append(LimitVerdict(lim.key, None, _limit_text(lim), None, "", u, "FAIL",
-                                         f"the results carry no {lim.key}: the analysis could not resolve it"))
-            continue
-        margins = []
-        if lim.max is not None:
-            margins.append(lim.max - value)
-        if lim.min is not None:
-            margins.append(value - lim.min)
-        margin = min(margins)
-        verdict = _classify(margin, u)
-        verdicts.append(LimitVerdict(lim.key, float(value), _limit_text(lim), margin, _unit(lim.key), u, verdict,
-                                     HINTS.get(lim.key) if verdict != "PASS" else None))
-    spots = results.get("spot", [])
-    rank = {"PASS": 0, "MARGINAL": 1, "FAIL": 2}
-    for mask in profile.masks:
-        worst_row: tuple[int, float, float, float, float | None] | None = None
-        for s in spots:
-            v = s.get(mask.quantity)
-            at = mask.at(float(s["freq_hz"]))
-            if at is None or v is None:
-                continue
-            margin = (at - v) if mask.quantity == "noise_figure_db" else 20 * math.log10(at / v)
-            u = s.get("input_density_expanded_db") if mask.quantity != "noise_figure_db" else None
-            key = (rank[_classify(margin, u)], -margin)
-            if worst_row is None or key > (worst_row[0], -worst_row[1]):
-                worst_row = (key[0], margin, float(s["freq_hz"]), float(v), u)
-        if worst_row is None:
-            verdicts.append(LimitVerdict(f"mask {mask.quantity}", None, "mask", None, "dB", None, "FAIL",
-                                         "no spot value lies inside the mask's span"))
-            continue
-        _r, margin, f_worst, value, u = worst_row
-        verdict = _classify(margin, u)
-        at = mask.at(f_worst) or math.nan  # a worst point lies inside the mask's span
-        shown = f"mask {at * 1e9:.3g} nV/rtHz" if mask.quantity.endswith("v_per_rthz") else f"mask {at:.4g}"
-        verdicts.append(LimitVerdict(f"mask {mask.quantity} (worst at {f_worst:g} Hz)", value, shown, margin, "dB", u,
-                                     verdict,
-                                     HINTS["input_density_v_per_rthz"] if verdict != "PASS" else None))
-    spurs = results.get("spurs", [])
-    for h in profile.hum:
-        level = math.sqrt(sum(sp["output_vrms"] ** 2 for sp in spurs if h.family in ("all", sp["family"])))
-        margin = 20 * math.log10(h.max_output_vrms / level) if level > 0 else math.inf
-        verdict = _classify(margin, None)
-        verdicts.append(LimitVerdict(f"hum {h.family}", level, f"max {eng(h.max_output_vrms, 'V')}", margin
-                                     if math.isfinite(margin) else 99.0, "dB", None, verdict,
-                                     HINTS[h.family] if verdict != "PASS" else None))
-    overall = ("FAIL" if any(v.verdict == "FAIL" for v in verdicts) else
-               "MARGINAL" if any(v.verdict == "MARGINAL" for v in verdicts) else "PASS")
-    cond = {k: results.get(k) for k in ("rs_ohm", "temperature_k", "band_hz", "weighting", "detector",
-                                         "floor_corrected", "sample_rate_hz")}
-    return CheckResult(unit, profile.name, overall, tuple(verdicts), cond)
+    verdicts = ([_scalar(results, lim) for lim in profile.limits] + [_mask(results, m) for m in profile.masks]
+                + [_hum(results, h) for h in profile.hum])
+    overall: Literal["PASS", "MARGINAL", "FAIL"] = (
+        "FAIL" if any(v.verdict == "FAIL" for v in verdicts) else
+        "MARGINAL" if any(v.verdict == "MARGINAL" for v in verdicts) else "PASS")
+    r = results
+    cond = CheckConditions(r.rs_ohm, r.temperature_k, r.band_hz, r.weighting, r.detector, r.floor_corrected,
+                           r.sample_rate_hz)
+    return CheckResult(unit, profile.name, overall, cond, tuple(verdicts))
 
 
-def _limit_text(lim) -> str:
-    if lim.min is not None and lim.max is not None:
-        return f"{(lim.min + lim.max) / 2:.4g} +/- {(lim.max - lim.min) / 2:.3g}"
-    return f"max {lim.max:.4g}" if lim.max is not None else f"min {lim.min:.4g}"
+def _in_unit_of(limit: float, measured: float | None, unit: str) -> str:
+    """A limit in the display unit of the measured value (``max 1840 nV`` beside ``582 nV``)."""
+    shown = Quantity(measured, unit).unit_text() if measured else None
+    return Quantity(limit, unit, display=shown or None).text()
 
 
-def _unit(key: str) -> str:
-    for suffix, unit in (("_db", "dB"), ("_dbu", "dB"), ("_dbv", "dB"), ("_hz", "Hz"), ("_vrms", "V"),
-                         ("_v_per_rthz", "V/rtHz")):
-        if key.endswith(suffix):
-            return unit
-    return ""
+def _limit_text(lower: float | None, upper: float | None, unit: str, measured: float | None = None) -> str:
+    """A limit in the measured value's unit and digits: ``max -134.70 dBu``, ``39.00 dB to 41.00 dB``."""
+    def q(x: float) -> str:
+        return _in_unit_of(x, measured, unit)
+    if lower is not None and upper is not None:
+        return f"{q(lower)} to {q(upper)}"
+    return f"max {q(upper)}" if upper is not None else f"min {q(lower)}"  # type: ignore[arg-type]

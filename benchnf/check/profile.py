@@ -18,24 +18,20 @@ from typing import Any
 import numpy as np
 
 from ..errors import ParameterError
+from ..measure.results import SCALAR_FIGURES, AnalysisResult
 
 __all__ = ["PROFILE_SCHEMA", "ScalarLimit", "Mask", "HumLimit", "Profile", "load_profile", "profile_from_results",
            "SCALAR_KEYS", "MASK_QUANTITIES"]
 
 PROFILE_SCHEMA = "benchnf.profile/1"
 
-#: Figures of the analysis JSON a scalar limit may name (numeric, top level).
-SCALAR_KEYS = ("gain_db", "ein_dbu", "ein_dbv", "ein_with_spurs_dbu", "noise_figure_db", "nf_at_1khz_db",
-               "input_density_at_1khz_v_per_rthz", "output_noise_vrms", "output_noise_dbu",
-               "voltage_noise_at_1khz_v_per_rthz", "flicker_corner_hz", "white_density_v_per_rthz", "snr_db",
-               "floor_margin_db")
+#: Figures of a gain-method result a scalar limit may name.
+SCALAR_KEYS = SCALAR_FIGURES
 #: Spot quantities a mask may bound.
 MASK_QUANTITIES = ("input_density_v_per_rthz", "output_density_v_per_rthz", "noise_figure_db")
-#: Which uncertainty entry (expanded, dB) goes with which figure.
-UNCERTAINTY_OF = {"gain_db": "gain_db", "ein_dbu": "ein_db", "ein_dbv": "ein_db", "ein_with_spurs_dbu": "ein_db",
-                  "noise_figure_db": "noise_figure_db", "nf_at_1khz_db": "nf_at_1khz_db"}
 _TOP = {"schema", "name", "notes", "conditions", "limit", "mask", "hum"}
-_CONDITIONS = {"rs_ohm", "band_hz", "weighting", "sample_rate_hz", "gain_setting", "temperature_k"}
+_CONDITIONS = {"rs_ohm", "band_hz", "weighting", "sample_rate_hz", "gain_setting", "temperature_k",
+               "floor_corrected"}
 _LIMIT = {"key", "min", "max", "target", "tolerance", "note"}
 _MASK = {"quantity", "points", "note"}
 _HUM = {"family", "max_output_vrms", "note"}
@@ -226,18 +222,36 @@ MIN_MASK_BINS = 10
 _THIRD_OCTAVE_WIDTH = 10 ** (1 / 20) - 10 ** (-1 / 20)  # band width over centre frequency, 0.2316
 
 
-def _lowest_mask_hz(results: list[dict[str, Any]]) -> float:
+def _lowest_mask_hz(results: list[AnalysisResult]) -> float:
     """The lowest spot frequency whose band holds MIN_MASK_BINS bins in every good unit's spectrum."""
-    widths = [float(r["sample_rate_hz"]) / float(r["segment_length"]) for r in results
-              if r.get("sample_rate_hz") and r.get("segment_length")]
+    widths = [r.sample_rate_hz / r.segment_length for r in results]
     return MIN_MASK_BINS * max(widths) / _THIRD_OCTAVE_WIDTH if widths else 0.0
 
 
-# The figures a profile sets limits on; a results file that carries one must carry a number.
+# The figures a profile sets limits on; a result that carries one must carry a number.
 _PROFILED = ("gain_db", "ein_dbu", "noise_figure_db", "nf_at_1khz_db")
 
 
-def profile_from_results(results: list[dict[str, Any]], *, margin_db: float = 1.0, name: str = "known good",
+def _conditions_of(results: list[AnalysisResult]) -> dict[str, Any]:
+    """The good units' shared conditions (refused where they differ)."""
+    def of(r: AnalysisResult) -> dict[str, Any]:
+        return {"rs_ohm": r.rs_ohm, "band_hz": list(r.band_hz), "weighting": r.weighting,
+                "sample_rate_hz": r.sample_rate_hz, "floor_corrected": r.floor_corrected}
+    cond = of(results[0])
+    for r in results[1:]:
+        for k, v in of(r).items():
+            if v != cond[k]:
+                raise ParameterError(f"the known-good units were measured under different conditions "
+                                     f"({k}: {cond[k]!r} and {v!r}): make one profile per condition")
+    temps = [r.temperature_k for r in results]
+    if max(temps) - min(temps) > 5.0:  # checks allow 5 K either side (check/limits.py)
+        raise ParameterError(f"the known-good units were measured at {min(temps):g} to {max(temps):g} K: "
+                             f"more than 5 K apart; make one profile per temperature")
+    cond["temperature_k"] = round(sum(temps) / len(temps), 2)
+    return cond
+
+
+def profile_from_results(results: list[AnalysisResult], *, margin_db: float = 1.0, name: str = "known good",
                          spread_k: float = 3.0) -> Profile:
     """Make a profile from the results of one or more known-good units.
 
@@ -251,30 +265,15 @@ def profile_from_results(results: list[dict[str, Any]], *, margin_db: float = 1.
         raise ParameterError("give at least one known-good results JSON")
     if not (math.isfinite(margin_db) and margin_db >= 0):
         raise ParameterError(f"--margin-db {margin_db!r} must be >= 0")
-    keys = ("rs_ohm", "band_hz", "weighting", "sample_rate_hz")
-    cond = {k: results[0].get(k) for k in keys if results[0].get(k) is not None}
-    temps = [float(r["temperature_k"]) for r in results if isinstance(r.get("temperature_k"), (int, float))]
-    if temps:  # checks allow 5 K either side (check/limits.py), so the good units must agree as closely
-        if max(temps) - min(temps) > 5.0:
-            raise ParameterError(f"the known-good units were measured at {min(temps):g} to {max(temps):g} K: "
-                                 f"more than 5 K apart; make one profile per temperature")
-        cond["temperature_k"] = round(sum(temps) / len(temps), 2)
-    for r in results[1:]:
-        for k in keys:
-            if r.get(k) != results[0].get(k):
-                raise ParameterError(f"the known-good units were measured under different conditions "
-                                     f"({k}: {results[0].get(k)!r} and {r.get(k)!r}): make one profile per "
-                                     f"condition")
-
+    cond = _conditions_of(results)
     for i, r in enumerate(results, 1):
         for key in _PROFILED:
-            v = r.get(key)
-            if key in r and not (isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)):
-                raise ParameterError(f"results {i}: {key}={v!r} is not a number, so the profile would lack "
-                                     f"its limit: measure that unit again, or remove the key deliberately")
+            if r.figure(key) is None and not (key == "nf_at_1khz_db" and getattr(r, key) is None):
+                raise ParameterError(f"results {i}: {key} is not a number, so the profile would lack "
+                                     f"its limit: measure that unit again")
 
     def values(key):
-        return np.array([r[key] for r in results if isinstance(r.get(key), (int, float))], dtype=float)
+        return np.array([v for r in results if (v := r.figure(key)) is not None], dtype=float)
 
     def spread(v):
         return spread_k * float(np.std(v, ddof=1)) if v.size > 1 else 0.0
@@ -296,9 +295,8 @@ def profile_from_results(results: list[dict[str, Any]], *, margin_db: float = 1.
     masks = []
     # Each good spot value moved up by its own expanded uncertainty (the good unit's value is itself a
     # measurement), then by the margin.
-    spots = [{s["freq_hz"]: (s["input_density_v_per_rthz"] * 10 ** ((s.get("input_density_expanded_db") or 0.0) / 20)
-                             if s.get("input_density_v_per_rthz") else None) for s in r.get("spot", [])}
-             for r in results]
+    spots = [{s.freq_hz: (s.input_density_v_per_rthz * 10 ** ((s.input_density_expanded_db or 0.0) / 20)
+                          if s.input_density_v_per_rthz else None) for s in r.spot} for r in results]
     freqs = sorted(set.intersection(*(set(k for k, v in s.items() if v) for s in spots))) if spots else []
     freqs = [f for f in freqs if f >= _lowest_mask_hz(results)]
     if len(freqs) >= 2:
@@ -308,8 +306,7 @@ def profile_from_results(results: list[dict[str, Any]], *, margin_db: float = 1.
     hum = []
     noise = values("output_noise_vrms")
     for family in ("mains", "ripple"):
-        levels = [math.sqrt(sum(sp["output_vrms"] ** 2 for sp in r.get("spurs", []) if sp["family"] == family))
-                  for r in results]
+        levels = [math.sqrt(sum(sp.output_vrms ** 2 for sp in r.spurs if sp.family == family)) for r in results]
         top = max(levels) if levels else 0.0
         if top > 0:
             hum.append(HumLimit(family, top * 2 * 10 ** (margin_db / 20), "worst good x 2 + margin"))

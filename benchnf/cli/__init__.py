@@ -13,33 +13,30 @@ from collections.abc import Sequence
 from typing import NoReturn
 
 from . import (
-    analyze,
     batch,
-    budget,
     calibrate,
     calibrate_output,
-    cascade,
     check,
     demo,
     desk,
     devices,
-    eni,
     excite,
     live,
     measure,
+    measurement,
     profile,
     record,
     records,
     recover,
-    yfactor,
 )
 from .boundary import run_guarded
 from .status import ExitStatus
 
 __all__ = ["main", "build_parser", "ExitStatus"]
 
-COMMANDS = (analyze, calibrate, yfactor, cascade, budget, eni, profile, check, batch, devices, record, excite,
-            measure, live, calibrate_output, recover, records, desk, demo)
+#: The commands that are not measurements (those come from the registry, cli/measurement.py).
+COMMANDS = (profile, check, batch, devices, record, excite, measure, live, calibrate_output, recover, records, desk,
+            demo)
 
 
 class _Parser(argparse.ArgumentParser):
@@ -61,6 +58,8 @@ def build_parser() -> argparse.ArgumentParser:
     from .. import __version__
     parser.add_argument("--version", action="version", version=f"benchnf {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", required=True)
+    calibrate.add_parser(sub)
+    measurement.add_parsers(sub)
     for command in COMMANDS:
         command.add_parser(sub)
     return parser

@@ -53,7 +53,7 @@ def progress(total_frames: int, *, quiet: bool, label: str) -> Iterator[Callable
         yield None
         return
     from tqdm import tqdm
-    bar = tqdm(total=total_frames, unit="frame", unit_scale=True, desc=label, leave=False,
+    bar = tqdm(total=total_frames or None, unit="frame", unit_scale=True, desc=label, leave=False,
                file=sys.stderr)
     try:
         yield bar.update
@@ -82,7 +82,7 @@ def say_rate_note(device: str | None, host_api: str | None, rate: float, *, warn
         print(f"benchnf: warning: {note}", file=sys.stderr)
 
 
-def common_options(p: argparse.ArgumentParser) -> None:
+def common_options(p: Any) -> None:
     p.add_argument("--quiet", action="store_true", help="no progress bar")
     p.add_argument("--overwrite", action="store_true",
                    help="replace output files that exist already (never an input; default: refuse)")
@@ -97,16 +97,15 @@ def calibration_options(p: argparse.ArgumentParser) -> None:
                    help="a calibration file written by 'benchnf calibrate'")
 
 
-def write_outputs(args: argparse.Namespace, writer: Writer, data: dict[str, Any],
+def write_outputs(args: argparse.Namespace, writer: Writer, result: Any,
                   figures: Callable[[], list[tuple[str, Any]]] | None = None) -> None:
-    """--json and --plot, the same way for every command."""
+    """--json (the result with its provenance) and --plot, the same way for every command."""
     if getattr(args, "json", None):
         from ..measure.provenance import provenance
         root = getattr(args, "relative_to", None) or Path(args.json).parent
-        data = {**data, "provenance": provenance(input_paths(args), root=root,
-                                                 station=getattr(args, "station", None),
-                                                 operator=getattr(args, "operator", None))}
-        writer.json(args.json, data)
+        made = provenance(input_paths(args), root=root, station=getattr(args, "station", None),
+                          operator=getattr(args, "operator", None))
+        writer.json(args.json, result.with_provenance(made).to_dict())
         print(f"\nJSON written to {args.json}")
     if getattr(args, "plot", None) and figures is not None:
         folder = writer.folder(args.plot)
@@ -122,18 +121,19 @@ def sweep_options(p: argparse.ArgumentParser, *, band_default: tuple[float, floa
     p.add_argument("--segment", type=segment_samples, metavar="N")
     p.add_argument("--channel", type=channel_index, metavar="N")
     calibration_options(p)
-    output_options(p)
 
 
-def output_options(p: argparse.ArgumentParser, *, plot: bool = True) -> None:
-    p.add_argument("--json", type=Path, metavar="OUT.json", help="write the results as JSON")
-    relative_to_option(p)
-    if plot:
-        p.add_argument("--plot", type=Path, metavar="DIR", help="write PNG plots into DIR")
-    common_options(p)
+def output_options(p: argparse.ArgumentParser) -> None:
+    """What every measurement writes and prints: --json, --plot, --explain, --quiet, --overwrite."""
+    out = p.add_argument_group("output")
+    out.add_argument("--json", type=Path, metavar="OUT.json", help="write the results as JSON")
+    relative_to_option(out)
+    out.add_argument("--plot", type=Path, metavar="DIR", help="write PNG plots into DIR")
+    out.add_argument("--explain", action="store_true", help="list every uncertainty contribution")
+    common_options(out)
 
 
-def relative_to_option(p: argparse.ArgumentParser) -> None:
+def relative_to_option(p: Any) -> None:
     p.add_argument("--relative-to", type=existing_folder, metavar="DIR",
                    help="name the input files in the results' provenance relative to DIR (default: the folder "
                         "of the results file)")

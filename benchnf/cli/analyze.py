@@ -1,4 +1,4 @@
-"""benchnf analyze."""
+"""benchnf analyze: the options of the gain-method analysis (the command itself is cli/measurement.py)."""
 
 from __future__ import annotations
 
@@ -7,12 +7,7 @@ from pathlib import Path
 from typing import Any
 
 from ..write import Writer
-from ._common import (
-    calibration_options,
-    output_options,
-    progress,
-    write_outputs,
-)
+from ._common import calibration_options
 from ._types import (
     channel_index,
     finite_db,
@@ -26,19 +21,14 @@ from ._types import (
     resistor_kelvin,
     segment_samples,
 )
-from .status import ExitStatus
 
 
-def add_parser(sub: Any) -> None:
-    p = sub.add_parser("analyze", help="gain-method noise analysis of captures",
-                       description="Gain, input-referred noise density, EIN and noise figure "
-                                   "from a terminated-input capture and a tone (or stated gain).")
+def add_options(p: argparse.ArgumentParser) -> None:
+    """The option groups of ``benchnf analyze`` (the output options are every measurement's)."""
     for options in (_capture_options, _gain_options, _source_options, _band_options, _limit_options,
                     _trace_options):
         options(p)
     calibration_options(p)
-    output_options(p)
-    p.set_defaults(run=run)
 
 
 def _capture_options(p: argparse.ArgumentParser) -> None:
@@ -125,7 +115,6 @@ def _limit_options(p: argparse.ArgumentParser) -> None:
                    help="source resistor tolerance, +/- %% (default 1)")
     a.add_argument("--temperature-limit-k", type=non_negative_pct, default=2.0, metavar="K",
                    help="source resistor temperature known to +/- K (default 2)")
-    a.add_argument("--explain", action="store_true", help="list every uncertainty contribution")
     a.add_argument("--accept-dropouts", action="store_true",
                    help="use captures whose sidecar records dropouts (refused otherwise)")
 
@@ -153,7 +142,8 @@ def _trace_options(p: argparse.ArgumentParser) -> None:
 def request_from_args(args: argparse.Namespace) -> Any:
     """The command line's gain-method request (what the user typed, nothing resolved yet)."""
     from ..dsp.weighting import BAND_PRESETS
-    from ..measure.requests import GainMethodRequest, TraceOptions
+    from ..io.opener import TraceReading
+    from ..measure.requests import GainMethodRequest
     from ..noise.uncertainty import StatedUncertainty
     from ..units import dbu_to_vrms
     band = BAND_PRESETS.get(args.band_preset) if args.band_preset else None
@@ -166,7 +156,7 @@ def request_from_args(args: argparse.Namespace) -> Any:
         band_hz=(band.low_hz, band.high_hz) if band is not None else (tuple(args.band) if args.band else None),
         weighting=args.weighting, detector=args.detector, channel=args.channel, volts_per_fs=args.volts_per_fs,
         calibration=args.calibration,
-        trace=TraceOptions(rbw_hz=args.rbw_hz, detector=args.trace_detector, reference_ohm=args.reference_ohm,
+        trace=TraceReading(rbw_hz=args.rbw_hz, detector=args.trace_detector, reference_ohm=args.reference_ohm,
                            enbw_ratio=args.enbw_ratio),
         accept_dropouts=args.accept_dropouts, segment_length=args.segment, mains_hz=args.mains_hz,
         flicker_range_hz=tuple(args.flicker_range) if args.flicker_range else None,
@@ -178,20 +168,9 @@ def request_from_args(args: argparse.Namespace) -> Any:
         band_above_mains=args.band_preset == "above-hum")
 
 
-def run(args: argparse.Namespace, writer: Writer) -> int:
-    from ..measure import analyze_gain_method
-    from ..measure.requests import resolve_gain_method
-    from ..report.plots import analysis_figures
-    from ..report.text import format_summary
-    inputs = resolve_gain_method(request_from_args(args))
-    total = sum(getattr(c, "n_frames", 0) for c in (*inputs["terminated"], inputs["floor"], inputs["shorted"])
-                if c is not None)
-    with progress(total, quiet=args.quiet, label="analysing") as tick:
-        result = analyze_gain_method(**inputs, progress=tick)
-    print(format_summary(result, explain=args.explain), end="")
-    write_outputs(args, writer, result.to_dict(), lambda: analysis_figures(result))
+def write_extra(args: argparse.Namespace, writer: Writer, result: Any) -> None:
+    """--spectra: every bin's densities, noise figure and their Welch uncertainty as CSV."""
     if args.spectra:
         from ..report.spectra_csv import spectra_csv
         writer.text(args.spectra, spectra_csv(result))
         print(f"spectra written to {args.spectra}")
-    return ExitStatus.OK

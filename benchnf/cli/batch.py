@@ -51,14 +51,8 @@ def add_parser(sub: Any) -> None:
 
 
 def run(args: argparse.Namespace, writer: Writer) -> int:
-    from ..check.batch import (
-        HISTORY_HEADER,
-        check_batch,
-        find_units,
-        history_lines,
-        junit_xml,
-        summary_csv,
-    )
+    from ..check.batch import UnitSettings, check_batch, find_units
+    from ..report.batch_files import HISTORY_HEADER, history_lines, junit_xml, summary_csv
     from ..check.profile import load_profile
     from ..report.html import unit_png, unit_report_html
     settle_station(args)
@@ -78,18 +72,17 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     history = writer.appendable(args.history or out / "history.csv", HISTORY_HEADER)
     for name in ("summary.csv", "junit.xml", *(f"{u.name}.{x}" for u in units for x in ("html", "png"))):
         writer.target(writer.child(out, name))  # refused now, before any unit is analysed
-    settings = {"calibration": str(args.calibration) if args.calibration else None,
-                "volts_per_fs": args.volts_per_fs, "floor": str(args.floor) if args.floor else None,
-                "tone_input_vrms": args.tone_input_vrms, "rs_ohm": args.rs, "temperature_k": args.temperature_k,
-                "band_hz": tuple(args.band) if args.band else None, "weighting": args.weighting,
-                "station": args.station, "operator": args.operator,
-                "relative_to": str(args.relative_to) if args.relative_to else None}
+    settings = UnitSettings(
+        calibration=args.calibration, volts_per_fs=args.volts_per_fs, floor=args.floor,
+        tone_input_vrms=args.tone_input_vrms, rs_ohm=args.rs, temperature_k=args.temperature_k,
+        band_hz=tuple(args.band) if args.band else None, weighting=args.weighting, station=args.station,
+        operator=args.operator, relative_to=args.relative_to)
     with progress(len(units), quiet=args.quiet, label="checking") as tick:
         outcomes = check_batch(Path(args.units), str(args.profile), settings=settings, workers=args.workers,
                                progress=tick)
     rows = []
     for o in outcomes:
-        failed = [v["name"] for v in (o.check or {}).get("limits", []) if v["verdict"] != "PASS"]
+        failed = [v.name for v in (o.check.limits if o.check else ()) if v.verdict != "PASS"]
         rows.append((o.serial, o.verdict, o.error or ", ".join(failed)))
         writer.text(writer.child(out, f"{o.serial}.html"),
                     unit_report_html(serial=o.serial, verdict=o.verdict, check=o.check, results=o.results,

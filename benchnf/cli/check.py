@@ -29,10 +29,12 @@ def add_parser(sub: Any) -> None:
 def run(args: argparse.Namespace, writer: Writer) -> int:
     from ..check.limits import check_results
     from ..check.profile import load_profile
-    from ..io.results_json import read_results
+    from ..registry import read_result
+    from ..report.present_check import present
+    from ..report.render_text import render_text
     settle_station(args)
     profile = load_profile(args.profile)
-    results = read_results(args.results)
+    results = read_result(args.results, kinds=("analysis",))
     unit = args.unit or Path(args.results).stem
     url = args.records  # settled above: option, environment, station file
     store = None
@@ -40,40 +42,26 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
         from ..records import connect
         store = connect(url)  # refused now, before the check, if it cannot be opened
     res = check_results(results, profile, unit=unit)
-    print(f"benchnf - {unit} against profile {profile.name!r}: {res.verdict}\n")
-    from ..report.labels import limit_label, value_text
-    weighting = results.get("weighting")
-    print(f"  {'limit':46s} {'measured':>16} {'limit':>16} {'margin':>10} {'U k=2':>7}  verdict")
-    for v in res.limits:
-        margin = "-" if v.margin is None else f"{v.margin:.3g} {v.unit}"
-        u = "-" if v.uncertainty is None else f"{v.uncertainty:.2f} dB"
-        print(f"  {limit_label(v.name, weighting=weighting)[:46]:46s} {value_text(v.name, v.measured):>16} "
-              f"{v.limit:>16} {margin:>10} {u:>7}  {v.verdict}")
-        if v.hint:
-            print(f"      suggestion: {v.hint}")
-    if any(v.verdict == "MARGINAL" for v in res.limits):
-        print("\n  MARGINAL: within the expanded measurement uncertainty of the limit, on either side: neither a "
-              "confident pass nor a proven failure; measure longer or check the setup before deciding.")
+    print(render_text(present(res)), end="")
     if args.json:
         from ..measure.provenance import provenance
         from ._common import input_paths
-        writer.json(args.json, {**res.to_dict(), "provenance": provenance(
+        writer.json(args.json, res.with_provenance(provenance(
             input_paths(args), root=args.relative_to or Path(args.json).parent, station=args.station,
-            operator=args.operator)})
+            operator=args.operator)).to_dict())
         print(f"\nJSON written to {args.json}")
     if args.report:
         from ..report.html import unit_png, unit_report_html
         folder = writer.folder(args.report)
         page = writer.child(folder, f"{unit}.html")
-        writer.text(page, unit_report_html(serial=unit, verdict=res.verdict, check=res.to_dict(),
-                                           results=results, profile=profile))
-        writer.bytes(writer.child(folder, f"{unit}.png"), unit_png(results, res.to_dict(), profile))
+        writer.text(page, unit_report_html(serial=unit, verdict=res.verdict, check=res, results=results,
+                                           profile=profile))
+        writer.bytes(writer.child(folder, f"{unit}.png"), unit_png(results, res, profile))
         print(f"report written to {page}")
     if store is not None:
         from ..records.entry import check_record
-        store.add(check_record(res.to_dict(), serial=unit, verdict=res.verdict, results=results, profile=profile,
+        store.add(check_record(res, serial=unit, verdict=res.verdict, results=results, profile=profile,
                                station=args.station, operator=args.operator))
         store.close()
         print(f"recorded in {url}")
     return ExitStatus.CHECK_FAILED if res.failed else ExitStatus.OK
-

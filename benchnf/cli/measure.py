@@ -42,8 +42,9 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
         if "calibration" in result:
             print("\n" + result)
         return ExitStatus.OK
-    from ..report.text import format_summary
+    from ..report.present_analysis import present
+    from ..report.render_text import render_text
     print()
-    print(format_summary(result), end="")
+    print(render_text(present(result)), end="")
     print(f"\nresults written to {folder / 'results.json'}")
     return ExitStatus.OK

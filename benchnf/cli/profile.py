@@ -6,7 +6,6 @@ import argparse
 from pathlib import Path
 from typing import Any
 
-from ..errors import BenchError
 from ..write import Writer
 from ._common import common_options
 from ._types import non_negative_pct
@@ -28,13 +27,10 @@ def add_parser(sub: Any) -> None:
 
 def run(args: argparse.Namespace, writer: Writer) -> int:
     from ..check.profile import profile_from_data, profile_from_results
-    from ..io.results_json import read_results
     from ..io.toml_file import parse_toml
+    from ..registry import read_result
     out = writer.target(args.output)
-    results = [read_results(p) for p in args.results]
-    for p, r in zip(args.results, results):
-        if r.get("kind") not in (None, "analysis"):
-            raise BenchError(f"{p} is not the results of 'benchnf analyze' (it holds {r.get('kind')!r} results)")
+    results = [read_result(p, kinds=("analysis",)) for p in args.results]
     prof = profile_from_results(results, margin_db=args.margin_db, name=args.name or "known good")
     text = prof.to_toml()
     profile_from_data(parse_toml(text, f"the profile made for {out}"), where=out)  # it must load again

@@ -144,7 +144,7 @@ def _capability(store: Any, args: argparse.Namespace, writer: Writer) -> int:
 
 def _chart(store: Any, args: argparse.Namespace, writer: Writer) -> int:
     from ..records.charts import control_chart
-    from ..report.plots import control_chart_figures
+    from ..report.charts import control_chart_figures
     rows = store.measured_values(args.figure)
     if not rows:
         raise BenchError(f"no recorded values of {args.figure!r}: the limits recorded are "

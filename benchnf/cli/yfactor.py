@@ -1,4 +1,4 @@
-"""benchnf yfactor."""
+"""benchnf yfactor: the options of the Y-factor measurement (the command itself is cli/measurement.py)."""
 
 from __future__ import annotations
 
@@ -6,8 +6,6 @@ import argparse
 from pathlib import Path
 from typing import Any
 
-from ..write import Writer
-from ._common import output_options, progress, write_outputs
 from ._types import (
     celsius,
     channel_index,
@@ -21,14 +19,10 @@ from ._types import (
     segment_samples,
     whole_count,
 )
-from .status import ExitStatus
 
 
-def add_parser(sub: Any) -> None:
-    p = sub.add_parser("yfactor", help="noise figure by the Y-factor (hot/cold) method",
-                       description="DUT noise figure, noise temperature and gain from hot and cold "
-                                   "captures (noise diode ENR or two temperatures), with the second-stage "
-                                   "correction from a calibration pair.")
+def add_options(p: argparse.ArgumentParser) -> None:
+    """The options of ``benchnf yfactor``."""
     p.add_argument("--hot", type=Path, nargs="+", metavar="FILE",
                    help="capture(s) with the source hot (several: repeats, paired in order with --cold)")
     p.add_argument("--cold", type=Path, nargs="+", metavar="FILE", help="capture(s) with the source cold")
@@ -69,17 +63,11 @@ def add_parser(sub: Any) -> None:
     p.add_argument("--edge-fraction", type=fraction, default=0.1, metavar="R",
                    help="IQ: fraction of each half-span excluded at the edges (default 0.1)")
     p.add_argument("--channel", type=channel_index, default=0, metavar="N", help="channel of audio captures")
-    p.add_argument("--explain", action="store_true", help="list every uncertainty contribution")
-    output_options(p)
-    p.set_defaults(run=run)
 
 
-def run(args: argparse.Namespace, writer: Writer) -> int:
-    from ..measure.yfactor import analyze_yfactor
-    from ..measure.yfactor_request import YFactorRequest, resolve_yfactor
-    from ..report.plots import yfactor_figures
-    from ..report.yfactor_text import format_yfactor
-    inputs = resolve_yfactor(YFactorRequest(
+def request_from_args(args: argparse.Namespace) -> Any:
+    from ..measure.yfactor_request import YFactorRequest
+    return YFactorRequest(
         hot=tuple(args.hot or ()), cold=tuple(args.cold or ()), annotated=args.annotated, cal_hot=args.cal_hot,
         cal_cold=args.cal_cold, floor=args.floor, enr_db=args.enr_db, enr_table=args.enr_table,
         t_hot_k=args.t_hot_k, t_hot_c=args.t_hot_c, t_cold_k=args.t_cold_k, t_cold_c=args.t_cold_c,
@@ -88,10 +76,4 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
         loss_after=tuple(args.loss_after) if args.loss_after else None,
         band_hz=tuple(args.band) if args.band else None, spot_hz=tuple(args.spot or ()), rows=args.rows,
         segment_length=args.segment, iq=args.iq, centre_hz=args.centre_hz, channel=args.channel,
-        dc_exclude_hz=args.dc_exclude_hz, edge_fraction=args.edge_fraction))
-    total = sum(getattr(c, "n_frames", 0) for c in (*inputs["hot"], *inputs["cold"]))
-    with progress(total, quiet=args.quiet, label="analysing") as tick:
-        result = analyze_yfactor(**inputs, progress=tick)
-    print(format_yfactor(result, explain=args.explain), end="")
-    write_outputs(args, writer, result.to_dict(), lambda: yfactor_figures(result))
-    return ExitStatus.OK
+        dc_exclude_hz=args.dc_exclude_hz, edge_fraction=args.edge_fraction)

@@ -6,6 +6,7 @@ import os
 from pathlib import Path
 
 from ..errors import BenchError
+from ..io.opener import AUDIO_SUFFIXES
 
 __all__ = ["DeskFolder", "OutsideFolder", "KINDS"]
 
@@ -14,7 +15,7 @@ KINDS = {
     "results": (".json",),
     "plans": (".toml",),
     "profiles": (".toml",),
-    "captures": (".wav", ".flac", ".aiff", ".aif", ".w64", ".rf64", ".sigmf-meta"),
+    "captures": (*AUDIO_SUFFIXES, ".sigmf-meta"),
     "traces": (".csv",),
     "calibrations": (".json",),
     "analyses": (".json",),
@@ -46,6 +47,17 @@ class DeskFolder:
         candidate = (self.root / name).resolve()
         if candidate != self.root and self.root not in candidate.parents:
             raise OutsideFolder(f"{name!r} is outside the desk's folder {self.root}; only files inside it are served")
+        return candidate
+
+    def resolve_named(self, name: str, *, base: Path) -> Path:
+        """A file a results file names: relative to `base` (the results file's folder) unless absolute, and
+        refused (OutsideFolder) when it lies outside the desk's folder."""
+        if not name or "\x00" in name:
+            raise BenchError("the results name an empty file")
+        candidate = (Path(base) / Path(name).expanduser()).resolve()
+        if candidate != self.root and self.root not in candidate.parents:
+            raise OutsideFolder(f"{name!r} (named in the results) is outside the desk's folder {self.root}: the desk "
+                                f"reads only files inside it; copy the captures in beside the results")
         return candidate
 
     def relative(self, path: Path) -> str:

@@ -69,7 +69,7 @@ class Result(DeskHandler):
     def get(self) -> None:
         from .views import result_view
         name = self.get_query_argument("path", "")
-        self.reply(result_view(self.path_arg("path"), name))
+        self.reply(result_view(self.path_arg("path"), name, self.state.folder))
 
 
 class Download(DeskHandler):
@@ -87,7 +87,7 @@ class Export(DeskHandler):
 
     def get(self) -> None:
         from .analysis import export
-        name, content = export(self.path_arg("path"), self.get_query_argument("form", "csv"))
+        name, content = export(self.path_arg("path"), self.get_query_argument("form", "csv"), self.state.folder)
         self.set_header("Content-Type", "text/csv" if name.endswith(".csv") else "text/html; charset=utf-8")
         self.set_header("Content-Disposition", f'attachment; filename="{name}"')
         self.finish(content)
@@ -109,7 +109,7 @@ class Analyse(DeskHandler):
         if weighting is not None and weighting not in WEIGHTINGS:
             raise BenchError(f"weighting {weighting!r}: one of {', '.join(WEIGHTINGS)}")
         path = analyse_folder(captures, writer=st.writer, calibration=calibration, numbers=numbers,
-                              band_hz=None, weighting=weighting, root=captures)
+                              band_hz=None, weighting=weighting)
         self.reply({"results": st.folder.relative(path)})
 
 
@@ -151,15 +151,14 @@ def live_settings(data: dict[str, Any], folder: Any) -> Any:
     averages = _number(data, "averages", low=0, high=100_000, default=16)
     gain = _number(data, "gain_db", low=-40.0, high=160.0)
     if data.get("gain_from"):  # the gain a gain-method result measured
-        from ..io.results_json import read_results
-        measured = read_results(folder.resolve(str(data["gain_from"])))
-        if gain is not None or measured.get("gain_db") is None:
-            raise BenchError("state a gain or take it from a result, not both" if gain is not None else
-                             f"{data['gain_from']} has no measured gain")
-        gain = float(measured["gain_db"])
+        from ..registry import read_result
+        measured = read_result(folder.resolve(str(data["gain_from"])), kinds=("analysis",))
+        if gain is not None:
+            raise BenchError("state a gain or take it from a result, not both")
+        gain = measured.gain_db
     return LiveSettings(device=data.get("device") or None, host_api=data.get("host_api") or None,
                         rate_hz=_number(data, "rate_hz", low=1000.0, high=1e6, default=48_000.0),
-                        channel=int(_number(data, "channel", low=1, high=64, default=1)) - 1, volts_per_fs=vpfs,
+                        channel=int(_number(data, "channel", low=0, high=63, default=0)), volts_per_fs=vpfs,
                         gain_db=gain, band_hz=band, weighting=weighting,
                         averages=int(averages) or None)
 
@@ -271,9 +270,10 @@ class Check(DeskHandler):
         source = self.path_arg("source", str(data.get("source", "")))
         profile = self.path_arg("profile", str(data.get("profile", "")))
         calibration = self.path_arg("calibration", str(data["calibration"])) if data.get("calibration") else None
+        floor = self.path_arg("floor", str(data["floor"])) if data.get("floor") else None
         out = check_unit_from_desk(serial=str(data.get("serial", "")), source=source, profile_path=profile,
                                    folder=st.folder.root, writer=st.writer, records_url=st.records_url,
-                                   station=st.station, operator=st.operator, calibration=calibration)
+                                   station=st.station, operator=st.operator, calibration=calibration, floor=floor)
         out["report"] = st.folder.relative(out["report"])
         self.reply(out)
 

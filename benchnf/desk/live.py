@@ -78,8 +78,8 @@ class LiveFeed:
         s = self.settings
         dev = find_device(s.device, host_api=s.host_api, kind="input")
         if s.channel >= dev.max_input_channels:
-            raise BenchError(f"{dev.name!r} has {dev.max_input_channels} input channel(s); channel {s.channel + 1} "
-                             f"does not exist")
+            raise BenchError(f"{dev.name!r} has {dev.max_input_channels} input channel(s), 0 to "
+                             f"{dev.max_input_channels - 1} (0 = first); channel {s.channel} does not exist")
         self._guard.take("the live view")
         try:
             # Low latency: the first blocks arrive at once (with the host's default "high" latency the ALSA
@@ -161,16 +161,16 @@ def reference_trace(kind: str, path: Path | None, *, settings: LiveSettings, pro
                 "y": [float(v) for v in m.limit]}
     if path is None:
         raise BenchError("choose a file for the reference trace")
+    from ..dsp.spectrum import Psd, welch_psd
+    from ..io.opener import input_kind, open_input
     if kind == "trace":
-        from ..io.csv_trace import load_csv
-        from ..dsp.spectrum import Psd
-        psd = load_csv(path)
+        psd = open_input(path)
         if not isinstance(psd, Psd):
             raise BenchError(f"{path.name} is a time series, not a spectrum trace")
         return {"name": path.name, "x": psd.frequency_hz[1:].tolist(), "y": np.sqrt(psd.psd_per_hz[1:]).tolist()}
-    from ..dsp.spectrum import welch_psd
-    from ..io import open_capture
-    cap = open_capture(path)
+    if input_kind(path) != "audio":
+        raise BenchError(f"{path.name} is not an audio capture: choose a floor recording")
+    cap = open_input(path)
     psd = welch_psd(cap.blocks(), sample_rate_hz=cap.sample_rate_hz, segment_length=settings.segment_length)
     scale = settings.volts_per_fs or 1.0
     density = psd.psd_per_hz * scale ** 2

@@ -28,8 +28,9 @@ def serial_ok(serial: str) -> str:
     return serial
 
 
-def _outcome(serial: str, source: Path, profile_path: Path, settings: dict[str, Any]) -> tuple[Any, Any, Any]:
-    """(check dict, results dict, verdict) of the unit: a results JSON checked, or a folder analysed and checked."""
+def _outcome(serial: str, source: Path, profile_path: Path, settings: Any) -> tuple[Any, Any, Any]:
+    """(CheckResult, AnalysisResult, Profile) of the unit: a results JSON checked, or a folder of captures
+    analysed and checked exactly as ``benchnf batch`` does (:func:`benchnf.check.batch.check_unit`)."""
     from ..check.limits import check_results
     from ..check.profile import load_profile
     profile = load_profile(profile_path)
@@ -39,25 +40,29 @@ def _outcome(serial: str, source: Path, profile_path: Path, settings: dict[str, 
         if out.error:
             raise BenchError(out.error)
         return out.check, out.results, profile
-    from ..io.results_json import read_results
-    results = read_results(source)
-    return check_results(results, profile, unit=serial).to_dict(), results, profile
+    from ..registry import read_result
+    results = read_result(source, kinds=("analysis",))
+    return check_results(results, profile, unit=serial), results, profile
 
 
 def check_unit_from_desk(*, serial: str, source: Path, profile_path: Path, folder: Path, writer: Any,
                          records_url: str | None, station: str | None, operator: str | None,
-                         calibration: Path | None = None) -> dict[str, Any]:
-    """Check one unit; write its report page into ``folder/checks``; record it. The page's payload."""
+                         calibration: Path | None = None, floor: Path | None = None) -> dict[str, Any]:
+    """Check one unit; write its report page into ``folder/checks``; record it. The page's payload.
+
+    A folder of captures uses its own floor capture, else `floor` (picked in the page), else a floor capture
+    in the folder holding the unit folders, as batch does; the payload says when no floor was subtracted.
+    """
+    from ..check.batch import UnitSettings
     from ..report.html import unit_report_html
+    from ..report.present_check import present
     serial = serial_ok(serial)
     store = None
     if records_url:
         from ..records import connect
         store = connect(records_url)  # refused before the check when it cannot be written
-    settings = {"calibration": str(calibration) if calibration else None, "station": station,
-                "operator": operator}
+    settings = UnitSettings(calibration=calibration, floor=floor, station=station, operator=operator)
     check, results, profile = _outcome(serial, source, profile_path, settings)
-    verdict = check["verdict"]
     stamp = _dt.datetime.now(_dt.timezone.utc).strftime("%Y%m%dT%H%M%SZ")
     reports = writer.folder(folder / "checks")
     page = writer.child(reports, f"{serial}-{stamp}.html")
@@ -65,20 +70,19 @@ def check_unit_from_desk(*, serial: str, source: Path, profile_path: Path, folde
     while page.exists():  # the same unit checked twice within a second: a new page, never the old one replaced
         n += 1
         page = writer.child(reports, f"{serial}-{stamp}-{n}.html")
-    writer.text(page, unit_report_html(serial=serial, verdict=verdict, check=check, results=results, profile=profile))
+    writer.text(page, unit_report_html(serial=serial, verdict=check.verdict, check=check, results=results,
+                                       profile=profile))
     recorded = False
     if store is not None:
         from ..records.entry import check_record
         try:
-            recorded = store.add(check_record(check, serial=serial, verdict=verdict, results=results,
+            recorded = store.add(check_record(check, serial=serial, verdict=check.verdict, results=results,
                                               profile=profile, station=station, operator=operator))
         finally:
             store.close()
-    from ..report.labels import limit_label, value_text
-    weighting = (results or {}).get("weighting")
-    limits = [{**v, "label": limit_label(v["name"], weighting=weighting), "measured_text": value_text(v["name"], v["measured"])}
-              for v in check["limits"]]
-    return {"serial": serial, "verdict": verdict, "limits": limits, "profile": profile.name,
+    view = present(check).to_data()
+    return {"serial": serial, "verdict": check.verdict, "limits": view["tables"][0], "notes": view["notes"],
+            "conditions": view["conditions"], "floor_corrected": results.floor_corrected, "profile": profile.name,
             "report": page, "recorded": recorded}
 
 

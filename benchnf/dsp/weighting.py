@@ -22,7 +22,7 @@ from numpy.typing import ArrayLike, NDArray
 from ..errors import ParameterError
 
 __all__ = ["WEIGHTINGS", "weighting_power_gain", "a_weighting_db", "c_weighting_db",
-           "itu468_weighting_db", "itu468_response", "Band", "BAND_PRESETS", "parse_band",
+           "itu468_weighting_db", "itu468_response", "Band", "BAND_PRESETS", "DEFAULT_BAND_HZ", "parse_band",
            "above_hum_band", "ABOVE_HUM_HARMONIC"]
 
 # IEC 61672-1:2013, Annex E, equations (E.1)-(E.6): pole frequencies in Hz.
@@ -221,7 +221,9 @@ class Band:
 
 #: Named fixed bands.  20 Hz-20 kHz is the AES17 audio band; 22 Hz-22 kHz a common wider audio band
 #: (from memory, no clause cited).
-BAND_PRESETS = {"audio": Band(20.0, 20_000.0), "audio-22k": Band(22.0, 22_000.0)}
+#: The band of every figure unless one is stated: 20 Hz-20 kHz (the AES17 measurement band).
+DEFAULT_BAND_HZ = (20.0, 20_000.0)
+BAND_PRESETS = {"audio": Band(*DEFAULT_BAND_HZ), "audio-22k": Band(22.0, 22_000.0)}
 
 #: The 'above-hum' band starts at this harmonic of the mains frequency found, so that the mains family and
 #: its strongest rectifier harmonics lie below it (common practice), and ends at 20 kHz.

@@ -15,9 +15,7 @@ from ..errors import CaptureError
 from .sidecar import read_sidecar
 from .wav_pcm import WavLayout, iter_channel_blocks, libsndfile_subtype, read_wav_layout
 
-__all__ = ["open_capture", "AUDIO_SUFFIXES"]
-
-AUDIO_SUFFIXES = (".wav", ".flac", ".aif", ".aiff", ".w64", ".rf64", ".caf")
+__all__ = ["open_capture"]
 
 
 # Encodings refused for noise analysis: lossy codecs and companding/low-resolution formats.

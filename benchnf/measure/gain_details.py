@@ -21,14 +21,14 @@ from ..noise.gain_method import (
     third_octave_centres_hz,
     third_octave_weights,
 )
-from ..noise.uncertainty import Budget, dut_power_rel_std, nf_budget
+from ..noise.uncertainty import Budget, dut_power_rel_std, ein_budget, nf_budget
 from ..units import BOLTZMANN_J_PER_K, T0_K, power_db, thermal_density_v2_per_hz, vrms_to_dbu
 from .gain import GainEstimate
 from .noise_inputs import NoiseInput
 from .results import RepeatSummary, SpotValue
 
-__all__ = ["resolved", "line_mask", "spot_values", "nonzero_span", "flicker_fit", "qp_ein", "spot_nf_budget",
-           "repeat_values"]
+__all__ = ["resolved", "line_mask", "spot_values", "nonzero_span", "flicker_fit", "qp_ein", "spot_power",
+           "spot_nf_budget", "spot_density_budget", "repeat_values"]
 
 _MAX_QP_SECONDS = 30.0
 
@@ -156,8 +156,9 @@ def qp_ein(capture: NoiseInput, p_term: Psd, p_floor: Psd | None, w_band, g: Gai
     return qp / g_1k
 
 
-def spot_nf_budget(f, centre_hz, p_term, p_floor, term_clean, floor_clean, g, gain, stated, rs_ohm,
-                    temperature_k) -> Budget:
+def spot_power(f, centre_hz, p_term, p_floor, term_clean, floor_clean) -> tuple[float, float, float]:
+    """(DUT output power in the one-third-octave band at `centre_hz` less the floor, its relative standard
+    uncertainty from the Welch statistics of both, the band's weight sum)."""
     w = third_octave_weights(f, centre_hz)
     kernel = p_term.correlation_kernel
     m = float(np.dot(w, term_clean))
@@ -166,16 +167,33 @@ def spot_nf_budget(f, centre_hz, p_term, p_floor, term_clean, floor_clean, g, ga
     if p_floor is not None:
         fl = float(np.dot(w, floor_clean))
         fl_rel = band_relative_std(w, floor_clean, dof=p_floor.dof, correlation=kernel)
-    e2 = (m - (fl or 0.0)) / float(np.dot(w, g.power_gain)) * w.sum()
-    b = float(w.sum())
+    rel = dut_power_rel_std(measured=m, measured_rel_std=m_rel, floor=fl, floor_rel_std=fl_rel)
+    return m - (fl or 0.0), rel, float(w.sum())
+
+
+def spot_nf_budget(f, centre_hz, p_term, p_floor, term_clean, floor_clean, g, gain, stated, rs_ohm,
+                    temperature_k) -> Budget:
+    w = third_octave_weights(f, centre_hz)
+    power, rel, b = spot_power(f, centre_hz, p_term, p_floor, term_clean, floor_clean)
+    e2 = power / float(np.dot(w, g.power_gain)) * b
     n0 = 4 * BOLTZMANN_J_PER_K * T0_K * rs_ohm * b
     nt = float(thermal_density_v2_per_hz(resistance_ohm=rs_ohm, temperature_k=temperature_k)) * b
     factor = 1 + (e2 - nt) / n0
-    return nf_budget(quantity="nf_at_1khz_db", noise_factor=factor, excess_over_n0=e2 / n0,
-                     dut_rel_std=dut_power_rel_std(measured=m, measured_rel_std=m_rel, floor=fl,
-                                                   floor_rel_std=fl_rel),
+    return nf_budget(quantity="nf_at_1khz_db", noise_factor=factor, excess_over_n0=e2 / n0, dut_rel_std=rel,
                      floor_corrected=p_floor is not None, gain_kind=gain.kind,
                      gain_rel_std=g.gain_rel_std, stated=stated, response_rel_std=g.response_rel_std)
+
+
+def spot_density_budget(quantity: str, value_v_per_rthz: float, f, p_term, p_floor, term_clean, floor_clean, g,
+                        gain, stated) -> Budget:
+    """Budget of an input-referred spot density at 1 kHz in dB (20 lg of the density): the one-third-octave
+    band's Welch statistics (with the floor's) and the gain's ingredients, as for the EIN (the density is
+    an input-referred amplitude like it)."""
+    _power, rel, _b = spot_power(f, 1000.0, p_term, p_floor, term_clean, floor_clean)
+    budget = ein_budget(value_db=20 * math.log10(value_v_per_rthz), dut_rel_std=rel,
+                        floor_corrected=p_floor is not None, gain_kind=gain.kind, gain_rel_std=g.gain_rel_std,
+                        stated=stated, response_rel_std=g.response_rel_std)
+    return Budget(quantity, budget.value_db, budget.contributions)
 
 
 def repeat_values(p_runs, p_floor, floor_clean, g, w_band, used, f, band, weighting, rs_ohm, temperature_k,

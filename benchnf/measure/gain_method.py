@@ -39,13 +39,22 @@ from ..noise.gain_method import (
     check_source,
     spot_noise_factor,
 )
-from ..noise.uncertainty import Budget, StatedUncertainty, dut_power_rel_std, ein_budget, gain_budget, nf_budget
+from ..noise.uncertainty import (
+    Budget,
+    StatedUncertainty,
+    Uncertainty,
+    dut_power_rel_std,
+    ein_budget,
+    gain_budget,
+    nf_budget,
+    output_noise_budget,
+)
 from ..units import BOLTZMANN_J_PER_K, T0_K, power_db, thermal_density_v2_per_hz, vrms_to_dbu, vrms_to_dbv
 from .assumptions import NO_FLOOR
 from .gain import GainEstimate, GainSetup, measure_gain
 from .noise_inputs import NoiseInput, Progress, capture_psd, check_rates, label_of, path_of, with_vpfs
-from .gain_details import flicker_fit, qp_ein, repeat_values, resolved, spot_nf_budget, spot_values
-from .results import DETECTORS, AnalysisResult, AnalysisSpectra, RepeatSummary, SpotValue, SpurValue
+from .gain_details import flicker_fit, qp_ein, repeat_values, resolved, spot_density_budget, spot_nf_budget, spot_values
+from .results import DETECTORS, AnalysisFiles, AnalysisResult, AnalysisSpectra, RepeatSummary, SpotValue, SpurValue
 
 __all__ = ["analyze_gain_method"]
 
@@ -214,7 +223,7 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
     flicker, flicker_on = flicker_fit(spec.f, en_diff, bf.e2_diff, lines.term, spec.term, band, flicker_range_hz,
                                    flicker_free_slope, notes)
     budgets = _budgets(spec, lines, fl, bf, g, gain=gain, stated=stated, at_1k=at_1k, ein_reported=ein_reported,
-                       rs_ohm=rs_ohm, temperature_k=temperature_k, notes=notes)
+                       rs_ohm=rs_ohm, temperature_k=temperature_k, calibrated=prep.vpfs is not None, notes=notes)
     repeats = _repeat_summary(spec, lines, fl, g, band=band, weighting=weighting, rs_ohm=rs_ohm,
                               temperature_k=temperature_k, notes=notes)
     return _assemble(prep, spec, lines, fl, bf, g, gain=gain, band=band, weighting=weighting, detector=detector,
@@ -353,7 +362,7 @@ def _voltage_noise(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorSte
 
 def _budgets(spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g: GainEstimate, *,
              gain: GainSetup, stated: StatedUncertainty, at_1k: SpotValue | None, ein_reported: float,
-             rs_ohm: float, temperature_k: float, notes: list[str]) -> dict[str, Budget]:
+             rs_ohm: float, temperature_k: float, calibrated: bool, notes: list[str]) -> dict[str, Budget]:
     """The GUM budgets of EIN, band NF, gain and the NF at 1 kHz; a note for an impossible NF."""
     n0 = 4 * BOLTZMANN_J_PER_K * T0_K * rs_ohm * bf.b_w
     dut_rel = dut_power_rel_std(measured=fl.m_band, measured_rel_std=fl.m_rel, floor=fl.f_band,
@@ -369,10 +378,22 @@ def _budgets(spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g:
                                      stated=stated, response_rel_std=g.response_rel_std),
         "gain_db": gain_budget(value_db=g.gain_db, gain_kind=gain.kind, gain_rel_std=g.gain_rel_std, stated=stated),
     }
+    floor_clean = lines.floor.cleaned if lines.floor is not None else None
+    if bf.out_noise > 0:
+        budgets["output_noise_db"] = output_noise_budget(
+            value_db=float(vrms_to_dbu(bf.out_noise)), dut_rel_std=dut_rel, floor_corrected=corrected,
+            calibration_known=calibrated, stated=stated)
     if at_1k is not None and at_1k.noise_figure_db is not None:
         budgets["nf_at_1khz_db"] = spot_nf_budget(spec.f, 1000.0, spec.term, spec.floor, lines.term.cleaned,
-                                                   lines.floor.cleaned if lines.floor is not None else None,
-                                                   g, gain, stated, rs_ohm, temperature_k)
+                                                   floor_clean, g, gain, stated, rs_ohm, temperature_k)
+    if at_1k is not None and at_1k.input_density_v_per_rthz:
+        budgets["input_density_at_1khz_db"] = spot_density_budget(
+            "input_density_at_1khz_db", at_1k.input_density_v_per_rthz, spec.f, spec.term, spec.floor,
+            lines.term.cleaned, floor_clean, g, gain, stated)
+    if at_1k is not None and at_1k.voltage_noise_v_per_rthz and spec.short is not None and lines.short is not None:
+        budgets["voltage_noise_at_1khz_db"] = spot_density_budget(
+            "voltage_noise_at_1khz_db", at_1k.voltage_noise_v_per_rthz, spec.f, spec.short, spec.floor,
+            lines.short.cleaned, floor_clean, g, gain, stated)
     nf_band_db = float(power_db(bf.noise_factor)) if bf.noise_factor > 0 else None
     if nf_band_db is not None and nf_band_db + budgets["noise_figure_db"].expanded_db < 0.0:
         notes.append(f"the band noise figure ({nf_band_db:.2f} dB) is below 0 dB beyond its uncertainty: "
@@ -420,16 +441,12 @@ def _assemble(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorStep, bf
               notes: list[str]) -> AnalysisResult:
     """The frozen result: figures, conditions, budgets, spectra."""
     nf_band_db = float(power_db(bf.noise_factor)) if bf.noise_factor > 0 else None
-    uncertainty = {"coverage_factor": 2.0, "stated": stated.describe(),
-                   **{k: b.expanded_db for k, b in budgets.items()},
-                   "budgets": {k: b.to_dict() for k, b in budgets.items()}}
     f = spec.f
     spurs = tuple(SpurValue(ln.freq_hz, ln.vrms, ln.vrms / math.sqrt(float(np.interp(ln.freq_hz, f, g.power_gain))),
                             ln.family, ln.harmonic, ln.excess_db) for ln in lines.term.lines)
     runs = prep.runs
-    files = {"terminated": [path_of(r) for r in runs] if len(runs) > 1 else path_of(runs[0]),
-             "floor": path_of(prep.floor), "shorted": path_of(prep.shorted),
-             "tone": path_of(gain.tone), "response": path_of(gain.response)}
+    files = AnalysisFiles(tuple(path_of(r) or "" for r in runs) if len(runs) > 1 else (path_of(runs[0]) or ""),
+                          path_of(prep.floor), path_of(prep.shorted), path_of(gain.tone), path_of(gain.response))
     w, used = fl.w_band, fl.used
     en_band = math.sqrt(max(float(np.dot(w[used], en_diff[used])), 0.0)) if en_diff is not None else None
     snr = (float(20 * math.log10(reference_output_vrms / bf.out_noise))
@@ -437,7 +454,8 @@ def _assemble(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorStep, bf
     return AnalysisResult(
         gain_db=g.gain_db, gain_frequency_hz=g.frequency_hz, gain_std_db=g.gain_std_db, gain_reference=g.reference,
         rs_ohm=float(rs_ohm), temperature_k=float(temperature_k), band_hz=(band.low_hz, band.high_hz),
-        weighting=weighting, detector=detector, floor_corrected=spec.floor is not None, floor_margin_db=fl.margin_db,
+        weighting=weighting, detector=detector,  # type: ignore[arg-type]  # both checked by _validate
+        floor_corrected=spec.floor is not None, floor_margin_db=fl.margin_db,
         ein_vrms=ein_reported, ein_dbu=float(vrms_to_dbu(ein_reported)), ein_dbv=float(vrms_to_dbv(ein_reported)),
         ein_rms_dbu=float(vrms_to_dbu(bf.ein)),
         ein_with_spurs_dbu=float(vrms_to_dbu(bf.ein_spurs * ein_reported / bf.ein)),
@@ -454,9 +472,10 @@ def _assemble(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorStep, bf
         white_density_v_per_rthz=flicker.white_density_v_per_rthz if flicker else None,
         flicker_slope=flicker.slope if flicker else None, flicker_fit_on=flicker_on,
         snr_db=snr, reference_output_vrms=reference_output_vrms, mains_hz=lines.term.mains_hz, spurs=spurs,
-        hum_hints=tuple(hum_hints(lines.term.lines)), uncertainty=uncertainty, repeats=repeats,
+        hum_hints=tuple(hum_hints(lines.term.lines)), uncertainty=Uncertainty(budgets, stated.describe()),
+        repeats=repeats,
         sample_rate_hz=prep.fs, segment_length=prep.seg, spectrum_window=spec.term.window,
         rbw_hz=spec.term.enbw_hz, n_averages=spec.term.n_averages, dof=spec.term.dof, volts_per_fs=prep.vpfs,
-        files=files, spot=tuple(spots), notes=tuple(notes), budgets=budgets,
+        files=files, spot=tuple(spots), notes=tuple(notes),
         spectra=_spectra_out(spec, lines, fl, bf, g, en_diff=en_diff, flicker=flicker, rs_ohm=rs_ohm,
                              temperature_k=temperature_k))

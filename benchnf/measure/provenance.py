@@ -10,12 +10,54 @@ import json
 import os
 import socket
 from collections.abc import Iterable
+from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import Any, ClassVar
 
+from ..codec import figure
 from ..io.hashing import sha256_of
+from ..io.opener import input_kind
+from ..io.sidecar import sidecar_candidates
 
-__all__ = ["provenance", "station_name", "operator_name"]
+__all__ = ["Provenance", "InputFile", "CalibrationUsed", "provenance", "station_name", "operator_name"]
+
+_SHA256 = "^[0-9a-f]{64}$"
+
+
+@dataclass(frozen=True)
+class InputFile:
+    """A file the result was made from, named relative to the results file's folder (or a stated root)."""
+
+    RANGES: ClassVar[dict[str, dict[str, Any]]] = {"sha256": dict(pattern=_SHA256)}
+
+    file: str
+    sha256: str
+
+
+@dataclass(frozen=True)
+class CalibrationUsed:
+    """A calibration file the result used: its name and hash, when it was made, its volts per full scale."""
+
+    RANGES: ClassVar[dict[str, dict[str, Any]]] = {"sha256": dict(pattern=_SHA256)}
+
+    file: str
+    sha256: str
+    made_at: str | None = None
+    volts_per_fs: float | None = None
+
+
+@dataclass(frozen=True)
+class Provenance:
+    """Where a result came from: software, time, station, operator, each input with its SHA-256."""
+
+    RANGES: ClassVar[dict[str, dict[str, Any]]] = {"software": dict(pattern="^benchnf ")}
+
+    software: str
+    created_utc: str
+    station: str
+    operator: str | None
+    inputs: tuple[InputFile, ...]
+    calibrations: tuple[CalibrationUsed, ...] | None = figure(default=None, omit_if_none=True)
 
 
 def _name(path: Path, root: Path) -> str:
@@ -26,22 +68,22 @@ def _name(path: Path, root: Path) -> str:
 
 
 def provenance(inputs: Iterable[Path], *, root: Path, station: str | None = None,
-               operator: str | None = None) -> dict[str, Any]:
-    """The provenance block of a results JSON written into `root`."""
+               operator: str | None = None) -> Provenance:
+    """The provenance of a result written into `root`."""
     from .. import __version__
     seen: dict[Path, None] = {}
     for p in inputs:
         if Path(p).is_file():
             seen.setdefault(Path(p).resolve())
-        for extra in (Path(p).with_suffix(".json"), Path(p).with_name(Path(p).name + ".json")):
-            if Path(p).suffix.lower() not in (".json", ".toml") and extra.is_file():
-                seen.setdefault(extra.resolve())  # a capture's sidecar is part of what was read
-    named = [{"file": _name(p, root), "sha256": sha256_of(p)} for p in seen]
-    block = {"software": f"benchnf {__version__}",
-             "created_utc": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
-             "station": station_name(station), "operator": operator_name(operator), "inputs": named}
-    calibrations = [{**item, **c} for p, item in zip(seen, named) if (c := _calibration(p))]
-    return {**block, "calibrations": calibrations} if calibrations else block
+        if input_kind(p) == "audio":
+            for extra in sidecar_candidates(Path(p)):
+                if extra.is_file():
+                    seen.setdefault(extra.resolve())  # a capture's sidecar is part of what was read
+    named = [InputFile(_name(p, root), sha256_of(p)) for p in seen]
+    calibrations = tuple(CalibrationUsed(item.file, item.sha256, **c) for p, item in zip(seen, named)
+                         if (c := _calibration(p)))
+    return Provenance(f"benchnf {__version__}", _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
+                      station_name(station), operator_name(operator), tuple(named), calibrations or None)
 
 
 def station_name(stated: str | None = None) -> str:
@@ -66,4 +108,6 @@ def _calibration(path: Path) -> dict[str, Any] | None:
         return None
     if not isinstance(data, dict) or data.get("schema") != CALIBRATION_SCHEMA:
         return None
-    return {"made_at": data.get("made_at"), "volts_per_fs": data.get("volts_per_fs")}
+    made, vpfs = data.get("made_at"), data.get("volts_per_fs")
+    return {"made_at": made if isinstance(made, str) else None,
+            "volts_per_fs": float(vpfs) if isinstance(vpfs, (int, float)) and not isinstance(vpfs, bool) else None}

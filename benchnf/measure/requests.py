@@ -8,29 +8,20 @@ so they resolve files, sidecars, calibration and profile conditions by the same 
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from ..dsp.weighting import DEFAULT_BAND_HZ
 from ..errors import ParameterError
+from ..io.opener import TraceReading, input_kind, open_input
 from .assumptions import temperature_assumed
 from .inputs import agree, distinct_files, open_calibrated
 
-__all__ = ["GainMethodRequest", "TraceOptions", "resolve_gain_method", "run_gain_method", "DEFAULT_BAND_HZ"]
+__all__ = ["GainMethodRequest", "resolve_gain_method", "run_gain_method", "request_from_result", "DEFAULT_BAND_HZ"]
 
-DEFAULT_BAND_HZ = (20.0, 20_000.0)
 DEFAULT_TEMPERATURE_K = 290.0
-
-
-@dataclass(frozen=True)
-class TraceOptions:
-    """How to read instrument CSV traces (docs/csv.md)."""
-
-    rbw_hz: float | None = None
-    detector: str | None = None
-    reference_ohm: float | None = None
-    enbw_ratio: float | None = None
 
 
 @dataclass(frozen=True)
@@ -63,7 +54,7 @@ class GainMethodRequest:
     calibration: Any = None
     conditions: Mapping[str, Any] = field(default_factory=dict)
     condition_source: str = "the profile's conditions"
-    trace: TraceOptions = TraceOptions()
+    trace: TraceReading = TraceReading()
     accept_dropouts: bool = False
     segment_length: int | None = None
     mains_hz: float | None = None
@@ -85,11 +76,8 @@ def _opener(req: GainMethodRequest, cal: Any, cal_name: str, tolerance_pct: floa
     def open_one(path: Path | None, condition: str | None) -> Any:
         if path is None:
             return None
-        if Path(path).suffix.lower() in (".csv", ".txt"):
-            from ..io.csv_trace import load_csv
-            t = req.trace  # instrument CSV is in volts already: no sound-card calibration applies
-            return load_csv(path, rbw_hz=t.rbw_hz, detector=t.detector, reference_ohm=t.reference_ohm,
-                            enbw_ratio=t.enbw_ratio)
+        if input_kind(path) == "trace":  # instrument CSV is in volts already: no sound-card calibration applies
+            return open_input(path, trace=req.trace)
         return open_calibrated(Path(path), condition=condition, channel=req.channel, volts_per_fs=req.volts_per_fs,
                                calibration=cal, calibration_name=cal_name, tolerance_pct=tolerance_pct,
                                accept_dropouts=req.accept_dropouts)
@@ -133,8 +121,7 @@ def resolve_gain_method(req: GainMethodRequest) -> dict[str, Any]:
                                                   tone.metadata.get("tone_input_vrms"))], rel_tol=1e-6, unit=" V")
     response = None
     if req.response is not None:
-        from ..io import open_capture
-        response = open_capture(req.response, channel=req.response_channels[1])
+        response = open_input(req.response, channel=req.response_channels[1])
     gain = GainSetup(tone=tone, tone_input_vrms=vin, tone_input_channel=req.tone_input_channel,
                      tone_frequency_hz=req.tone_hz, gain_db=req.gain_db, gain_frequency_hz=req.gain_frequency_hz,
                      response=response, response_channels=(req.response_channels[0], req.response_channels[1]),
@@ -156,36 +143,23 @@ def run_gain_method(req: GainMethodRequest, *, progress: Any = None) -> Any:
     return analyze_gain_method(**resolve_gain_method(req), progress=progress)
 
 
-def request_from_results(data: Mapping[str, Any]) -> GainMethodRequest:
-    """The request that re-runs a gain-method analysis from its results JSON (for its spectra).
+def request_from_result(result: Any, *, locate: Callable[[str, str], Path]) -> GainMethodRequest:
+    """The request that re-runs a gain-method analysis from its typed result (for its spectra).
 
-    The captures named under ``files`` with the volts per full scale, source resistance, temperature,
-    band, weighting and detector the results state. Raises BenchError when a capture is no longer there.
+    `locate(role, name)` turns a capture's name as the result states it into a path (the desk resolves it
+    relative to the results file and inside its folder, and refuses anything else); it raises BenchError
+    for a capture that is not there. The conditions are the result's own: volts per full scale, source
+    resistance, temperature, band, weighting, detector, segment length.
     """
     from ..errors import BenchError
-    files = data.get("files") or {}
-
-    def path(role: str) -> Path | None:
-        value = files.get(role)
-        if isinstance(value, list):
-            value = value[0] if value else None
-        if value is None:
-            return None
-        if not Path(value).is_file():
-            raise BenchError(f"the {role} capture {value} named in the results is not there")
-        return Path(value)
-
-    terminated = files.get("terminated")
-    terms = tuple(Path(t) for t in (terminated if isinstance(terminated, list) else [terminated]) if t)
-    if not terms:
+    named = result.files.paths()
+    if "terminated" not in named:
         raise BenchError("the results name no terminated capture")
-    for t in terms:
-        if not t.is_file():
-            raise BenchError(f"the terminated capture {t} named in the results is not there")
-    band = data.get("band_hz")
+
+    def one(role: str) -> Path | None:
+        return locate(role, named[role][0]) if role in named else None
     return GainMethodRequest(
-        terminated=terms, floor=path("floor"), shorted=path("shorted"), tone=path("tone"),
-        response=path("response"), volts_per_fs=data.get("volts_per_fs"), rs_ohm=data.get("rs_ohm"),
-        temperature_k=data.get("temperature_k"), band_hz=tuple(band) if band else None,
-        weighting=data.get("weighting"), detector=data.get("detector") or "rms",
-        segment_length=data.get("segment_length"))
+        terminated=tuple(locate("terminated", n) for n in named["terminated"]), floor=one("floor"),
+        shorted=one("shorted"), tone=one("tone"), response=one("response"), volts_per_fs=result.volts_per_fs,
+        rs_ohm=result.rs_ohm, temperature_k=result.temperature_k, band_hz=tuple(result.band_hz),
+        weighting=result.weighting, detector=result.detector, segment_length=result.segment_length)

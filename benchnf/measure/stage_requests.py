@@ -91,7 +91,7 @@ def _sweep_temperatures(caps: list[Any], rs: list[float], stated_k: float | None
                         default=DEFAULT_TEMPERATURE_K, unit=" K")) for t, n in zip(temps, names)]
 
 
-def run_en_in(req: SweepRequest) -> Any:
+def run_en_in(req: SweepRequest, *, progress: Any = None) -> Any:
     """Resolve the sweep and extract en, in (and their correlation), Ropt and NFmin."""
     from ..dsp.weighting import Band
     from .stages import extract_en_in
@@ -124,7 +124,7 @@ class BudgetRequest:
     options: CaptureOptions = CaptureOptions()
 
 
-def run_budget(req: BudgetRequest) -> Any:
+def run_budget(req: BudgetRequest, *, progress: Any = None) -> Any:
     """Resolve the taps and measure each stage's share against the chain's prediction."""
     from ..dsp.weighting import Band
     from ..noise.cascade import load_chain

@@ -13,15 +13,16 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, ClassVar
 
 import numpy as np
 from numpy.typing import NDArray
 
-from .._json import json_safe
+from ..codec import ResultFile, figure, memory_only
 from .assumptions import NO_FLOOR
 from .gain import GainSetup, measure_gain
 from .noise_inputs import capture_psd
+from .provenance import Provenance
 from ..capture import Capture
 from ..dsp.integrate import band_bin_weights
 from ..dsp.spectrum import Psd, default_segment_length
@@ -35,7 +36,7 @@ from ..noise.twoport import EnInFit, fit_en_in, noise_factor_vs_rs, noise_figure
 from ..units import BOLTZMANN_J_PER_K, T0_K
 
 __all__ = ["InputReferred", "input_referred", "TapResult", "BudgetResult", "measured_budget",
-           "EniResult", "extract_en_in", "SCHEMA_VERSION"]
+           "EniRow", "EniPoint", "NfCurve", "NfVsRs", "EniResult", "extract_en_in", "SCHEMA_VERSION"]
 
 SCHEMA_VERSION = "1"
 
@@ -96,13 +97,16 @@ class TapResult:
     share_predicted: float | None
     unexplained: bool
 
-    def to_dict(self) -> dict[str, Any]:
-        return dict(self.__dict__)
-
 
 @dataclass(frozen=True)
-class BudgetResult:
+class BudgetResult(ResultFile):
     """The measured stage budget beside the prediction."""
+
+    RANGES: ClassVar[dict[str, dict[str, Any]]] = {
+        "rs_ohm": dict(exclusiveMinimum=0), "temperature_k": dict(exclusiveMinimum=0),
+        "source_density_v_per_rthz": dict(minimum=0)}
+
+    KIND = "budget"
 
     band_hz: tuple[float, float]
     rs_ohm: float
@@ -112,11 +116,7 @@ class BudgetResult:
     measured_noise_figure_db: float
     predicted_noise_figure_db: float | None
     notes: tuple[str, ...]
-
-    def to_dict(self) -> dict[str, Any]:
-        out = {"schema_version": SCHEMA_VERSION, "kind": "budget", **{
-            k: ([t.to_dict() for t in v] if k == "taps" else v) for k, v in self.__dict__.items()}}
-        return json_safe(out)
+    provenance: Provenance | None = figure(default=None, omit_if_none=True)
 
 
 def measured_budget(*, taps: Sequence[tuple[str, Capture, GainSetup]], rs_ohm: float,
@@ -210,24 +210,89 @@ def measured_budget(*, taps: Sequence[tuple[str, Capture, GainSetup]], rs_ohm: f
 
 # -- en/in from an Rs sweep ------------------------------------------------------------------
 @dataclass(frozen=True)
-class EniResult:
-    """en, in (and rho) against frequency from an Rs sweep, with NF(Rs) curves."""
+class EniRow:
+    """en, in (and their correlation) at one frequency, with Ropt and NFmin where the sweep determines them;
+    the reasons it does not determine one are under ``undetermined``."""
 
-    fit: EnInFit
-    at_1khz: dict[str, Any]
-    points: tuple[dict[str, Any], ...]
-    rows: tuple[dict[str, Any], ...]
-    nf_vs_rs: dict[str, Any]
+    RANGES: ClassVar[dict[str, dict[str, Any]]] = {"freq_hz": dict(exclusiveMinimum=0)}
+
+    freq_hz: float
+    en_v_per_rthz: float | None
+    in_a_per_rthz: float | None
+    en_std_v_per_rthz: float | None
+    in_std_a_per_rthz: float | None
+    correlation: float | None
+    correlation_std: float | None
+    ropt_ohm: float | None
+    ropt_u95_ohm: float | None
+    nfmin_db: float | None
+    nfmin_u95_db: float | None
+    undetermined: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class EniPoint:
+    """One capture of the sweep: its source resistance and temperature, gain and density at 1 kHz."""
+
+    RANGES: ClassVar[dict[str, dict[str, Any]]] = {
+        "rs_ohm": dict(minimum=0), "temperature_k": dict(exclusiveMinimum=0),
+        "input_density_at_1khz_v_per_rthz": dict(minimum=0)}
+
+    rs_ohm: float
+    temperature_k: float
+    label: str
+    gain_db: float
+    input_density_at_1khz_v_per_rthz: float
+
+
+@dataclass(frozen=True)
+class NfCurve:
+    """The noise figure against source resistance at one frequency, with its expanded uncertainty."""
+
+    rs_ohm: tuple[float, ...]
+    noise_figure_db: tuple[float, ...]
+    noise_figure_u95_db: tuple[float, ...] | None
+
+
+@dataclass(frozen=True)
+class NfVsRs:
+    """Noise figure curves against Rs, keyed by their frequency in Hz (as text)."""
+
+    rs_ohm_grid: tuple[float, ...]
+    curves: dict[str, NfCurve]
+
+
+@dataclass(frozen=True)
+class EniResult(ResultFile):
+    """en, in (and rho) against frequency from an Rs sweep, with NF(Rs) curves.
+
+    The five figures at 1 kHz repeat ``at_1khz`` for scripts that read only the top level.
+    """
+
+    KIND = "eni"
+
+    en_at_1khz_v_per_rthz: float | None
+    in_at_1khz_a_per_rthz: float | None
+    ropt_at_1khz_ohm: float | None
+    nfmin_at_1khz_db: float | None
+    correlation_at_1khz: float | None
+    at_1khz: EniRow
+    rows: tuple[EniRow, ...]
+    points: tuple[EniPoint, ...]
+    nf_vs_rs: NfVsRs
     notes: tuple[str, ...]
+    provenance: Provenance | None = figure(default=None, omit_if_none=True)
+    fit: EnInFit | None = memory_only()
 
-    def to_dict(self) -> dict[str, Any]:
-        a = self.at_1khz
-        out = {"schema_version": SCHEMA_VERSION, "kind": "eni",
-               "en_at_1khz_v_per_rthz": a["en_v_per_rthz"], "in_at_1khz_a_per_rthz": a["in_a_per_rthz"],
-               "ropt_at_1khz_ohm": a["ropt_ohm"], "nfmin_at_1khz_db": a["nfmin_db"],
-               "correlation_at_1khz": a["correlation"], "at_1khz": a, "rows": list(self.rows),
-               "points": list(self.points), "nf_vs_rs": self.nf_vs_rs, "notes": list(self.notes)}
-        return json_safe(out)
+    @classmethod
+    def of(cls, at_1khz: EniRow, **rest: Any) -> "EniResult":
+        """The result with its top-level figures taken from `at_1khz`."""
+        a = at_1khz
+        return cls(a.en_v_per_rthz, a.in_a_per_rthz, a.ropt_ohm, a.nfmin_db, a.correlation, a, **rest)
+
+
+def _eni_row(values: dict[str, Any]) -> EniRow:
+    return EniRow(**{**values, "undetermined": tuple(values.get("undetermined") or ())})
 
 
 def extract_en_in(*, sweep: Sequence[tuple[Capture | Psd, float, float, GainSetup]], floor: Capture | None = None,
@@ -268,11 +333,10 @@ def extract_en_in(*, sweep: Sequence[tuple[Capture | Psd, float, float, GainSetu
     var = np.array([[s ** 2 + (2 * ref.gain_rel_std * m) ** 2 for m, s in row] for row, ref in zip(means, refs)])
     temps = np.array([s[2] for s in sweep])
     fit = fit_en_in(rs, dens, var, temperature_k=temps, frequency_hz=[c[0] for c in centres])
-    at_1k = fit.at(1000.0)
-    rows = tuple(fit.at(c[0]) for c in centres)
-    points = tuple({"rs_ohm": float(r), "temperature_k": float(t), "label": ref.label, "gain_db": ref.gain_db,
-                    "input_density_at_1khz_v_per_rthz": math.sqrt(max(float(
-                        dens[i, int(np.argmin(np.abs(np.array([c[0] for c in centres]) - 1000.0)))]), 0.0))}
+    at_1k = _eni_row(fit.at(1000.0))
+    rows = tuple(_eni_row(fit.at(c[0])) for c in centres)
+    k_1k = int(np.argmin(np.abs(np.array([c[0] for c in centres]) - 1000.0)))
+    points = tuple(EniPoint(float(r), float(t), ref.label, ref.gain_db, math.sqrt(max(float(dens[i, k_1k]), 0.0)))
                    for i, (ref, r, t) in enumerate(zip(refs, rs, temps)))
     grid = np.geomspace(max(min(rs[rs > 0], default=10.0) / 10, 1.0), max(rs.max() * 10, 1e4), 120)
     curves = {}
@@ -284,12 +348,13 @@ def extract_en_in(*, sweep: Sequence[tuple[Capture | Psd, float, float, GainSetu
             k = int(np.argmin(np.abs(fit.frequency_hz - fc)))
             u95 = (noise_figure_u95_vs_rs(grid, noise_factor=factor, cov=fit.cov[k])
                    if fit.cov is not None and np.all(np.isfinite(fit.cov[k])) else None)
-            curves[f"{v['freq_hz']:g}"] = {"rs_ohm": grid.tolist(), "noise_figure_db": (10 * np.log10(factor)).tolist(),
-                                           "noise_figure_u95_db": None if u95 is None else u95.tolist()}
+            curves[f"{v['freq_hz']:g}"] = NfCurve(tuple(grid.tolist()), tuple((10 * np.log10(factor)).tolist()),
+                                                  None if u95 is None else tuple(u95.tolist()))
     notes = [*assumptions, *([] if floor is not None else [NO_FLOOR]),
              "best SNR always comes at the lowest source impedance, not at Ropt: Ropt only minimises the "
              "amplifier's noise relative to the source's own"]
     if fit.correlation is None:
         notes.append("two source resistances: en and in fitted as uncorrelated (three or more give the "
                      "correlation too)")
-    return EniResult(fit, at_1k, points, rows, {"rs_ohm_grid": grid.tolist(), "curves": curves}, tuple(notes))
+    return EniResult.of(at_1k, rows=rows, points=points, nf_vs_rs=NfVsRs(tuple(grid.tolist()), curves),
+                        notes=tuple(notes), fit=fit)

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
@@ -24,7 +24,7 @@ from ..dsp.spectrum import Psd, default_segment_length, pool_psds
 from ..dsp.weighting import Band
 from ..errors import CaptureError, MeasurementError, ParameterError
 from ..io.sigmf_iq import IqCapture
-from ..noise.uncertainty import Budget
+from ..noise.uncertainty import Budget, Uncertainty
 from ..noise.yfactor import (
     EnrTable,
     check_temperature,
@@ -33,6 +33,7 @@ from ..noise.yfactor import (
     noise_temperature_from_factor,
 )
 from ..units import T0_K, power_db
+from .yfactor_result import YExcluded, YFactorResult, YFiles, YLoss, YRepeats, YRow
 from .yfactor_model import (
     Model,
     Powers,
@@ -40,12 +41,13 @@ from .yfactor_model import (
     band_powers,
     evaluate_budgets,
     open_pairs,
+    other_budgets,
     state_spectrum,
     subbands,
     usable_mask,
 )
 
-__all__ = ["HotColdSource", "Loss", "YRow", "YFactorResult", "analyze_yfactor", "SCHEMA_VERSION"]
+__all__ = ["HotColdSource", "Loss", "analyze_yfactor", "SCHEMA_VERSION"]
 
 SCHEMA_VERSION = "1"
 _COMPRESSION_DBFS = -15.0
@@ -121,66 +123,6 @@ class Loss:
 
     def __post_init__(self) -> None:
         loss_noise_factor(self.loss_db, self.temperature_k)  # validates
-
-
-@dataclass(frozen=True)
-class YRow:
-    """Figures over one sub-band (or spot)."""
-
-    freq_hz: float
-    y_factor_db: float | None
-    noise_figure_db: float | None
-    noise_temperature_k: float | None
-    gain_db: float | None
-    noise_figure_expanded_db: float | None
-
-    def to_dict(self) -> dict[str, Any]:
-        return dict(self.__dict__)
-
-
-@dataclass(frozen=True)
-class YFactorResult:
-    """Everything the Y-factor measurement found, with its conditions."""
-
-    method: str
-    noise_figure_db: float
-    noise_temperature_k: float
-    gain_db: float | None
-    y_factor_db: float
-    second_stage_corrected: bool
-    floor_subtracted: bool
-    system_noise_figure_db: float
-    receiver_noise_figure_db: float | None
-    t_hot_k: float
-    t_cold_k: float
-    enr_db: float | None
-    band_hz: tuple[float, float]
-    centre_hz: float | None
-    excluded: dict[str, Any]
-    loss_before: dict[str, float] | None
-    loss_after: dict[str, float] | None
-    rows: tuple[YRow, ...]
-    spots: tuple[YRow, ...]
-    uncertainty: dict[str, Any]
-    repeats: dict[str, Any] | None
-    rbw_hz: float
-    n_averages: int
-    files: dict[str, Any]
-    notes: tuple[str, ...]
-    budgets: dict[str, Budget] = field(repr=False, compare=False)
-
-    def to_dict(self) -> dict[str, Any]:
-        from .._json import json_safe
-        out: dict[str, Any] = {"schema_version": SCHEMA_VERSION, "kind": "yfactor"}
-        for key, value in self.__dict__.items():
-            if key == "budgets":
-                continue
-            if key in ("rows", "spots"):
-                value = [r.to_dict() for r in value]
-            elif isinstance(value, tuple):
-                value = list(value)
-            out[key] = value
-        return json_safe(out)
 
 
 def analyze_yfactor(*, hot: Source | Sequence[Source], cold: Source | Sequence[Source], source: HotColdSource,
@@ -266,8 +208,7 @@ def analyze_yfactor(*, hot: Source | Sequence[Source], cold: Source | Sequence[S
     elif not corrected:
         notes.append("the receiver's own noise was removed by subtracting its floor in linear power; "
                      "without a calibration pair there is no gain figure")
-    files = {"hot": [_p(h) for h in hot_l], "cold": [_p(c) for c in cold_l], "cal_hot": _p(cal_hot),
-             "cal_cold": _p(cal_cold), "floor": _p(floor)}
+    files = YFiles(tuple(_p(h) for h in hot_l), tuple(_p(c) for c in cold_l), _p(cal_hot), _p(cal_cold), _p(floor))
     return _assemble(head, sp, source=source, corrected=corrected, floor=floor, band=band, first=first,
                      excluded=excluded, loss_before=loss_before, loss_after=loss_after, rows=rows, spots=spots,
                      repeats=repeats, files=files, notes=notes)
@@ -384,6 +325,7 @@ def _headline(evaluated: tuple[Powers, Model] | None, band: Band, source: HotCol
     budgets = {"noise_figure_db": nf_budget}
     if gain_budget is not None:
         budgets["gain_db"] = gain_budget
+    budgets.update(other_budgets(model, pw, source, corrected))
     return _Headline(pw, model, y12, f12, f2, g1, f1, budgets)
 
 
@@ -402,7 +344,7 @@ def _check_calibration_pair(pw: Powers) -> None:
                                f"or record the pair longer")
 
 
-def _pair_repeats(sp: _StateSpectra, w: NDArray[np.float64], model: Model, notes: list[str]) -> dict[str, Any] | None:
+def _pair_repeats(sp: _StateSpectra, w: NDArray[np.float64], model: Model, notes: list[str]) -> YRepeats | None:
     """Scatter and drift of the NF over repeated hot/cold pairs."""
     if len(sp.hot_runs) < 2:
         return None
@@ -415,8 +357,7 @@ def _pair_repeats(sp: _StateSpectra, w: NDArray[np.float64], model: Model, notes
             nfs.append(math.nan)
     arr = np.array(nfs)
     slope = float(np.polyfit(np.arange(arr.size), arr, 1)[0]) if np.all(np.isfinite(arr)) else math.nan
-    repeats = {"n": len(nfs), "noise_figure_db": nfs, "noise_figure_std_db": float(np.nanstd(arr, ddof=1)),
-               "noise_figure_drift_db_per_pair": slope}
+    repeats = YRepeats(len(nfs), tuple(nfs), float(np.nanstd(arr, ddof=1)), slope)
     if math.isfinite(slope) and abs(slope) * (arr.size - 1) > 2 * max(float(np.nanstd(arr, ddof=1)), 1e-9):
         notes.append(f"the noise figure drifts by {slope:+.3f} dB per hot/cold pair: let the source and "
                      f"the DUT settle")
@@ -426,12 +367,13 @@ def _pair_repeats(sp: _StateSpectra, w: NDArray[np.float64], model: Model, notes
 def _assemble(head: _Headline, sp: _StateSpectra, *, source: HotColdSource, corrected: bool, floor: Source | None,
               band: Band, first: Source, excluded: dict[str, Any], loss_before: Loss | None,
               loss_after: Loss | None, rows: tuple[YRow, ...], spots: tuple[YRow, ...],
-              repeats: dict[str, Any] | None, files: dict[str, Any], notes: list[str]) -> YFactorResult:
+              repeats: YRepeats | None, files: YFiles, notes: list[str]) -> YFactorResult:
     f1, f12, f2, g1, model, budgets = head.f1, head.f12, head.f2, head.g1, head.model, head.budgets
     return YFactorResult(
-        method=source.method,
+        method="enr" if source.method == "enr" else "two-temperature",
         noise_figure_db=10 * math.log10(f1) if f1 > 0 else math.nan,
         noise_temperature_k=float(noise_temperature_from_factor(f1)),
+        noise_temperature_u95_k=_te_u95(f1, budgets["noise_figure_db"].expanded_db),
         gain_db=10 * math.log10(g1) if g1 and g1 > 0 else None,
         y_factor_db=float(power_db(head.y12)),
         second_stage_corrected=corrected,
@@ -441,14 +383,20 @@ def _assemble(head: _Headline, sp: _StateSpectra, *, source: HotColdSource, corr
         t_hot_k=model.source.hot_k(model.f), t_cold_k=source.cold_k, enr_db=model.enr0,
         band_hz=(band.low_hz, band.high_hz),
         centre_hz=first.centre_hz if isinstance(first, IqCapture) else None,
-        excluded=excluded,
-        loss_before=loss_before.__dict__ if loss_before else None,
-        loss_after=loss_after.__dict__ if loss_after else None,
-        rows=rows, spots=spots,
-        uncertainty={"coverage_factor": 2.0, **{k: b.expanded_db for k, b in budgets.items()},
-                     "budgets": {k: b.to_dict() for k, b in budgets.items()}},
+        excluded=YExcluded(**excluded),
+        loss_before=YLoss(loss_before.loss_db, loss_before.temperature_k) if loss_before else None,
+        loss_after=YLoss(loss_after.loss_db, loss_after.temperature_k) if loss_after else None,
+        rows=rows, spots=spots, uncertainty=Uncertainty(budgets),
         repeats=repeats, rbw_hz=sp.hot.enbw_hz, n_averages=sp.hot.n_averages, files=files,
-        notes=tuple(notes), budgets=budgets)
+        notes=tuple(notes))
+
+
+def _te_u95(noise_factor: float, nf_u95_db: float) -> float | None:
+    """U (k = 2) of the noise temperature from the noise figure's: Te = T0 (F - 1), so
+    dTe = T0 F ln(10)/10 dNF (first order, GUM 5.1.2)."""
+    if not (noise_factor > 0 and math.isfinite(nf_u95_db)):
+        return None
+    return T0_K * noise_factor * math.log(10) / 10 * nf_u95_db
 
 
 def _p(x: Any) -> str | None:

@@ -63,8 +63,8 @@ def usable_mask(f: NDArray[np.float64], src: Source, dc_exclude_hz: float | None
     edge = edge_fraction * span / 2
     lo, hi = src.centre_hz - span / 2 + edge, src.centre_hz + span / 2 - edge
     mask = (np.abs(f - src.centre_hz) > dc) & (f >= lo) & (f <= hi)
-    excluded.update({"dc_spike_hz": [src.centre_hz - dc, src.centre_hz + dc],
-                     "edges_hz": [[src.centre_hz - span / 2, lo], [hi, src.centre_hz + span / 2]]})
+    excluded.update({"dc_spike_hz": (src.centre_hz - dc, src.centre_hz + dc),
+                     "edges_hz": ((src.centre_hz - span / 2, lo), (hi, src.centre_hz + span / 2))})
     return mask
 
 
@@ -149,6 +149,20 @@ class Model:
             raise ValueError("noise factor <= 0")
         return 10 * math.log10(f1)
 
+    def system_nf_db(self, **kw) -> float:
+        """The DUT and the receiver together (before any correction), dB."""
+        f12 = self.factors(**kw)[1]
+        if not f12 > 0:
+            raise ValueError("noise factor <= 0")
+        return 10 * math.log10(f12)
+
+    def receiver_nf_db(self, **kw) -> float:
+        """The receiver alone, from the calibration pair, dB."""
+        f2 = self.factors(**kw)[2]
+        if not f2 or f2 <= 0:
+            raise ValueError("noise factor <= 0")
+        return 10 * math.log10(f2)
+
     def gain_db(self, **kw) -> float:
         g1 = self.factors(**kw)[3]
         if not g1 or g1 <= 0:
@@ -181,6 +195,17 @@ def evaluate_budgets(model: Model, pw: Powers, source: Any, corrected: bool) -> 
     nf = propagate(model.nf_db, inp, quantity="noise_figure_db")
     gain = propagate(model.gain_db, inp, quantity="gain_db") if corrected else None
     return nf, gain
+
+
+def other_budgets(model: Model, pw: Powers, source: Any, corrected: bool) -> dict[str, Budget]:
+    """Budgets of the system noise figure and, with a calibration pair, the receiver's."""
+    inp = budget_inputs(pw, source, corrected)
+    if "enr_db" in inp:
+        inp["enr_db"] = (model.enr0, inp["enr_db"][1], inp["enr_db"][2])
+    out = {"system_noise_figure_db": propagate(model.system_nf_db, inp, quantity="system_noise_figure_db")}
+    if corrected:
+        out["receiver_noise_figure_db"] = propagate(model.receiver_nf_db, inp, quantity="receiver_noise_figure_db")
+    return out
 
 
 def open_pairs(hot, cold) -> tuple[list[Source], list[Source]]:

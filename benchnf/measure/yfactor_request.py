@@ -50,16 +50,10 @@ def open_state(path: Path | None, *, iq: bool = False, centre_hz: float | None =
     """A hot/cold capture: SigMF IQ, two-channel audio as I/Q (`iq`), or a real audio channel."""
     if path is None:
         return None
-    if path.name.lower().endswith((".sigmf-meta", ".sigmf-data", ".sigmf")):
-        from ..io.sigmf_iq import open_sigmf
-        return open_sigmf(path)
-    if iq:
-        from ..io.sigmf_iq import open_wav_iq
-        if centre_hz is None:
-            raise ParameterError("--iq needs the receiver's centre frequency: give --centre-hz F")
-        return open_wav_iq(path, centre_hz=centre_hz)
-    from ..io import open_capture
-    return open_capture(path, channel=channel)
+    from ..io.opener import input_kind, open_input
+    if iq and input_kind(path) == "audio" and centre_hz is None:
+        raise ParameterError("--iq needs the receiver's centre frequency: give --centre-hz F")
+    return open_input(path, channel=channel, iq_centre_hz=centre_hz if iq else None)
 
 
 def _kelvin(k: float | None, c: float | None) -> float | None:

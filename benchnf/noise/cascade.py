@@ -37,7 +37,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field, replace
 from pathlib import Path
-from typing import Any
+from typing import Any, Literal
 
 from ..errors import ParameterError
 from ..units import BOLTZMANN_J_PER_K, T0_K
@@ -208,9 +208,6 @@ class StageShare:
     cumulative_noise_figure_db: float
     source: str
 
-    def to_dict(self) -> dict[str, Any]:
-        return dict(self.__dict__)
-
 
 @dataclass(frozen=True)
 class CascadeResult:
@@ -219,16 +216,10 @@ class CascadeResult:
     noise_figure_db: float
     noise_temperature_k: float
     gain_db: float
+    form: Literal["friis", "voltage"]
+    input_density_v_per_rthz: float | None
     stages: tuple[StageShare, ...]
-    form: str
-    input_density_v_per_rthz: float | None = None
     notes: tuple[str, ...] = field(default=())
-
-    def to_dict(self) -> dict[str, Any]:
-        return {"noise_figure_db": self.noise_figure_db, "noise_temperature_k": self.noise_temperature_k,
-                "gain_db": self.gain_db, "form": self.form,
-                "input_density_v_per_rthz": self.input_density_v_per_rthz,
-                "stages": [s.to_dict() for s in self.stages], "notes": list(self.notes)}
 
 
 def friis(chain: Chain) -> CascadeResult:
@@ -256,7 +247,7 @@ def friis(chain: Chain) -> CascadeResult:
     shares = tuple(StageShare(st.name, f, st.gain_db if st.gain_db is not None else math.nan, c,
                               c / excess if excess > 0 else 0.0, 10 * math.log10(cum), st.source)
                    for st, f, c, cum in parts)
-    return CascadeResult(10 * math.log10(f_total), excess * T0_K, total_gain_db, shares, "friis")
+    return CascadeResult(10 * math.log10(f_total), excess * T0_K, total_gain_db, "friis", None, shares)
 
 
 def voltage_cascade(chain: Chain) -> CascadeResult:
@@ -283,8 +274,8 @@ def voltage_cascade(chain: Chain) -> CascadeResult:
     shares = tuple(StageShare(st.name, 1 + c / n0, float(st.gain_db), c,  # type: ignore[arg-type]
                               c / total if total > 0 else 0.0,
                               10 * math.log10(1 + cum / n0), st.source) for st, c, cum in parts)
-    return CascadeResult(10 * math.log10(f_total), (f_total - 1) * T0_K, 20 * math.log10(gain_before), shares,
-                         "voltage", math.sqrt(source + total),
+    return CascadeResult(10 * math.log10(f_total), (f_total - 1) * T0_K, 20 * math.log10(gain_before), "voltage",
+                         math.sqrt(source + total), shares,
                          (f"NF at Rs = {chain.source_ohm:g} ohm; best SNR always comes at the lowest "
                           f"source impedance, not at the Rs of minimum NF",))
 

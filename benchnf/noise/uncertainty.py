@@ -33,8 +33,9 @@ from typing import Any
 
 from ..errors import ParameterError
 
-__all__ = ["propagate", "StatedUncertainty", "Contribution", "Budget", "power_rel_to_db", "amplitude_rel_to_db",
-           "dut_power_rel_std", "ein_budget", "nf_budget", "gain_budget", "welch_dof"]
+__all__ = ["propagate", "StatedUncertainty", "Contribution", "Budget", "Uncertainty", "power_rel_to_db",
+           "amplitude_rel_to_db", "dut_power_rel_std", "ein_budget", "nf_budget", "gain_budget", "output_noise_budget",
+           "welch_dof"]
 
 _DB_PER_NEPER_POWER = 10.0 / math.log(10.0)
 
@@ -104,7 +105,7 @@ class Contribution:
     dof: float = math.inf  # degrees of freedom: a random (Welch) part's from its scatter, stated limits infinite
 
     def to_dict(self) -> dict[str, Any]:
-        return {"name": self.name, "u_db": self.u_db, "note": self.note,
+        return {"name": self.name, "u_db": _finite(self.u_db), "note": self.note,
                 "dof": self.dof if math.isfinite(self.dof) else None}
 
 
@@ -135,10 +136,91 @@ class Budget:
 
     def to_dict(self) -> dict[str, Any]:
         nu = self.effective_dof
-        return {"quantity": self.quantity, "value_db": self.value_db,
-                "combined_standard_db": self.combined_db, "expanded_db": self.expanded_db,
+        return {"quantity": self.quantity, "value_db": _finite(self.value_db),
+                "combined_standard_db": _finite(self.combined_db), "expanded_db": _finite(self.expanded_db),
                 "coverage_factor": self.coverage_factor, "effective_dof": nu if math.isfinite(nu) else None,
                 "contributions": [c.to_dict() for c in self.contributions]}
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any], *, where: str) -> "Budget":
+        """The budget again from :meth:`to_dict`'s form (the combined and expanded values are recomputed)."""
+        from ..codec import from_data
+        rows = from_data(list[dict[str, Any]], data.get("contributions"), where, "contributions")
+        contributions = tuple(Contribution(from_data(str, c.get("name"), where, "contributions.name"),
+                                           _inf(from_data(float | None, c.get("u_db"), where, "contributions.u_db")),
+                                           from_data(str, c.get("note", ""), where, "contributions.note"),
+                                           _inf(from_data(float | None, c.get("dof"), where, "contributions.dof")))
+                              for c in rows)
+        return cls(from_data(str, data.get("quantity"), where, "quantity"),
+                   from_data(float, data.get("value_db"), where, "value_db"), contributions,
+                   from_data(float, data.get("coverage_factor", 2.0), where, "coverage_factor"))
+
+    @staticmethod
+    def data_schema() -> dict[str, Any]:
+        number = {"type": ["number", "null"]}
+        row = {"type": "object", "required": ["name", "u_db"], "properties": {
+            "name": {"type": "string"}, "u_db": number, "note": {"type": "string"}, "dof": number}}
+        return {"type": "object", "required": ["quantity", "value_db", "contributions"], "properties": {
+            "quantity": {"type": "string"}, "value_db": number, "combined_standard_db": number,
+            "expanded_db": number, "coverage_factor": {"type": "number", "exclusiveMinimum": 0},
+            "effective_dof": number, "contributions": {"type": "array", "items": row}}}
+
+
+def _finite(x: float) -> float | None:
+    return x if math.isfinite(x) else None
+
+
+def _inf(x: float | None) -> float:
+    """A contribution or degrees of freedom written as null stands for an infinite one."""
+    return math.inf if x is None or not math.isfinite(x) else x
+
+
+@dataclass(frozen=True)
+class Uncertainty:
+    """The uncertainty budgets of a result, keyed by the figure they belong to (``ein_db``, ``gain_db``...).
+
+    ``u["ein_db"]`` is the expanded uncertainty (k = 2) of that figure in dB; :meth:`get` gives None for a
+    figure without a budget. Written as ``{"coverage_factor", "stated", <figure>: U, ..., "budgets"}``.
+    """
+
+    budgets: dict[str, Budget]
+    stated: str | None = None
+    coverage_factor: float = 2.0
+
+    def __getitem__(self, key: str) -> float:
+        return self.budgets[key].expanded_db
+
+    def __contains__(self, key: object) -> bool:
+        return key in self.budgets
+
+    def get(self, key: str) -> float | None:
+        """The expanded uncertainty (k = 2, dB) of a figure, or None where it has no budget."""
+        b = self.budgets.get(key)
+        return b.expanded_db if b is not None and math.isfinite(b.expanded_db) else None
+
+    def to_dict(self) -> dict[str, Any]:
+        out: dict[str, Any] = {"coverage_factor": self.coverage_factor}
+        if self.stated is not None:
+            out["stated"] = self.stated
+        out.update({k: _finite(b.expanded_db) for k, b in self.budgets.items()})
+        out["budgets"] = {k: b.to_dict() for k, b in self.budgets.items()}
+        return out
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any], *, where: str) -> "Uncertainty":
+        from ..codec import from_data
+        budgets = from_data(dict[str, dict[str, Any]], data.get("budgets", {}), where, "uncertainty.budgets")
+        return cls({k: Budget.from_dict(v, where=f"{where} at uncertainty.budgets.{k}") for k, v in budgets.items()},
+                   from_data(str | None, data.get("stated"), where, "uncertainty.stated"),
+                   from_data(float, data.get("coverage_factor", 2.0), where, "uncertainty.coverage_factor"))
+
+    @staticmethod
+    def data_schema() -> dict[str, Any]:
+        return {"type": "object", "required": ["coverage_factor", "budgets"],
+                "properties": {"coverage_factor": {"type": "number", "exclusiveMinimum": 0},
+                               "stated": {"type": "string"},
+                               "budgets": {"type": "object", "additionalProperties": Budget.data_schema()}},
+                "additionalProperties": {"type": ["number", "null"]}}
 
 
 def welch_dof(rel_std: float) -> float:
@@ -219,6 +301,20 @@ def nf_budget(*, quantity: str, noise_factor: float, excess_over_n0: float, dut_
                                       power_rel_to_db(ratio * stated.u_resistor_rel / noise_factor),
                                       f"+/-{stated.resistor_pct:g} % stated; dF/dRs = -(F - 1 + T/T0)/Rs"))
     return Budget(quantity, 10 * math.log10(noise_factor), tuple(contributions))
+
+
+def output_noise_budget(*, value_db: float, dut_rel_std: float, floor_corrected: bool,
+                        calibration_known: bool, stated: StatedUncertainty) -> Budget:
+    """Budget of the output noise level in dB (20 lg of its RMS volts): the band power's Welch statistics
+    and, where the capture is in volts through a sound-card calibration, that calibration."""
+    contributions = [Contribution(
+        "Welch statistics" + (" with floor subtraction" if floor_corrected else ""),
+        power_rel_to_db(dut_rel_std), "scatter of the band power(s), from their degrees of freedom",
+        welch_dof(dut_rel_std))]
+    if calibration_known:
+        contributions.append(Contribution("calibration", amplitude_rel_to_db(stated.u_calibration_rel),
+                                          f"+/-{stated.calibration_pct:g} % stated (meter)"))
+    return Budget("output_noise_db", value_db, tuple(contributions))
 
 
 def gain_budget(*, value_db: float, gain_kind: str, gain_rel_std: float,

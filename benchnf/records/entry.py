@@ -32,16 +32,18 @@ def _where(name: str, limit_text: str) -> str:
     return f"{limit_text} (worst at {m.group(1)})" if m else limit_text
 
 
-def check_record(check: dict[str, Any] | None, *, serial: str, verdict: str, results: dict[str, Any] | None,
-                 profile: Any, station: str | None = None, operator: str | None = None) -> CheckRecord:
-    """The record of one unit's check (`check` is CheckResult.to_dict(), None for a unit that failed to analyse)."""
+def check_record(check: Any, *, serial: str, verdict: str, results: Any, profile: Any,
+                 station: str | None = None, operator: str | None = None) -> CheckRecord:
+    """The record of one unit's check (`check` a CheckResult, None for a unit that failed to analyse; `results`
+    the unit's typed result, kept whole as its JSON)."""
     from .. import __version__
-    bounds = {lim.key: (lim.min, lim.max) for lim in profile.limits}
-    rows = tuple(LimitRow(name=_stable(v["name"]), measured=v["measured"], limit_text=_where(v["name"], v["limit"]),
-                          lower=bounds.get(v["name"], (None, None))[0], upper=bounds.get(v["name"], (None, None))[1],
-                          margin=v["margin"], unit=v["unit"], uncertainty=v["uncertainty"], verdict=v["verdict"])
-                 for v in (check or {}).get("limits", []))
+    rows = tuple(LimitRow(name=_stable(v.name), measured=v.measured, limit_text=_where(v.name, v.limit),
+                          lower=v.lower, upper=v.upper, margin=v.margin, unit=v.unit, uncertainty=v.uncertainty,
+                          verdict=v.verdict)
+                 for v in (check.limits if check is not None else ()))
     return CheckRecord(serial=serial, verdict=verdict, profile_name=profile.name,
                        profile_sha256=file_sha256(profile.source) if profile.source else None,
                        station=station_name(station), operator=operator_name(operator),
-                       software=f"benchnf {__version__}", limits=rows, results=results, check=check)
+                       software=f"benchnf {__version__}", limits=rows,
+                       results=results.to_dict() if results is not None else None,
+                       check=check.to_dict() if check is not None else None)

@@ -9,6 +9,8 @@ Rs, temperature) are not per bin: they are in the JSON's uncertainty budgets.
 
 from __future__ import annotations
 
+from typing import Any
+
 import io
 import math
 
@@ -25,9 +27,18 @@ SPECTRA_COLUMNS = ("frequency_hz", "output_v2_per_hz", "floor_v2_per_hz", "outpu
                    "noise_figure_db", "noise_figure_u95_db", "power_gain")
 
 
+def _spectra(r: AnalysisResult) -> Any:
+    """The result's spectra (in memory only: a result read back from its JSON has none)."""
+    from ..errors import BenchError
+    if r.spectra is None:
+        raise BenchError("this result has no spectra in memory (it was read back from its JSON): analyse the "
+                         "captures again to write every bin")
+    return r.spectra
+
+
 def _bin_rel_std(r: AnalysisResult) -> NDArray[np.float64]:
     """Relative standard deviation of each bin's floor-corrected power (inf where not above the floor)."""
-    s = r.spectra
+    s = _spectra(r)
     m = s.output_v2_per_hz * math.sqrt(2.0 / r.dof)
     if s.floor_v2_per_hz is None or s.floor_dof is None:
         return np.full(m.shape, math.sqrt(2.0 / r.dof))
@@ -38,7 +49,7 @@ def _bin_rel_std(r: AnalysisResult) -> NDArray[np.float64]:
 
 
 def _columns(r: AnalysisResult) -> dict[str, NDArray[np.float64] | None]:
-    s = r.spectra
+    s = _spectra(r)
     rel = _bin_rel_std(r)
     e2 = s.input_v2_per_hz
     n0 = 4 * BOLTZMANN_J_PER_K * T0_K * r.rs_ohm
@@ -67,7 +78,7 @@ def spectra_csv(r: AnalysisResult) -> str:
     out.write("# *_u95_db: expanded (k=2) uncertainty of each bin from its Welch statistics only; the bench "
               "parts are in the JSON budgets. Empty cell: no value (not above the floor, or not measured)\n")
     out.write(",".join(SPECTRA_COLUMNS) + "\n")
-    n = r.spectra.frequency_hz.size
+    n = _spectra(r).frequency_hz.size
     blank = np.full(n, np.nan)
     arrays = [np.asarray(cols[c] if cols[c] is not None else blank, dtype=np.float64) for c in SPECTRA_COLUMNS]
     for i in range(n):

@@ -43,8 +43,9 @@ def first_difference(got: str, want: str, *, rel_tol: float = REL_TOL, abs_tol: 
     want_text, want_numbers = _split(want)
     for i, (a, b) in enumerate(zip(got_text, want_text)):
         if a != b:
-            line = "".join(w + n for w, n in zip(want_text[:i], want_numbers[:i])).count("\n") + 1
-            return f"line {line}: text {a[:60]!r} where the golden output has {b[:60]!r}"
+            at = next((k for k, (x, y) in enumerate(zip(a, b)) if x != y), min(len(a), len(b)))
+            line = "".join(w + n for w, n in zip(want_text[:i], want_numbers[:i])).count("\n") + b[:at].count("\n") + 1
+            return f"line {line}: text {a[at:at + 60]!r} where the golden output has {b[at:at + 60]!r}"
     if len(got_text) != len(want_text):
         return f"{len(got_numbers)} numbers where the golden output has {len(want_numbers)}"
     for i, (a, b) in enumerate(zip(got_numbers, want_numbers)):

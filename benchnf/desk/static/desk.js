@@ -46,19 +46,39 @@ function show(view) {
 }
 
 // ---- plots ----------------------------------------------------------------------------------------
+const MODES = {line: "lines", markers: "markers", "line+markers": "lines+markers"};
+function drawTrace(t, i, spec) {
+  const colour = COLOURS[i % COLOURS.length];
+  if (t.style === "bar") return {type: "bar", name: t.name, x: t.labels, y: t.y, marker: {color: colour}};
+  if (t.style === "band") {  // a shaded interval y +/- u
+    const up = t.y.map((y, k) => y === null || t.u[k] === null ? null : y + t.u[k]);
+    const down = t.y.map((y, k) => y === null || t.u[k] === null ? null : y - t.u[k]);
+    return [{type: "scatter", mode: "lines", x: t.x, y: down, line: {width: 0}, showlegend: false, hoverinfo: "skip"},
+      {type: "scatter", mode: "lines", name: t.name, x: t.x, y: up, fill: "tonexty", line: {width: 0},
+       fillcolor: colour + "33", hoverinfo: "skip"}];
+  }
+  return {type: "scatter", mode: MODES[t.style] || "lines", name: t.name, x: t.x, y: t.y,
+    line: {color: colour, width: 1.4}, marker: {color: colour, size: 6},
+    text: t.labels || undefined, textposition: "top center",
+    hovertemplate: `%{x:.4g} ${spec.x_label.match(/\((.*)\)/)?.[1] || ""}<br>%{y:.4g} ${spec.y_label.match(/\((.*)\)/)?.[1] || ""}<extra>${t.name}</extra>`,
+    ...(t.u ? {error_y: {type: "data", array: t.u, color: colour, thickness: 1}} : {})};
+}
 function drawPlot(div, spec) {
-  const traces = spec.traces.map((t, i) => t.kind === "bar"
-    ? {type: "bar", name: t.name, x: t.labels, y: t.y, marker: {color: COLOURS[i % COLOURS.length]}}
-    : {type: "scatter", mode: t.mode || "lines", name: t.name, x: t.x, y: t.y,
-       line: {color: COLOURS[i % COLOURS.length], width: 1.4}, hovertemplate: "%{x:.4g} Hz<br>%{y:.4g}<extra>" + t.name + "</extra>",
-       ...(t.u ? {error_y: {type: "data", array: t.u, color: "#9aa3a8", thickness: 1}} : {})});
-  const shapes = spec.band ? [{type: "rect", xref: "x", yref: "paper", x0: spec.band[0], x1: spec.band[1], y0: 0, y1: 1,
-    fillcolor: "#d7e9e8", opacity: 0.35, line: {width: 0}, layer: "below"}] : [];
+  const traces = spec.traces.filter((t) => t.style !== "reference").flatMap((t, i) => drawTrace(t, i, spec));
+  const refs = spec.traces.filter((t) => t.style === "reference" && t.y[0] !== null);
+  const shapes = refs.map((t, i) => ({type: "line", xref: "paper", x0: 0, x1: 1, yref: "y", y0: t.y[0], y1: t.y[0],
+    line: {color: COLOURS[(i + 2) % COLOURS.length], dash: "dash", width: 1.2}}));
+  const annotations = refs.map((t, i) => ({xref: "paper", x: 1, xanchor: "right", yref: "y", y: t.y[0], yanchor: "bottom",
+    text: t.name, showarrow: false, font: {size: 11, color: COLOURS[(i + 2) % COLOURS.length]}}));
+  if (spec.band && !spec.categories) shapes.unshift({type: "rect", xref: "x", yref: "paper", x0: spec.band[0], x1: spec.band[1],
+    y0: 0, y1: 1, fillcolor: "#d7e9e8", opacity: 0.35, line: {width: 0}, layer: "below"});
   const layout = {title: {text: spec.title, font: {size: 14}}, margin: {l: 70, r: 20, t: 40, b: 50},
     paper_bgcolor: "#fbf9f4", plot_bgcolor: "#fbf9f4", font: {family: "DejaVu Sans, sans-serif", color: "#1f2a30"},
-    xaxis: {title: {text: spec.x_label}, type: spec.log_x ? "log" : "linear", gridcolor: "#e4ddcf"},
-    yaxis: {title: {text: spec.y_label}, type: spec.log_y ? "log" : "linear", gridcolor: "#e4ddcf", exponentformat: "power"},
-    legend: {orientation: "h", y: -0.22}, shapes, barmode: "group"};
+    xaxis: {title: {text: spec.x_label}, type: spec.categories ? "category" : (spec.log_x ? "log" : "linear"),
+      gridcolor: "#e4ddcf"},
+    yaxis: {title: {text: spec.y_label}, type: spec.log_y ? "log" : "linear", gridcolor: "#e4ddcf", tickformat: "~g",
+      ...(spec.y_from_zero ? {rangemode: "tozero"} : {})},
+    legend: {orientation: "h", y: -0.22}, shapes, annotations, barmode: "group"};
   return Plotly.react(div, traces, layout, {displaylogo: false, responsive: true});
 }
 
@@ -73,8 +93,9 @@ async function loadResultsList(chosen) {
   if (chosen) openResult(chosen);
 }
 function figureCard(f) {
-  return el("div", {class: "figure"}, el("span", {class: "k"}, f.label), el("span", {class: "v"}, f.value),
-    el("span", {class: "u"}, f.unit), el("span", {class: "unc"}, f.u === null ? "" : `U (k=2) ± ${f.u} ${f.unit.startsWith("dB") ? "dB" : f.unit}`));
+  return el("div", {class: "figure", "data-key": f.key}, el("span", {class: "k"}, f.label), el("span", {class: "v"}, f.value),
+    el("span", {class: "u"}, f.unit), el("span", {class: "unc"}, f.u ? `U (k=2) ${f.u}` : ""),
+    ...(f.note ? [el("span", {class: "note"}, f.note)] : []));
 }
 function table(title, columns, rows) {
   return [el("h3", {}, title), el("table", {class: "grid"}, el("thead", {}, el("tr", {}, ...columns.map((c) => el("th", {}, c)))),
@@ -89,8 +110,9 @@ async function openResult(name) {
     const plots = v.plots.map((p) => el("div", {class: "plot", id: "plot-" + p.id, "data-plot": p.id}));
     box.replaceChildren(el("h2", {}, `${v.kind} · ${v.name}` + (v.provenance ? ` · made ${v.provenance}` : "")),
       el("div", {class: "figures", id: "figures"}, ...v.headline.map(figureCard)), ...plots,
+      ...(v.warnings.length ? [el("ul", {class: "warnings"}, ...v.warnings.map((n) => el("li", {}, n)))] : []),
       ...(v.conditions.length ? table("Conditions", ["condition", "value"], v.conditions) : []),
-      ...v.tables.flatMap((t) => t.rows.length ? table(t.title, t.columns, t.rows) : []),
+      ...v.tables.flatMap((t) => t.rows.length ? [...table(t.title, t.columns, t.rows), ...(t.note ? [el("p", {class: "hint"}, t.note)] : [])] : []),
       ...(v.notes.length ? [el("h3", {}, "Notes"), el("ul", {class: "notes"}, ...v.notes.map((n) => el("li", {}, n)))] : []),
       el("h3", {}, "Downloads"), el("p", {class: "downloads"}, ...v.downloads.map((d) =>
         el("a", {href: "/api/download?path=" + encodeURIComponent(d), download: d.split("/").pop()}, d)),
@@ -272,6 +294,7 @@ async function prepareCheck() {
       ...units.files.map((f) => el("option", {value: f}, f + "/ (captures)")));
     await fillFiles($("#check-profile"), "profiles");
     await fillFiles($("#check-cal"), "calibrations", "—");
+    await fillFiles($("#check-floor"), "captures", "— (the unit's own, else one beside the units)");
     $("#serial").focus();
   });
 }
@@ -283,13 +306,13 @@ async function runCheck(ev) {
     v.hidden = true;
     const r = await api("check", data);
     v.className = "verdict " + r.verdict; v.hidden = false;
-    v.replaceChildren(r.verdict, el("small", {}, `${r.serial} against ${r.profile}` + (r.recorded ? " · recorded" : "")));
-    const rows = r.limits.map((l) => el("tr", {class: l.verdict}, el("td", {}, l.label), el("td", {}, l.measured_text),
-      el("td", {}, l.limit), el("td", {}, l.margin === null ? "–" : `${Number(l.margin).toPrecision(3)} ${l.unit}`),
-      el("td", {}, l.uncertainty === null ? "–" : l.uncertainty.toFixed(2) + " dB"), el("td", {}, l.verdict), el("td", {}, l.hint || "")));
+    v.replaceChildren(r.verdict, el("small", {}, `${r.serial} against ${r.profile}` + (r.recorded ? " · recorded" : "")),
+      ...(r.floor_corrected ? [] : [el("small", {class: "floor-note"}, "analyzer floor NOT subtracted: the figures include its own noise")]));
+    const rows = r.limits.rows.map((l) => el("tr", {class: l[5]}, ...l.map((c) => el("td", {}, c))));
     const earlier = await api("checks?serial=" + encodeURIComponent(r.serial));
     $("#check-detail").replaceChildren(el("table", {class: "grid", id: "limits"}, el("thead", {}, el("tr", {},
-      ...["limit", "measured", "limit", "margin", "U (k=2)", "verdict", "what to look at"].map((c) => el("th", {}, c)))), el("tbody", {}, ...rows)),
+      ...r.limits.columns.map((c) => el("th", {}, c)))), el("tbody", {}, ...rows)),
+      ...(r.notes.length ? [el("ul", {class: "notes"}, ...r.notes.map((n) => el("li", {}, n)))] : []),
       el("p", {class: "downloads"}, el("a", {href: "/api/download?path=" + encodeURIComponent(r.report)}, "report " + r.report)),
       ...table(`Checks of ${r.serial} in the records`, ["when (UTC)", "verdict", "station", "operator", "profile"],
         earlier.map((e) => [e.checked_at, e.verdict, e.station || "", e.operator || "", e.profile])));

@@ -1,0 +1,46 @@
+"""One command per registered measurement (:mod:`benchnf.registry`): its options, then resolve, measure,
+present, write.
+
+The command prints the view of the result (:mod:`benchnf.report.render_text`), writes ``--json`` (the typed
+result with its provenance) and ``--plot`` (the view's plots as PNG), and any extra file the measurement
+names. It computes nothing itself. Building the parser imports only each measurement's options module
+(argparse and the argument types), so ``benchnf --help`` stays fast.
+"""
+
+from __future__ import annotations
+
+import argparse
+from functools import partial
+from typing import Any
+
+from ..write import Writer
+from ._common import output_options, progress, write_outputs
+from .status import ExitStatus
+
+__all__ = ["add_parsers"]
+
+
+def add_parsers(sub: Any) -> None:
+    """A subcommand for every registered measurement, in the order registered."""
+    from .. import registry
+    for entry in registry.measurements():
+        p = sub.add_parser(registry.command_name(entry), help=entry.summary, description=entry.description)
+        entry.part("options")(p)
+        output_options(p)
+        p.set_defaults(run=partial(_run, entry.name))
+
+
+def _run(kind: str, args: argparse.Namespace, writer: Writer) -> int:
+    from .. import registry
+    from ..report.render_png import figures
+    from ..report.render_text import render_text
+    entry = registry.measurement(kind)
+    request = entry.part("from_args")(args)
+    with progress(0, quiet=args.quiet, label="measuring") as tick:
+        result = registry.run_measurement(entry, request, progress=tick)
+    view = entry.part("present")(result)
+    print(render_text(view, explain=args.explain), end="")
+    write_outputs(args, writer, result, lambda: figures(view))
+    if entry.outputs is not None:
+        entry.part("outputs")(args, writer, result)
+    return ExitStatus.OK

@@ -1,0 +1,111 @@
+"""The frozen result of a Y-factor measurement and its parts (written as JSON by :mod:`benchnf.codec`)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any, ClassVar, Literal
+
+from ..codec import ResultFile, figure
+from ..noise.uncertainty import Budget, Uncertainty
+from .provenance import Provenance
+
+__all__ = ["YRow", "YExcluded", "YLoss", "YRepeats", "YFiles", "YFactorResult"]
+
+
+@dataclass(frozen=True)
+class YRow:
+    """Figures over one sub-band (or spot)."""
+
+    RANGES: ClassVar[dict[str, dict[str, Any]]] = {"noise_figure_expanded_db": dict(minimum=0)}
+
+    freq_hz: float
+    y_factor_db: float | None
+    noise_figure_db: float | None
+    noise_temperature_k: float | None
+    gain_db: float | None
+    noise_figure_expanded_db: float | None
+
+
+@dataclass(frozen=True)
+class YExcluded:
+    """What of an IQ recording's span was left out: the DC spike at the centre and the band edges."""
+
+    dc_spike_hz: tuple[float, float] | None = figure(default=None, omit_if_none=True)
+    edges_hz: tuple[tuple[float, float], ...] | None = figure(default=None, omit_if_none=True)
+
+
+@dataclass(frozen=True)
+class YLoss:
+    """A matched loss ahead of or behind the DUT, as the result states it."""
+
+    RANGES: ClassVar[dict[str, dict[str, Any]]] = {"loss_db": dict(minimum=0), "temperature_k": dict(exclusiveMinimum=0)}
+
+    loss_db: float
+    temperature_k: float
+
+
+@dataclass(frozen=True)
+class YRepeats:
+    """Scatter and drift of the noise figure over repeated hot/cold pairs."""
+
+    RANGES: ClassVar[dict[str, dict[str, Any]]] = {"n": dict(minimum=2)}
+
+    n: int
+    noise_figure_db: tuple[float, ...]
+    noise_figure_std_db: float
+    noise_figure_drift_db_per_pair: float
+
+
+@dataclass(frozen=True)
+class YFiles:
+    """The recordings the measurement read, as they were named to it."""
+
+    hot: tuple[str | None, ...]
+    cold: tuple[str | None, ...]
+    cal_hot: str | None = None
+    cal_cold: str | None = None
+    floor: str | None = None
+
+
+@dataclass(frozen=True)
+class YFactorResult(ResultFile):
+    """Everything the Y-factor measurement found, with its conditions."""
+
+    RANGES: ClassVar[dict[str, dict[str, Any]]] = {
+        "t_hot_k": dict(exclusiveMinimum=0), "t_cold_k": dict(exclusiveMinimum=0), "rbw_hz": dict(exclusiveMinimum=0),
+        "n_averages": dict(minimum=1)}
+
+    KIND = "yfactor"
+
+    method: Literal["enr", "two-temperature"]
+    noise_figure_db: float
+    noise_temperature_k: float
+    gain_db: float | None
+    y_factor_db: float
+    second_stage_corrected: bool
+    floor_subtracted: bool
+    system_noise_figure_db: float
+    receiver_noise_figure_db: float | None
+    t_hot_k: float
+    t_cold_k: float
+    enr_db: float | None
+    band_hz: tuple[float, float]
+    centre_hz: float | None
+    excluded: YExcluded
+    loss_before: YLoss | None
+    loss_after: YLoss | None
+    rows: tuple[YRow, ...]
+    spots: tuple[YRow, ...]
+    uncertainty: Uncertainty
+    repeats: YRepeats | None
+    rbw_hz: float
+    n_averages: int
+    files: YFiles
+    notes: tuple[str, ...]
+    noise_temperature_u95_k: float | None = None  # U (k=2) of the noise temperature, from the NF's
+    provenance: Provenance | None = figure(default=None, omit_if_none=True)
+
+    @property
+    def budgets(self) -> dict[str, Budget]:
+        """The uncertainty budgets by figure (``noise_figure_db``, ``gain_db``)."""
+        return self.uncertainty.budgets
