@@ -18,6 +18,7 @@ No numpy here: the command line's start-up imports this module.
 
 from __future__ import annotations
 
+import contextvars
 import dataclasses
 import math
 import types
@@ -28,7 +29,10 @@ from typing import Any, Literal, Union
 from .errors import ParameterError
 
 __all__ = ["FormatError", "ResultFile", "to_data", "from_data", "schema_of", "figure", "memory_only", "describe",
-           "check_header"]
+           "check_header", "check_shape"]
+
+# Set while a hand-edited file of ours is checked: its tables may hold no key the shape does not name.
+_STRICT: contextvars.ContextVar[bool] = contextvars.ContextVar("benchnf_codec_strict", default=False)
 
 
 class FormatError(ParameterError):
@@ -218,8 +222,14 @@ def _from_sequence(tp: Any, data: Any, where: str, key: str) -> Any:
 
 def _from_object(cls: type, data: Any, where: str, key: str) -> Any:
     if not isinstance(data, dict):
-        raise _fail(where, key, data, "an object")
+        raise _fail(where, key, data, "a table" if _STRICT.get() else "an object")
     hints = _hints(cls)
+    if _STRICT.get():
+        known = {f.name for f in _data_fields(cls)}
+        unknown = sorted(str(k) for k in data if k not in known)
+        if unknown:
+            raise FormatError(f"{where}{' [' + key + ']' if key else ''}: unknown keys {', '.join(unknown)}; the "
+                              f"keys are {', '.join(sorted(known))}")
     values = {}
     for f in _data_fields(cls):
         sub = f"{key}.{f.name}" if key else f.name
@@ -235,6 +245,16 @@ def _from_object(cls: type, data: Any, where: str, key: str) -> Any:
         return cls(**values)
     except ParameterError as err:  # the type's own check of its values
         raise FormatError(f"{where}{' at ' + key if key else ''}: {err}") from None
+
+
+def check_shape(cls: type, data: Any, where: str) -> Any:
+    """A hand-edited file of ours (a profile, a plan, an ENR table, a chain, a sidecar...) as its shape `cls`:
+    every key known, every value of its kind and in its range; one FormatError line otherwise."""
+    token = _STRICT.set(True)
+    try:
+        return from_data(cls, data, where)
+    finally:
+        _STRICT.reset(token)
 
 
 # -- results written as files of their own -------------------------------------------------------------------

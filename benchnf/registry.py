@@ -111,9 +111,11 @@ def result_from_dict(data: Any, *, where: str, kinds: tuple[str, ...] | None = N
     from .codec import check_header
     allowed = kinds or (*_REGISTRY, *_OTHER_RESULTS)
     kind = check_header(data, where, tuple(allowed))
-    from .io.schemas import validate
-    validate(data, f"{kind}-results-1.json", where=where)
-    return _type_of(kind).from_dict(data, where=where)
+    from .io.schemas import shipped, validate
+    cls = _type_of(kind)
+    name = f"{kind}-results-{cls.SCHEMA_VERSION}.json"
+    validate(data, name if shipped(name) else cls.file_schema(), where=where)
+    return cls.from_dict(data, where=where)
 
 
 def read_result(path: str | Path, *, kinds: tuple[str, ...] | None = None) -> Any:

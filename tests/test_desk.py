@@ -365,3 +365,72 @@ def test_no_file_named_is_bad_input_not_a_refusal(desk):
     for path in ("/api/result?path=", "/api/download?path="):
         status, answer = call(desk, path)
         assert status == 400 and "no file named" in answer["error"]
+
+
+# -- every result kind, as the page receives it --------------------------------------------------------------
+_RAW = __import__("re").compile(r"\b(True|False|None|nan|inf)\b|\b[a-z0-9]+_(db|dbu|dbv|hz|ohm|k|vrms|v_per_rthz|"
+                                r"a_per_rthz|fs)\b")
+#: The figures that carry an expanded uncertainty in each kind's results (where the result has them).
+_WITH_U = {"analysis": ("gain_db", "ein_dbu", "noise_figure_db", "nf_at_1khz_db", "input_density_at_1khz_v_per_rthz",
+                        "output_noise_vrms", "voltage_noise_at_1khz_v_per_rthz", "flicker_corner_hz"),
+           "yfactor": ("noise_figure_db", "noise_temperature_k", "system_noise_figure_db", "gain_db",
+                       "receiver_noise_figure_db"),
+           "eni": ("en_at_1khz_v_per_rthz", "in_at_1khz_a_per_rthz", "ropt_at_1khz_ohm", "nfmin_at_1khz_db"),
+           "budget": (), "cascade": ()}
+
+
+def _words(view):
+    """Every text the page shows of a view (not file names, which may hold underscores)."""
+    yield from (v for _k, v in view["conditions"] if ".flac" not in v and ".sigmf" not in v)
+    for h in view["headline"]:
+        yield from (h["label"], h["value"], h["unit"], h["u"], h["note"])
+    for t in view["tables"]:
+        yield from t["columns"]
+        yield from (c for row in t["rows"] for c in row if ".flac" not in c and ".wav" not in c)
+
+
+def _check_view(view, name):
+    for p in view["plots"]:
+        for t in p["traces"]:
+            assert any(y is not None for y in t["y"]), (name, p["id"], t["name"])  # no empty trace
+    raw = [w for w in _words(view) if _RAW.search(w)]
+    assert not raw, (name, raw)
+    for h in view["headline"]:
+        if h["key"] in _WITH_U[view["kind"]] and h["value"] != "-":
+            assert h["u"].startswith("± "), (name, h)
+
+
+@pytest.mark.parametrize("name", ["results.json", "eni.json", "budget.json", "yfactor_vhf.json", "yfactor_bath.json"])
+def test_every_demo_result_reads_well(desk, name):
+    status, view = call(desk, f"/api/result?path=results/{name}")
+    assert status == 200
+    _check_view(view, name)
+
+
+@pytest.mark.parametrize("golden", list(_golden_results()), ids=lambda p: p.name)
+def test_every_golden_result_reads_well(golden, tmp_path):
+    from benchnf.desk.folder import DeskFolder
+    from benchnf.desk.views import result_view
+    copy = tmp_path / "r.json"
+    copy.write_text(golden.read_text())
+    _check_view(result_view(copy, "r.json", DeskFolder(tmp_path)), golden.name)
+
+
+@pytest.mark.parametrize("floor", [None, "floor.flac"])
+def test_the_desk_checks_each_demo_unit_as_batch_does(desk, bench, tmp_path, floor):
+    """The same unit folder, the same profile and calibration, the same floor (or none): the same verdict and the
+    same figures from the desk's unit check as from 'benchnf batch'."""
+    from benchnf.cli import main
+    args = ["batch", str(bench / "units"), "--profile", str(bench / "known_good_profile.toml"), "--calibration",
+            str(bench / "results" / "calibration.json"), "--workers", "1", "--quiet", "-o", str(tmp_path / "b")]
+    main([*args, *(["--floor", str(bench / floor)] if floor else [])])
+    rows = {r.split(",")[0]: r.split(",") for r in (tmp_path / "b" / "summary.csv").read_text().splitlines()[1:]}
+    for unit in ("HA-0001", "HA-0002", "HA-0003"):
+        body = {"serial": unit, "source": f"units/{unit}", "profile": "known_good_profile.toml",
+                "calibration": "results/calibration.json", **({"floor": floor} if floor else {})}
+        status, out = call(desk, "/api/check", body)
+        assert status == 200, out
+        assert out["verdict"] == rows[unit][1], (unit, out["verdict"], rows[unit])
+        assert out["floor_corrected"] is (floor is not None)
+        ein = next(r for r in out["limits"]["rows"] if r[0].startswith("EIN"))
+        assert ein[1] == f"{float(rows[unit][3]):.2f} dBu"  # the EIN batch wrote, as the desk shows it

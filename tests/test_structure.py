@@ -111,3 +111,37 @@ def test_the_version_is_written_once():
     project = tomllib.loads((PKG.parent / "pyproject.toml").read_text())
     assert "version" not in project["project"] and "version" in project["project"]["dynamic"]
     assert version("benchnf") == benchnf.__version__
+
+
+# Where JSON may be parsed, and why: a results file becomes its typed result at once (registry, records), every
+# other file of ours is read by its own reader (io/, calibration, provenance), the desk parses the browser's
+# requests, the demo its ground truth. Nowhere else can a results file exist as a dict read by string keys.
+JSON_READERS = {
+    "registry.py": "results files, typed at once (read_result, result_from_dict)",
+    "records/store.py": "a result kept in the store, typed at once through the registry",
+    "calibration.py": "calibration files",
+    "measure/provenance.py": "a calibration's identity for the provenance",
+    "io/sidecar.py": "sidecars", "io/sigmf_iq.py": "SigMF metadata", "io/schemas.py": "the shipped schemas",
+    "desk/server.py": "the browser's requests (not a file)",
+    "demo.py": "the demo's ground truth",
+}
+
+
+def test_results_files_are_read_only_as_typed_results():
+    found = {}
+    for path in _modules():
+        rel = path.relative_to(PKG).as_posix()
+        for node in ast.walk(ast.parse(path.read_text())):
+            if isinstance(node, ast.Attribute) and node.attr in ("load", "loads") and \
+                    isinstance(node.value, ast.Name) and node.value.id == "json":
+                found.setdefault(rel, node.lineno)
+    assert set(found) <= set(JSON_READERS), {k: v for k, v in found.items() if k not in JSON_READERS}
+
+
+def test_typed_results_are_not_read_by_key():
+    """No result type can be read like a dict (the one exception: an Uncertainty gives a figure's U by its
+    budget's name, ``u["ein_db"]``)."""
+    from benchnf import registry
+    for kind in (*registry.kinds(), "check"):
+        cls = registry._type_of(kind)
+        assert not hasattr(cls, "__getitem__") and not hasattr(cls, "get"), kind

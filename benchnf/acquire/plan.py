@@ -34,7 +34,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -42,7 +42,7 @@ import numpy as np
 
 from ..errors import ParameterError
 
-__all__ = ["PlanStep", "Plan", "load_plan", "CAUTIONS", "run_plan", "check_capture", "step_metadata",
+__all__ = ["PlanStep", "Plan", "PlanAnalysis", "PlanFile", "load_plan", "CAUTIONS", "run_plan", "check_capture", "step_metadata",
            "analyse_plan"]
 
 CAUTIONS = {
@@ -60,10 +60,46 @@ CAUTIONS = {
 }
 _DEFAULT_CAUTIONS = {"terminated": ["phantom"], "shorted": ["phantom"], "tone": ["phantom"], "hot": ["hot-load"],
                      "cold": ["cold-load"]}
-_STEP_KEYS = {"condition", "seconds", "prompt", "tone_hz", "tone_input_vrms", "rs_ohm", "temperature_k",
-              "cautions", "name", "channels"}
-_TOP_KEYS = {"name", "device", "host_api", "sample_rate_hz", "channels", "out_dir", "analysis", "step"}
-_ANALYSIS_KEYS = {"rs_ohm", "temperature_k", "volts_per_fs", "calibration", "band_hz", "weighting"}
+
+
+@dataclass(frozen=True)
+class PlanAnalysis:
+    """How a finished plan is analysed (its ``[analysis]`` table)."""
+
+    rs_ohm: float | None = None
+    temperature_k: float | None = None
+    volts_per_fs: float | None = None
+    calibration: str | None = None
+    band_hz: tuple[float, float] | None = None
+    weighting: str | None = None
+
+
+@dataclass(frozen=True)
+class _StepTable:
+    condition: str
+    seconds: float
+    prompt: str = ""
+    tone_hz: float | None = None
+    tone_input_vrms: float | None = None
+    rs_ohm: float | None = None
+    temperature_k: float | None = None
+    cautions: tuple[str, ...] | None = None
+    name: str = ""
+    channels: int | None = None
+
+
+@dataclass(frozen=True)
+class PlanFile:
+    """The shape of a plan file (TOML): every key and its kind."""
+
+    step: tuple[_StepTable, ...] = ()
+    name: str | None = None
+    device: str | None = None
+    host_api: str | None = None
+    sample_rate_hz: float = 48_000.0
+    channels: int = 1
+    out_dir: str | None = None
+    analysis: PlanAnalysis = PlanAnalysis()
 
 
 @dataclass(frozen=True)
@@ -92,51 +128,42 @@ class Plan:
     sample_rate_hz: float = 48_000.0
     channels: int = 1
     out_dir: str | None = None
-    analysis: dict[str, Any] = field(default_factory=dict)
+    analysis: PlanAnalysis = PlanAnalysis()
 
 
 def load_plan(path: str | Path) -> Plan:
-    """Read and validate a plan file."""
+    """Read and validate a plan file: its shape (PlanFile), then what each value must be."""
     from ..capture import CONDITIONS
-    from ..io.toml_file import check_keys, read_toml
+    from ..codec import check_shape
+    from ..io.toml_file import number, read_toml
     path = Path(path)
-    data = read_toml(path, "plan")
-    check_keys(data, _TOP_KEYS, f"plan {path}")
-    check_keys(data.get("analysis", {}), _ANALYSIS_KEYS, f"plan {path} [analysis]")
+    shape = check_shape(PlanFile, read_toml(path, "plan"), f"plan {path}")
     steps = []
     names = set()
-    for i, st in enumerate(data.get("step", []), 1):
-        check_keys(st, _STEP_KEYS, f"plan {path} step {i}")
-        cond = st.get("condition")
-        if cond not in CONDITIONS:
-            raise ParameterError(f"plan {path} step {i}: condition {cond!r} is not one of {', '.join(CONDITIONS)}")
-        sec = st.get("seconds")
-        if not isinstance(sec, (int, float)) or not sec > 0:
-            raise ParameterError(f"plan {path} step {i}: seconds must be > 0")
-        cautions = tuple(st.get("cautions", _DEFAULT_CAUTIONS.get(cond, [])))
+    for i, st in enumerate(shape.step, 1):
+        where = f"plan {path} step {i}"
+        if st.condition not in CONDITIONS:
+            raise ParameterError(f"{where}: condition {st.condition!r} is not one of {', '.join(CONDITIONS)}")
+        seconds = number(st.seconds, where=where, key="seconds", low=0.0, high=86_400.0, low_open=True)
+        cautions = st.cautions if st.cautions is not None else tuple(_DEFAULT_CAUTIONS.get(st.condition, []))
         if set(cautions) - set(CAUTIONS):
-            raise ParameterError(f"plan {path} step {i}: cautions must be among {', '.join(CAUTIONS)}")
-        nums = _step_numbers(st, f"plan {path} step {i}")
-        step = PlanStep(cond, float(sec), str(st.get("prompt", "")), tone_hz=nums["tone_hz"],
-                        tone_input_vrms=nums["tone_input_vrms"], cautions=cautions, name=str(st.get("name", "")),
+            raise ParameterError(f"{where}: cautions must be among {', '.join(CAUTIONS)}")
+        nums = _step_numbers(st.__dict__, where)
+        step = PlanStep(st.condition, seconds, st.prompt, tone_hz=nums["tone_hz"],
+                        tone_input_vrms=nums["tone_input_vrms"], cautions=cautions, name=st.name,
                         rs_ohm=nums["rs_ohm"], temperature_k=nums["temperature_k"])
         if step.file_stem in names:
-            raise ParameterError(f"plan {path} step {i}: a second step named {step.file_stem!r}; give it a name")
+            raise ParameterError(f"{where}: a second step named {step.file_stem!r}; give it a name")
         names.add(step.file_stem)
         steps.append(step)
     if not steps:
         raise ParameterError(f"plan {path} has no [[step]]")
-    from ..io.toml_file import number
-    rate = number(data.get("sample_rate_hz", 48_000.0), where=f"plan {path}", key="sample_rate_hz", low=1000.0,
-                  high=1e7)
-    channels = number(data.get("channels", 1), where=f"plan {path}", key="channels", low=1, high=64)
-    if not isinstance(data.get("analysis", {}), dict):
-        raise ParameterError(f"plan {path}: [analysis] must be a table")
-    return Plan(str(data.get("name", path.stem)), tuple(steps), data.get("device"), data.get("host_api"),
-                rate, int(channels), data.get("out_dir"), dict(data.get("analysis", {})))
+    rate = number(shape.sample_rate_hz, where=f"plan {path}", key="sample_rate_hz", low=1000.0, high=1e7)
+    channels = number(shape.channels, where=f"plan {path}", key="channels", low=1, high=64)
+    return Plan(shape.name if shape.name is not None else path.stem, tuple(steps), shape.device, shape.host_api,
+                rate, int(channels), shape.out_dir, shape.analysis)
 
 
-# A step's numbers and the ranges they must lie in (None: not stated).
 _STEP_RANGES = {"tone_hz": (0.0, 1e7), "tone_input_vrms": (0.0, 1e3), "rs_ohm": (0.0, 1e9), "temperature_k": (0.0, 1e3)}
 
 
@@ -243,8 +270,8 @@ def step_metadata(plan: Plan, step: PlanStep) -> dict[str, float]:
 
     The floor is the analyzer alone, so it states no source resistance.
     """
-    rs = step.rs_ohm if step.rs_ohm is not None else plan.analysis.get("rs_ohm")
-    temperature = step.temperature_k if step.temperature_k is not None else plan.analysis.get("temperature_k")
+    rs = step.rs_ohm if step.rs_ohm is not None else plan.analysis.rs_ohm
+    temperature = step.temperature_k if step.temperature_k is not None else plan.analysis.temperature_k
     meta = {k: v for k, v in (("rs_ohm", rs), ("temperature_k", temperature),
                               ("tone_hz", step.tone_hz), ("tone_input_vrms", step.tone_input_vrms))
             if v is not None}
@@ -262,15 +289,14 @@ def analyse_plan(plan: Plan, plan_path: Path, files: dict[str, Path], folder: Pa
     if not {"terminated", "tone"} <= set(files):
         return "the plan has no terminated and tone steps: captures kept, not analysed"
     a = plan.analysis
-    if a.get("volts_per_fs") is None and not a.get("calibration"):
+    if a.volts_per_fs is None and not a.calibration:
         return "no calibration in the plan ([analysis] volts_per_fs or calibration): captures kept, not analysed"
     from ..measure.provenance import provenance
     from ..measure.requests import GainMethodRequest, run_gain_method
     result = run_gain_method(GainMethodRequest(
         terminated=(files["terminated"],), floor=files.get("floor"), shorted=files.get("shorted"),
-        tone=files["tone"], volts_per_fs=a.get("volts_per_fs"), calibration=a.get("calibration"),
-        rs_ohm=a.get("rs_ohm"), temperature_k=a.get("temperature_k"),
-        band_hz=tuple(a["band_hz"]) if a.get("band_hz") else None, weighting=a.get("weighting")))
-    read = [plan_path, *files.values(), *([Path(a["calibration"])] if a.get("calibration") else [])]
+        tone=files["tone"], volts_per_fs=a.volts_per_fs, calibration=a.calibration, rs_ohm=a.rs_ohm,
+        temperature_k=a.temperature_k, band_hz=a.band_hz, weighting=a.weighting))
+    read = [plan_path, *files.values(), *([Path(a.calibration)] if a.calibration else [])]
     writer.json(folder / "results.json", result.with_provenance(provenance(read, root=folder)).to_dict())
     return result

@@ -29,12 +29,6 @@ PROFILE_SCHEMA = "benchnf.profile/1"
 SCALAR_KEYS = SCALAR_FIGURES
 #: Spot quantities a mask may bound.
 MASK_QUANTITIES = ("input_density_v_per_rthz", "output_density_v_per_rthz", "noise_figure_db")
-_TOP = {"schema", "name", "notes", "conditions", "limit", "mask", "hum"}
-_CONDITIONS = {"rs_ohm", "band_hz", "weighting", "sample_rate_hz", "gain_setting", "temperature_k",
-               "floor_corrected"}
-_LIMIT = {"key", "min", "max", "target", "tolerance", "note"}
-_MASK = {"quantity", "points", "note"}
-_HUM = {"family", "max_output_vrms", "note"}
 
 
 def _finite(value: Any, what: str) -> float:
@@ -147,73 +141,98 @@ class Profile:
         return tomli_w.dumps({k: v for k, v in data.items() if v != []})
 
 
-def _check_keys(table: dict, allowed: set, where: str) -> None:
-    from ..io.toml_file import check_keys
-    check_keys(table, allowed, f"profile {where}")
-
-
 def load_profile(path: str | Path) -> Profile:
     """Read and validate a profile file."""
     from ..io.toml_file import read_toml
     return profile_from_data(read_toml(path, "profile"), where=Path(path))
 
 
+@dataclass(frozen=True)
+class _LimitTable:
+    key: str
+    min: float | None = None
+    max: float | None = None
+    target: float | None = None
+    tolerance: float | None = None
+    note: str = ""
+
+
+@dataclass(frozen=True)
+class _MaskTable:
+    points: tuple[tuple[float, float], ...]
+    quantity: str = "input_density_v_per_rthz"
+    note: str = ""
+
+
+@dataclass(frozen=True)
+class _HumTable:
+    family: str
+    max_output_vrms: float
+    note: str = ""
+
+
+@dataclass(frozen=True)
+class _Conditions:
+    rs_ohm: float | None = None
+    band_hz: tuple[float, float] | None = None
+    weighting: str | None = None
+    sample_rate_hz: float | None = None
+    gain_setting: str | None = None
+    temperature_k: float | None = None
+    floor_corrected: bool | None = None
+
+
+@dataclass(frozen=True)
+class ProfileFile:
+    """The shape of a profile file (TOML): every key, its kind (the profile's JSON Schema is made from it)."""
+
+    schema: str
+    name: str | None = None
+    notes: str = ""
+    conditions: _Conditions = _Conditions()
+    limit: tuple[_LimitTable, ...] = ()
+    mask: tuple[_MaskTable, ...] = ()
+    hum: tuple[_HumTable, ...] = ()
+
+
+def _limit(lim: _LimitTable, where: str) -> ScalarLimit:
+    lo, hi = (_finite(lim.min, "min") if lim.min is not None else None,
+              _finite(lim.max, "max") if lim.max is not None else None)
+    if lim.target is not None:
+        if lo is not None or hi is not None:
+            raise ParameterError(f"{where}: give target/tolerance or min/max, not both")
+        if lim.tolerance is None or not _finite(lim.tolerance, "tolerance") >= 0:
+            raise ParameterError(f"{where}: a target needs a tolerance >= 0")
+        lo, hi = _finite(lim.target, "target") - lim.tolerance, lim.target + lim.tolerance
+    return ScalarLimit(lim.key, lo, hi, lim.note)
+
+
 def profile_from_data(data: dict[str, Any], *, where: str | Path) -> Profile:
-    """Validate the parsed TOML of a profile (`where` names it in messages)."""
+    """Validate the parsed TOML of a profile (`where` names it in messages): its shape (ProfileFile), then
+    what the values must be (known figures, possible limits, increasing mask points)."""
+    from ..codec import check_shape
     path = where
-    _check_keys(data, _TOP, str(path))
-    if data.get("schema") != PROFILE_SCHEMA:
-        raise ParameterError(f"profile {path}: schema {data.get('schema')!r} is not {PROFILE_SCHEMA!r}")
-    cond = data.get("conditions", {})
-    _check_keys(cond, _CONDITIONS, f"{path} [conditions]")
-    if "band_hz" in cond:
-        b = cond["band_hz"]
-        if not (isinstance(b, list) and len(b) == 2 and 0 <= _finite(b[0], "band") < _finite(b[1], "band")):
-            raise ParameterError(f"profile {path}: band_hz must be [low, high] with 0 <= low < high")
-    if "rs_ohm" in cond and not _finite(cond["rs_ohm"], "rs_ohm") > 0:
+    shape = check_shape(ProfileFile, data, f"profile {path}")
+    if shape.schema != PROFILE_SCHEMA:
+        raise ParameterError(f"profile {path}: schema {shape.schema!r} is not {PROFILE_SCHEMA!r}")
+    c = shape.conditions
+    if c.band_hz is not None and not (0 <= _finite(c.band_hz[0], "band") < _finite(c.band_hz[1], "band")):
+        raise ParameterError(f"profile {path}: band_hz must be [low, high] with 0 <= low < high")
+    if c.rs_ohm is not None and not _finite(c.rs_ohm, "rs_ohm") > 0:
         raise ParameterError(f"profile {path}: rs_ohm must be > 0")
-    limits = []
-    for i, lim in enumerate(data.get("limit", []), 1):
-        _check_keys(lim, _LIMIT, f"{path} limit {i}")
-        lo = _finite(lim["min"], "min") if "min" in lim else None
-        hi = _finite(lim["max"], "max") if "max" in lim else None
-        if "target" in lim:
-            if lo is not None or hi is not None:
-                raise ParameterError(f"profile {path} limit {i}: give target/tolerance or min/max, not both")
-            target = _finite(lim["target"], "target")
-            tol = _finite(lim.get("tolerance", -1), "tolerance")
-            if not tol >= 0:
-                raise ParameterError(f"profile {path} limit {i}: a target needs a tolerance >= 0")
-            lo, hi = target - tol, target + tol
-        try:
-            limits.append(ScalarLimit(str(lim.get("key")), lo, hi, str(lim.get("note", ""))))
-        except ParameterError as err:
-            raise ParameterError(f"profile {path}: {err}") from None
-    masks = []
-    for i, m in enumerate(data.get("mask", []) if isinstance(data.get("mask"), list) else [data.get("mask")]
-                          if data.get("mask") else [], 1):
-        _check_keys(m, _MASK, f"{path} mask {i}")
-        pts = m.get("points")
-        if not isinstance(pts, list) or not all(isinstance(p, list) and len(p) == 2 for p in pts):
-            raise ParameterError(f"profile {path} mask {i}: points must be [[frequency_hz, limit], ...]")
-        try:
-            masks.append(Mask(str(m.get("quantity", "input_density_v_per_rthz")),
-                              tuple(_finite(p[0], "mask frequency") for p in pts),
-                              tuple(_finite(p[1], "mask limit") for p in pts), str(m.get("note", ""))))
-        except ParameterError as err:
-            raise ParameterError(f"profile {path}: {err}") from None
-    hum = []
-    for i, h in enumerate(data.get("hum", []), 1):
-        _check_keys(h, _HUM, f"{path} hum {i}")
-        try:
-            hum.append(HumLimit(str(h.get("family")), _finite(h.get("max_output_vrms"), "max_output_vrms"),
-                                str(h.get("note", ""))))
-        except ParameterError as err:
-            raise ParameterError(f"profile {path}: {err}") from None
+    try:
+        limits = [_limit(lim, f"profile {path} limit {i}") for i, lim in enumerate(shape.limit, 1)]
+        masks = [Mask(m.quantity, tuple(_finite(f, "mask frequency") for f, _ in m.points),
+                      tuple(_finite(v, "mask limit") for _, v in m.points), m.note) for m in shape.mask]
+        hum = [HumLimit(h.family, _finite(h.max_output_vrms, "max_output_vrms"), h.note) for h in shape.hum]
+    except ParameterError as err:
+        text = str(err)
+        raise ParameterError(text if text.startswith("profile ") else f"profile {path}: {text}") from None
     if not (limits or masks or hum):
         raise ParameterError(f"profile {path} holds no limits")
-    return Profile(str(data.get("name", Path(path).stem)), dict(cond), tuple(limits), tuple(masks), tuple(hum),
-                   str(data.get("notes", "")), str(path))
+    cond = {k: (list(v) if isinstance(v, tuple) else v) for k, v in c.__dict__.items() if v is not None}
+    return Profile(shape.name if shape.name is not None else Path(path).stem, cond, tuple(limits), tuple(masks),
+                   tuple(hum), shape.notes, str(path))
 
 
 #: A mask point needs a one-third-octave band this many spectrum bins wide: over fewer, a spot value's own

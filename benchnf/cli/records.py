@@ -26,11 +26,13 @@ def add_parser(sub: Any) -> None:
     a = acts.add_parser("list", help="one line per check, filtered")
     a.add_argument("--serial", metavar="SERIAL")
     a.add_argument("--station", metavar="NAME")
-    a.add_argument("--verdict", choices=["PASS", "MARGINAL", "FAIL", "ERROR"])
+    a.add_argument("--verdict", choices=["PASS", "MARGINAL", "FAIL", "ERROR", "MEASURED"])
     a.add_argument("--since", metavar="ISO-TIME", help="e.g. 2026-12-01 or 2026-12-01T08:00")
     a.add_argument("--until", metavar="ISO-TIME")
     a = acts.add_parser("show", help="one unit's history: every check and what changed between them")
     a.add_argument("serial", metavar="SERIAL")
+    a.add_argument("--results", action="store_true",
+                   help="also show the result kept with each record, as the command that made it shows it")
     a = acts.add_parser("export", help="one row per check, one column per limit (CSV, or Parquet for "
                                        "FILE.parquet where pyarrow is installed)")
     a.add_argument("-o", "--output", type=Path, required=True, metavar="FILE.csv|FILE.parquet")
@@ -92,7 +94,24 @@ def _show(store: Any, args: argparse.Namespace, writer: Writer) -> int:
                       else f"  ({lim['measured'] - prev:+.3g} since the check before)")
             print(f"    {lim['name'][:44]:44s} {_fmt(lim['measured']):>11} {lim['unit']:4s} {lim['verdict']}{change}")
             before[lim["name"]] = lim["measured"]
+        if args.results:
+            _show_result(store.result_of(r["id"]))
     return ExitStatus.OK
+
+
+def _show_result(result: Any) -> None:
+    """A kept result through its measurement's one presentation (any registered kind)."""
+    if result is None:
+        print("    (no result kept with this record)")
+        return
+    from .. import registry
+    from ..report.render_text import render_text
+    if result.KIND == "check":
+        from ..report.present_check import present
+        view = present(result)
+    else:
+        view = registry.measurement(result.KIND).part("present")(result)
+    print("\n".join("    " + line for line in render_text(view).splitlines()))
 
 
 def _export(store: Any, args: argparse.Namespace, writer: Writer) -> int:

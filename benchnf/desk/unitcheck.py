@@ -8,7 +8,6 @@ The analysis, the check, the report page and the record are the command line's
 from __future__ import annotations
 
 import datetime as _dt
-import re
 from pathlib import Path
 from typing import Any
 
@@ -16,16 +15,7 @@ from ..errors import BenchError
 
 __all__ = ["check_unit_from_desk", "earlier_checks", "serial_ok"]
 
-_SERIAL = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$")
-
-
-def serial_ok(serial: str) -> str:
-    """A serial as typed or scanned: letters, digits, ``.``, ``_``, ``-``; at most 64 characters."""
-    serial = (serial or "").strip()
-    if not _SERIAL.match(serial):
-        raise BenchError(f"serial {serial!r}: use letters, digits, '.', '_' or '-' (at most 64), starting with a "
-                         f"letter or digit")
-    return serial
+from ..records.entry import serial_ok
 
 
 def _outcome(serial: str, source: Path, profile_path: Path, settings: Any) -> tuple[Any, Any, Any]:

@@ -10,7 +10,7 @@ from typing import Any
 
 from ..codec import FormatError, describe
 
-__all__ = ["SCHEMAS", "schema", "validate"]
+__all__ = ["SCHEMAS", "schema", "shipped", "validate"]
 
 SCHEMAS = Path(__file__).resolve().parent.parent / "schemas"
 
@@ -21,6 +21,10 @@ def schema(name: str) -> dict[str, Any]:
     return json.loads((SCHEMAS / name).read_text(encoding="utf-8"))
 
 
+def shipped(name: str) -> bool:
+    return (SCHEMAS / name).is_file()
+
+
 @lru_cache(maxsize=None)
 def _validator(name: str) -> Any:
     import jsonschema
@@ -29,6 +33,13 @@ def _validator(name: str) -> Any:
         (f"benchnf/{p.name}", Resource.from_contents(json.loads(p.read_text(encoding="utf-8"))))
         for p in SCHEMAS.glob("*.json"))
     return jsonschema.Draft202012Validator(schema(name), registry=registry)
+
+
+def _validator_for(schema_or_name: str | dict[str, Any]) -> Any:
+    if isinstance(schema_or_name, str):
+        return _validator(schema_or_name)
+    import jsonschema
+    return jsonschema.Draft202012Validator(schema_or_name)
 
 
 def _place(error: Any) -> str:
@@ -59,10 +70,11 @@ def _expected(error: Any) -> str:
     return f"what the schema's {rule!r} rule allows"
 
 
-def validate(data: Any, name: str, *, where: str) -> None:
-    """Refuse `data` that does not fit the shipped schema `name` (FormatError, one line)."""
+def validate(data: Any, name: str | dict[str, Any], *, where: str) -> None:
+    """Refuse `data` that does not fit the shipped schema `name` (or a schema given as a dict: a measurement
+    registered without a shipped schema file) with one FormatError line."""
     from jsonschema.exceptions import best_match
-    error = best_match(_validator(name).iter_errors(data))
+    error = best_match(_validator_for(name).iter_errors(data))
     if error is None:
         return
     if error.validator == "required":

@@ -9,6 +9,8 @@ one recording (alternating noise-source states).
 
 from __future__ import annotations
 
+import re
+
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -66,20 +68,72 @@ class IqCapture:
                 for lab, s, c in self.segments if lab == label]
 
 
+_DATATYPE = re.compile(r"^(c|r)(f64|f32|i32|i16|u32|u16|i8|u8)(_le|_be)?$")
+_SAMPLE_BYTES = {"64": 8, "32": 4, "16": 2, "8": 1}
+
+
+def _fail(meta_path: Path, what: str) -> CaptureError:
+    return CaptureError(f"{meta_path}: {what} (SigMF core); correct the metadata or record again")
+
+
+def _is_int(v: Any, low: int = 0) -> bool:
+    return isinstance(v, int) and not isinstance(v, bool) and v >= low
+
+
 def _check_meta_shape(meta_path: Path) -> None:
-    """The metadata's outline (global object, captures and annotations lists of objects) before the sigmf
-    library reads it: that library fails with a bare AttributeError on some malformed files."""
+    """The metadata's outline and every value benchnf uses, before the sigmf library reads it (that library
+    fails with bare errors on some malformed files): a global object with a string datatype, a whole number of
+    channels, a positive sample rate; captures and annotations as lists of objects with whole-number starts and
+    counts; and a data file that holds a whole number of samples of the stated type."""
     import json
     try:
         meta = json.loads(meta_path.read_text(encoding="utf-8"))
     except (OSError, UnicodeDecodeError, ValueError) as err:
         raise CaptureError(f"{meta_path} is not a readable SigMF recording ({err})") from err
     if not isinstance(meta, dict) or not isinstance(meta.get("global"), dict):
-        raise CaptureError(f"{meta_path}: the SigMF metadata must be an object with a 'global' object")
-    for key in ("captures", "annotations"):
+        raise _fail(meta_path, "the SigMF metadata must be an object with a 'global' object")
+    g = meta["global"]
+    datatype = g.get("core:datatype")
+    if not (isinstance(datatype, str) and _DATATYPE.match(datatype)):
+        raise _fail(meta_path, f"core:datatype {datatype!r} is not a SigMF sample type such as cf32_le or ci16_le")
+    channels = g.get("core:num_channels", 1)
+    if not _is_int(channels, 1):
+        raise _fail(meta_path, f"core:num_channels {channels!r} must be a whole number >= 1")
+    if channels != 1:
+        raise CaptureError(f"{meta_path}: {channels} channels; benchnf reads one-channel IQ recordings: record one "
+                           f"receiver channel per file")
+    rate = g.get("core:sample_rate")
+    if rate is not None and not (isinstance(rate, (int, float)) and not isinstance(rate, bool) and rate > 0):
+        raise _fail(meta_path, f"core:sample_rate {rate!r} must be a number > 0")
+    for key, fields in (("captures", ("core:sample_start",)), ("annotations", ("core:sample_start", "core:sample_count"))):
         rows = meta.get(key, [])
         if not (isinstance(rows, list) and all(isinstance(r, dict) for r in rows)):
-            raise CaptureError(f"{meta_path}: '{key}' must be a list of objects (SigMF core)")
+            raise _fail(meta_path, f"'{key}' must be a list of objects")
+        for row in rows:
+            for f in fields:
+                if f in row and not _is_int(row[f]):
+                    raise _fail(meta_path, f"{key} {f} {row[f]!r} must be a whole number >= 0")
+            freq = row.get("core:frequency")
+            if freq is not None and not (isinstance(freq, (int, float)) and not isinstance(freq, bool)):
+                raise _fail(meta_path, f"{key} core:frequency {freq!r} must be a number")
+            if "core:label" in row and not isinstance(row["core:label"], str):
+                raise _fail(meta_path, f"{key} core:label {row['core:label']!r} must be text")
+    _check_data_size(meta_path, datatype, channels)
+
+
+def _check_data_size(meta_path: Path, datatype: str, channels: int) -> None:
+    """Refuse a sample type that does not fit the data: the file must hold whole samples of it."""
+    data_path = meta_path.with_name(meta_path.name[: -len(".sigmf-meta")] + ".sigmf-data")
+    if not data_path.is_file():
+        return  # the sigmf library names the missing data file
+    match = _DATATYPE.match(datatype)
+    if match is None:
+        return
+    per_sample = _SAMPLE_BYTES[match.group(2)[1:]] * (2 if datatype.startswith("c") else 1)
+    size = data_path.stat().st_size
+    if size % (per_sample * channels):
+        raise _fail(meta_path, f"the data file holds {size} bytes, not a whole number of {datatype} samples "
+                               f"({per_sample * channels} bytes each): the stated sample type does not fit the data")
 
 
 def open_sigmf(path: str | Path) -> IqCapture:
@@ -97,7 +151,7 @@ def open_sigmf(path: str | Path) -> IqCapture:
     except (errors.SigMFError, ValueError, OSError, KeyError) as err:
         raise CaptureError(f"{meta_path} is not a readable SigMF recording ({err})") from err
     g = rec.get_global_info()
-    datatype = str(g.get("core:datatype", ""))
+    datatype = str(g["core:datatype"])
     if not datatype.startswith("c"):
         raise CaptureError(f"{meta_path.name}: datatype {datatype!r} is not complex IQ; benchnf reads "
                            f"complex SigMF recordings (cf32_le, ci16_le, ...)")

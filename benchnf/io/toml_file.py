@@ -22,7 +22,10 @@ def read_toml(path: str | Path, what: str) -> dict[str, Any]:
         return tomllib.loads(path.read_text(encoding="utf-8"))
     except FileNotFoundError:
         raise ParameterError(f"{what} {path}: no such file") from None
-    except (OSError, tomllib.TOMLDecodeError, UnicodeDecodeError) as err:
+    except UnicodeDecodeError as err:
+        raise ParameterError(f"{what} {path} is not UTF-8 text (byte {err.object[err.start]:#04x} at {err.start}): "
+                             f"save it as UTF-8") from err
+    except (OSError, tomllib.TOMLDecodeError) as err:
         raise ParameterError(f"{what} {path} is not valid TOML ({err})") from err
 
 

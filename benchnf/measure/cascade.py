@@ -85,10 +85,24 @@ def run_cascade(req: CascadeRequest, *, progress: Any = None) -> CascadePredicti
         index = int(target) - 1 if target.isdigit() else (names.index(target) if target in names else -1)
         if not 0 <= index < len(names):
             raise BenchError(f"--what-if: no stage {target!r} (stages: {', '.join(names)}, or 1..{len(names)})")
-        _, other = what_if(chain, index, stage_with(chain.stages[index], _changes(req.what_if_changes)))
-        alternative = WhatIf(f"{names[index]} had " + ", ".join(req.what_if_changes), other)
+        changes = _changes(req.what_if_changes)
+        _, other = what_if(chain, index, stage_with(chain.stages[index], changes))
+        alternative = WhatIf(f"{names[index]} had " + ", ".join(_words(k, v) for k, v in changes.items()), other)
     return CascadePrediction(**{f: getattr(result, f) for f in result.__dataclass_fields__},
                              where_to_spend=spend, improve_db=req.improve_db, what_if=alternative)
+
+
+_WORDS = {"gain_db": ("gain", "dB"), "nf_db": ("a noise figure of", "dB"), "te_k": ("a noise temperature of", "K"),
+          "loss_db": ("a loss of", "dB"), "temperature_k": ("a temperature of", "K"),
+          "en_v_per_rthz": ("en", "V/√Hz"), "in_a_per_rthz": ("in", "A/√Hz"), "output_ohm": ("an output resistance of", "Ω")}
+
+
+def _words(key: str, value: float) -> str:
+    """A swapped stage value in words: ``a noise figure of 1.20 dB``, ``en 0.300 nV/√Hz``."""
+    from ..noise.cascade import WHAT_IF_KEYS
+    from ..quantity import Quantity
+    label, unit = _WORDS[WHAT_IF_KEYS[key]]
+    return f"{label} {Quantity(value, unit).text()}"
 
 
 def _changes(pairs: tuple[str, ...]) -> dict[str, float]:

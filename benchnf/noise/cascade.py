@@ -45,9 +45,6 @@ from ..units import BOLTZMANN_J_PER_K, T0_K
 __all__ = ["Stage", "Chain", "CascadeResult", "StageShare", "load_chain", "friis", "voltage_cascade",
            "where_to_spend", "what_if", "predict", "stage_with", "WHAT_IF_KEYS"]
 
-_STAGE_KEYS = {"name", "gain_db", "gain_linear", "voltage_gain_db", "nf_db", "te_k", "loss_db", "temperature_k",
-               "en_v_per_rthz", "in_a_per_rthz", "output_ohm", "source", "notes"}
-_CHAIN_KEYS = {"name", "source_ohm", "temperature_k", "stage", "notes"}
 
 
 @dataclass(frozen=True)
@@ -165,35 +162,59 @@ def _check_stage_numbers(st: dict[str, Any], where: str) -> None:
             st[key] = number(st[key], where=where, key=key, low=low, high=high)
 
 
+@dataclass(frozen=True)
+class _StageTable:
+    name: str | None = None
+    gain_db: float | None = None
+    gain_linear: float | None = None
+    voltage_gain_db: float | None = None
+    nf_db: float | None = None
+    te_k: float | None = None
+    loss_db: float | None = None
+    temperature_k: float | None = None
+    en_v_per_rthz: float | None = None
+    in_a_per_rthz: float | None = None
+    output_ohm: float | None = None
+    source: str | None = None
+    notes: str | None = None
+
+
+@dataclass(frozen=True)
+class ChainFile:
+    """The shape of a chain file (TOML, docs/cascade.md)."""
+
+    stage: tuple[_StageTable, ...]
+    name: str | None = None
+    source_ohm: float | None = None
+    temperature_k: float | None = None
+    notes: str | None = None
+
+
 def load_chain(path: str | Path) -> Chain:
     """Read a chain file (TOML, docs/cascade.md): ``[[stage]]`` tables in order."""
-    from ..io.toml_file import check_keys, read_toml
+    from ..codec import check_shape
+    from ..io.toml_file import number, read_toml
     path = Path(path)
-    data = read_toml(path, "chain file")
-    check_keys(data, _CHAIN_KEYS, f"chain file {path}")
-    raw = data.get("stage")
-    if not isinstance(raw, list) or not raw:
+    where = f"chain file {path}"
+    shape = check_shape(ChainFile, read_toml(path, "chain file"), where)
+    if not shape.stage:
         raise ParameterError(f"chain file {path} has no [[stage]] tables")
     stages = []
-    for i, st in enumerate(raw, 1):
-        check_keys(st, _STAGE_KEYS, f"chain file {path}, stage {i}")
-        st = dict(st)
-        st.pop("notes", None)
+    for i, table in enumerate(shape.stage, 1):
+        st = {k: v for k, v in table.__dict__.items() if v is not None and k != "notes"}
         if "gain_linear" in st:
-            g = st.pop("gain_linear")
-            if not (isinstance(g, (int, float)) and g > 0):
-                raise ParameterError(f"chain file {path}, stage {i}: gain_linear {g!r} must be > 0")
+            g = number(st.pop("gain_linear"), where=f"{where}, stage {i}", key="gain_linear", low=0.0, low_open=True)
             st["gain_db"] = 10 * math.log10(g)
         if "voltage_gain_db" in st:
             st["gain_db"] = st.pop("voltage_gain_db")
         st.setdefault("name", f"stage {i}")
-        _check_stage_numbers(st, f"chain file {path}, stage {i}")
-        try:
-            stages.append(Stage(**st))
-        except TypeError as err:
-            raise ParameterError(f"chain file {path}, stage {i}: {err}") from err
-    return Chain(tuple(stages), data.get("source_ohm"), float(data.get("temperature_k", T0_K)),
-                 str(data.get("name", path.stem)))
+        _check_stage_numbers(st, f"{where}, stage {i}")
+        stages.append(Stage(**st))
+    temperature = number(shape.temperature_k if shape.temperature_k is not None else T0_K, where=where,
+                         key="temperature_k", low=0.0, high=1e4, low_open=True)
+    source = (number(shape.source_ohm, where=where, key="source_ohm", low=0.0, low_open=True)
+              if shape.source_ohm is not None else None)
+    return Chain(tuple(stages), source, temperature, shape.name if shape.name is not None else path.stem)
 
 
 @dataclass(frozen=True)

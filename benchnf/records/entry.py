@@ -10,7 +10,19 @@ from typing import Any
 from ..measure.provenance import operator_name, station_name
 from .store import CheckRecord, LimitRow
 
-__all__ = ["check_record", "file_sha256"]
+__all__ = ["check_record", "measurement_record", "file_sha256", "serial_ok"]
+
+_SERIAL = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$")
+
+
+def serial_ok(serial: str) -> str:
+    """A serial as typed or scanned: letters, digits, ``.``, ``_``, ``-``; at most 64 characters."""
+    from ..errors import BenchError
+    serial = (serial or "").strip()
+    if not _SERIAL.match(serial):
+        raise BenchError(f"serial {serial!r}: use letters, digits, '.', '_' or '-' (at most 64), starting with a "
+                         f"letter or digit")
+    return serial
 
 
 def file_sha256(path: str | Path) -> str | None:
@@ -47,3 +59,13 @@ def check_record(check: Any, *, serial: str, verdict: str, results: Any, profile
                        software=f"benchnf {__version__}", limits=rows,
                        results=results.to_dict() if results is not None else None,
                        check=check.to_dict() if check is not None else None)
+
+
+def measurement_record(result: Any, *, serial: str, station: str | None = None,
+                       operator: str | None = None) -> CheckRecord:
+    """The record of a measurement kept without a check (``--record SERIAL``): verdict MEASURED, no limits,
+    the typed result (any registered kind) kept whole as its JSON."""
+    from .. import __version__
+    return CheckRecord(serial=serial_ok(serial), verdict="MEASURED", profile_name="", profile_sha256=None,
+                       station=station_name(station), operator=operator_name(operator),
+                       software=f"benchnf {__version__}", limits=(), results=result.to_dict(), check=None)

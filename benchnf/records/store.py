@@ -171,15 +171,50 @@ class Store:
         q = self._sa.select(self._limits.c.name).distinct().order_by(self._limits.c.name)
         return [r["name"] for r in self._rows(q)]
 
+    def result_of(self, check_id: int) -> Any:
+        """The typed result kept with a record (any registered kind), validated by its schema; None if none."""
+        q = self._sa.select(self._checks.c.results_json).where(self._checks.c.id == check_id)
+        rows = self._rows(q)
+        text = rows[0]["results_json"] if rows else None
+        if text is None:
+            return None
+        from ..registry import result_from_dict
+        where = f"the results kept with record {check_id} in {shown_url(self.url)}"
+        try:
+            return result_from_dict(json.loads(text), where=where)
+        except ValueError as err:  # not JSON, or not a result of ours (FormatError is a ValueError)
+            raise RecordsError(f"{err}" if isinstance(err, BenchError) else f"{where} is not JSON ({err})") from err
+
     def _rows(self, query: Any) -> list[dict[str, Any]]:
         try:
             with self.engine.connect() as conn:
-                return [dict(r._mapping) for r in conn.execute(query)]
+                rows = [dict(r._mapping) for r in conn.execute(query)]
         except self._sa.exc.SQLAlchemyError as err:
             raise RecordsError(f"cannot read the records database {shown_url(self.url)}: {_first_line(err)}") from err
+        for row in rows:
+            _check_row(row, self.url)
+        return rows
 
     def close(self) -> None:
         self.engine.dispose()
+
+
+_NUMBERS = ("measured", "lower", "upper", "margin", "uncertainty")
+_TEXTS = ("serial", "verdict", "checked_at", "station", "profile_name", "name", "unit", "limit_text", "software")
+
+
+def _check_row(row: dict[str, Any], url: str) -> None:
+    """Every value read is of its column's kind: a database edited outside benchnf is refused in one line."""
+    import math
+    for key, value in row.items():
+        bad = ((key in _NUMBERS and value is not None and (isinstance(value, bool) or not isinstance(value, (int, float))
+                                                             or not math.isfinite(value)))
+               or (key in _TEXTS and value is not None and not isinstance(value, str)))
+        if bad:
+            which = row.get("check_id") or row.get("id") or row.get("serial", "?")
+            kind = "number" if key in _NUMBERS else "text"
+            raise RecordsError(f"the records database {shown_url(url)} holds {value!r} in {key} (record {which}), not "
+                               f"a {kind}: it was changed outside benchnf; correct or remove that record")
 
 
 def _first_line(err: BaseException) -> str:
