@@ -89,7 +89,7 @@ class Capture:
     metadata: Mapping[str, Any] = field(default_factory=dict)
     path: Path | None = None
     quantum_fs: float | None = None
-    _reader: Callable[[int, int, BlockSink | None], Iterator[NDArray[np.float64]]] | None = field(
+    _reader: Callable[[int, int, BlockSink | None, int, int], Iterator[NDArray[np.float64]]] | None = field(
         default=None, repr=False, compare=False)
 
     def __post_init__(self) -> None:
@@ -119,9 +119,10 @@ class Capture:
         data = data.copy()
         data.setflags(write=False)
 
-        def reader(block_frames: int, ch: int, into: BlockSink | None) -> Iterator[NDArray[np.float64]]:
-            for start in range(0, data.shape[0], block_frames):
-                yield deliver(data[start:start + block_frames, ch], into)
+        def reader(block_frames: int, ch: int, into: BlockSink | None, first: int,
+                   stop: int) -> Iterator[NDArray[np.float64]]:
+            for start in range(first, stop, block_frames):
+                yield deliver(data[start:min(start + block_frames, stop), ch], into)
 
         return cls(float(sample_rate_hz), int(data.shape[0]), int(channel), int(data.shape[1]),
                    volts_per_fs, condition, dict(metadata or {}), None, _reader=reader)
@@ -144,8 +145,10 @@ class Capture:
         return f"{self.condition or 'array'} capture"
 
     def blocks(self, block_frames: int = DEFAULT_BLOCK_FRAMES, *, channel: int | None = None,
-               into: BlockSink | None = None) -> Iterator[NDArray[np.float64]]:
-        """Yield the samples of one channel (default: this capture's) in float64 blocks.
+               into: BlockSink | None = None, start: int = 0, stop: int | None = None
+               ) -> Iterator[NDArray[np.float64]]:
+        """Yield the samples of one channel (default: this capture's) in float64 blocks, from frame
+        `start` up to `stop` (default the end).
 
         With `into`, each block is written into the array ``into(n)`` returns (e.g.
         :meth:`benchnf.dsp.spectrum.WelchAccumulator.reserve`) and that array is yielded, so
@@ -158,7 +161,10 @@ class Capture:
         if not 0 <= ch < self.n_channels:
             raise ParameterError(f"channel {ch} does not exist in {self.label} "
                                  f"({self.n_channels} channel(s), numbered from 0)")
-        return self._reader(int(block_frames), ch, into)
+        stop = self.n_frames if stop is None else min(int(stop), self.n_frames)
+        if not 0 <= start <= stop:
+            raise ParameterError(f"frames {start} to {stop} lie outside {self.label} ({self.n_frames} frames)")
+        return self._reader(int(block_frames), ch, into, int(start), stop)
 
     def read(self, *, channel: int | None = None, max_frames: int | None = None) -> NDArray[np.float64]:
         """Return the samples of one channel as one array (at most `max_frames`)."""
@@ -198,6 +204,14 @@ class SampleStats:
     peak_fs: float = 0.0
     n_clipped: int = 0
     n_nonfinite: int = 0
+
+    def merge(self, other: "SampleStats") -> None:
+        """Add what another part of the same capture counted (parts read in parallel)."""
+        self.n += other.n
+        self.sum_sq_fs2 += other.sum_sq_fs2
+        self.peak_fs = max(self.peak_fs, other.peak_fs)
+        self.n_clipped += other.n_clipped
+        self.n_nonfinite += other.n_nonfinite
 
     def update(self, block: NDArray[np.float64]) -> None:
         """Add one block of samples."""

@@ -3,16 +3,53 @@
 The one loop every noise analysis runs over a file: each block is decoded straight into the
 spectrum's buffer (:meth:`benchnf.capture.Capture.blocks` with ``into``), counted for
 clipping, silence and damage, and reported to a progress callback.
+
+A long capture is read in as many parts as the machine has cores (two threads on two cores): each part
+covers whole Welch segments and counts only its own samples, and the parts' sums are added, so the result
+is the single pass's to rounding. Decoding, the FFTs and the sums release the GIL, so threads share the work
+(measured: two parts on two cores 1.7 times one; benchmarks/bench_startup.py).
 """
 
 from __future__ import annotations
 
+import os
+import threading
 from collections.abc import Callable
 
 from .capture import Capture, SampleStats
 from .dsp.spectrum import WelchAccumulator
 
-__all__ = ["stream_spectrum"]
+__all__ = ["stream_spectrum", "PARALLEL_MIN_SEGMENTS"]
+
+#: Segments below which a capture is read in one part (the split would cost more than it saves).
+PARALLEL_MIN_SEGMENTS = 512
+
+
+def _parts(capture: Capture, segment_length: int, hop: int) -> list[tuple[int, int, int]]:
+    """(first frame, last frame read, last frame counted) of each part: whole segments, the parts' counted
+    frames adjoining and covering the capture."""
+    n_seg = (capture.n_frames - segment_length) // hop + 1 if capture.n_frames >= segment_length else 0
+    workers = min(os.cpu_count() or 1, 2) if n_seg >= PARALLEL_MIN_SEGMENTS and capture.n_frames else 1
+    edges = [round(k * n_seg / workers) for k in range(workers + 1)]
+    parts = []
+    for k in range(workers):
+        first = edges[k] * hop
+        last = edges[k + 1] * hop if k < workers - 1 else capture.n_frames
+        read_to = (edges[k + 1] - 1) * hop + segment_length if k < workers - 1 else capture.n_frames
+        parts.append((first, read_to, last))
+    return parts
+
+
+def _one_part(capture: Capture, acc: WelchAccumulator, stats: SampleStats, first: int, read_to: int,
+              counted_to: int, progress: Callable[[int], None] | None) -> None:
+    at = first
+    for block in capture.blocks(into=acc.reserve, start=first, stop=read_to):
+        own = block[: max(0, counted_to - at)]
+        stats.update(own)
+        acc.commit(block.size)
+        at += block.size
+        if progress is not None:
+            progress(own.size)
 
 
 def stream_spectrum(capture: Capture, *, segment_length: int, window: str = "hann",
@@ -25,12 +62,37 @@ def stream_spectrum(capture: Capture, *, segment_length: int, window: str = "han
     `energy` keeps the statistics' sum of squares (its RMS level); a caller that needs no
     level saves a pass over the samples without it.
     """
-    stats = SampleStats(label=capture.label, energy=energy)
-    acc = WelchAccumulator(sample_rate_hz=capture.sample_rate_hz, segment_length=segment_length,
-                           window=window)
-    for block in capture.blocks(into=acc.reserve):
-        stats.update(block)
-        acc.commit(block.size)
+    def fresh() -> tuple[WelchAccumulator, SampleStats]:
+        return (WelchAccumulator(sample_rate_hz=capture.sample_rate_hz, segment_length=segment_length, window=window),
+                SampleStats(label=capture.label, energy=energy))
+    acc, stats = fresh()
+    parts = _parts(capture, segment_length, acc.hop)
+    if len(parts) == 1:
+        _one_part(capture, acc, stats, *parts[0], progress)
+        return acc, stats
+    lock = threading.Lock()
+
+    def tick(n: int) -> None:
         if progress is not None:
-            progress(block.size)
+            with lock:
+                progress(n)
+    workers = [fresh() for _ in parts]
+    errors: list[BaseException] = []
+
+    def run(k: int) -> None:
+        try:
+            _one_part(capture, *workers[k], *parts[k], tick)
+        except BaseException as err:  # handed to the caller's thread below
+            errors.append(err)
+    threads = [threading.Thread(target=run, args=(k,), name=f"benchnf-part-{k}") for k in range(1, len(parts))]
+    for t in threads:
+        t.start()
+    run(0)
+    for t in threads:
+        t.join()
+    if errors:
+        raise errors[0]
+    for part_acc, part_stats in workers:
+        acc.merge(part_acc)
+        stats.merge(part_stats)
     return acc, stats

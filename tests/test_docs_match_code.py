@@ -32,8 +32,13 @@ def test_the_analyze_help_quotes_the_same_default(capsys):
 
 
 def test_the_plan_keys_documented_are_the_plan_keys():
+    import dataclasses
+
     from benchnf.acquire import plan
     text = (ROOT / "docs" / "acquisition.md").read_text()
     block = text[text.index("```toml"):text.index("```", text.index("```toml") + 7)]
     documented = set(re.findall(r"^#? ?([a-z_]+) =", block, flags=re.M))
-    assert documented == (plan._TOP_KEYS - {"analysis", "step"}) | plan._ANALYSIS_KEYS | plan._STEP_KEYS
+
+    def keys(cls):
+        return {f.name for f in dataclasses.fields(cls)}
+    assert documented == (keys(plan.PlanFile) - {"analysis", "step"}) | keys(plan.PlanAnalysis) | keys(plan._StepTable)

@@ -28,38 +28,48 @@ _SEGMENTS_PER_BATCH = 8
 #: Bins where the window's transform is below this fraction of its peak are rounding noise
 #: (a cosine-sum window's transform is exactly zero beyond its few terms).
 _WINDOW_SUPPORT_RTOL = 1e-12
+#: Segments a stream transforms with numpy before it moves to FFTW (where pyFFTW is installed).
+FFTW_AFTER_SEGMENTS = 2048
 
 
 class _BatchRfft:
     """Real FFTs of batches of segments, writing into reused buffers.
 
-    FFTW (through pyFFTW, the ``fast`` extra) runs about 1.7 times faster than
-    numpy's pocketfft on this work, so it is used when installed; both give
-    the same transform to rounding (the tests run both).  Set the environment
-    variable ``BENCHNF_FFT=numpy`` to force numpy.  One thread: parallelism
-    is left to the caller (one process per core).
+    FFTW (through pyFFTW, the ``fast`` extra) runs about 1.7 times faster than numpy's pocketfft on this
+    work, but importing it costs about 0.13 s (it loads scipy.fft); so a stream starts on numpy and moves to
+    FFTW once it has transformed FFTW_AFTER_SEGMENTS segments, where the saving outgrows the import (about
+    three minutes at 48 kHz). Both give the same transform to rounding (the tests run both). The environment
+    variable ``BENCHNF_FFT=numpy`` keeps numpy, ``BENCHNF_FFT=fftw`` takes FFTW from the start. One thread:
+    parallelism is left to the caller (one process per core).
     """
 
     def __init__(self, n: int) -> None:
         self.n = n
         self._plans: dict[int, Any] = {}
         self._work = np.empty((0, n))
-        self._pyfftw = None
-        if os.environ.get("BENCHNF_FFT", "").lower() != "numpy":
-            try:
-                import pyfftw
-                self._pyfftw = pyfftw
-            except ImportError:
-                pass
+        self._pyfftw: Any = None
+        choice = os.environ.get("BENCHNF_FFT", "").lower()
+        self._wanted = choice != "numpy"
+        self._segments = 0 if choice != "fftw" else FFTW_AFTER_SEGMENTS
+
+    def _load_fftw(self) -> None:
+        self._wanted = False  # one try
+        try:
+            import pyfftw
+            self._pyfftw = pyfftw
+        except ImportError:
+            pass
 
     @property
     def backend(self) -> str:
-        """``"fftw"`` or ``"numpy"``."""
+        """``"fftw"`` or ``"numpy"`` (what the next batch will use)."""
+        if self._wanted and self._segments >= FFTW_AFTER_SEGMENTS:
+            self._load_fftw()
         return "numpy" if self._pyfftw is None else "fftw"
 
     def input(self, m: int) -> NDArray[np.float64]:
         """The (m, n) array to write the windowed segments into."""
-        if self._pyfftw is None:
+        if self.backend == "numpy":
             if self._work.shape[0] < m:
                 self._work = np.empty((m, self.n))
             return self._work[:m]
@@ -73,7 +83,8 @@ class _BatchRfft:
 
     def execute(self, m: int) -> NDArray[np.complex128]:
         """Transform what :meth:`input` (same m) was filled with; the result is reused."""
-        if self._pyfftw is None:
+        self._segments += m
+        if self._pyfftw is None or m not in self._plans:
             return np.fft.rfft(self._work[:m], axis=-1)
         return self._plans[m]()
 
@@ -234,6 +245,18 @@ class WelchAccumulator:
         total = self._sum_sq.reshape(-1, 2).sum(axis=1)
         total[self._support] = self._sum_sq_support
         return total
+
+    def merge(self, other: "WelchAccumulator") -> None:
+        """Add the segments another accumulator of the same estimate averaged (another part of the same
+        stream, read in parallel): the sums add, as if one had seen every segment."""
+        if (other.segment_length, other.hop, other.window_name, other.sample_rate_hz) != (
+                self.segment_length, self.hop, self.window_name, self.sample_rate_hz):
+            raise ParameterError("only accumulators of the same estimate can be merged")
+        self._flush()
+        other._flush()
+        self._sum_sq += other._sum_sq
+        self._sum_sq_support += other._sum_sq_support
+        self._count += other._count
 
     def restart_average(self) -> None:
         """Forget the segments averaged so far, keeping the stream's unconsumed samples.

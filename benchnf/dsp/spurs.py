@@ -106,12 +106,14 @@ def _baseline(density: NDArray[np.float64], dof: float, width: int) -> NDArray[n
     A centred median follows a monotonic slope (such as the 1/f rise) exactly;
     a window clipped at DC would not.
     """
-    from scipy import ndimage, stats
-    med = ndimage.median_filter(density, size=width, mode="nearest")
-    for k in range(1, min(width // 2, density.size)):
+    from .special import chi2_median
+    half_width = width // 2
+    padded = np.pad(density, half_width, mode="edge")  # as scipy.ndimage.median_filter's mode "nearest"
+    med = np.median(np.lib.stride_tricks.sliding_window_view(padded, width), axis=-1)
+    for k in range(1, min(half_width, density.size)):
         half = max(k - 1, _MIN_HALF_WINDOW)  # centred where it can be, never fewer than 11 bins
         med[k] = np.median(density[max(1, k - half): k + half + 1])
-    return med / (stats.chi2.median(dof) / dof)
+    return med / (chi2_median(dof) / dof)
 
 
 def find_lines(psd: Psd, *, mains_hz: float | None = None, min_hz: float = 15.0,
@@ -131,12 +133,12 @@ def find_lines(psd: Psd, *, mains_hz: float | None = None, min_hz: float = 15.0,
     false_alarm : float
         Expected number of false lines per spectrum from noise alone.
     """
-    from scipy import stats
+    from .special import chi2_isf
     s = psd.psd_per_hz
     f = psd.frequency_hz
     df = psd.bin_width_hz
     base = _baseline(s, psd.dof, baseline_bins | 1)
-    q = float(stats.chi2.isf(false_alarm / s.size, psd.dof) / psd.dof)
+    q = chi2_isf(false_alarm / s.size, psd.dof) / psd.dof
     cand = (s > base * q) & (f >= min_hz)
     cand[-(_MIN_HALF_WINDOW + 1):] = False  # the Nyquist bin is not doubled and skews the median
     groups: list[tuple[int, int]] = []

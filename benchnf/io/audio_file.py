@@ -137,20 +137,36 @@ def open_capture(path: str | Path, *, channel: int | None = None, condition: str
     n_frames = int(info.frames)
 
     direct = _direct_layout(info, layout)
+    return Capture(float(info.samplerate), n_frames, channel, int(info.channels), volts_per_fs,
+                   condition or side_condition, meta, path, quantum_fs=_QUANTUM_FS.get(info.subtype),
+                   _reader=_library_reader(path, n_frames) if direct is None else _direct_reader(path, direct, n_frames))
 
-    def direct_reader(block_frames: int, ch: int, into: BlockSink | None) -> Iterator[NDArray[np.float64]]:
+
+def _direct_reader(path: Path, layout: WavLayout, n_frames: int) -> Any:
+    """Blocks of an uncompressed WAV/RF64 decoded by numpy, from any frame."""
+    def reader(block_frames: int, ch: int, into: BlockSink | None, first: int,
+               stop: int) -> Iterator[NDArray[np.float64]]:
         try:
-            yield from iter_channel_blocks(path, direct, n_frames, ch, block_frames, into)  # type: ignore[arg-type]
+            yield from iter_channel_blocks(path, layout, stop - first, ch, block_frames, into, first_frame=first)
         except EOFError as err:
             raise CaptureError(f"{path} is truncated: its header promises {n_frames} frames but "
                                f"only {err} could be read; record it again") from err
+    return reader
 
-    def reader(block_frames: int, ch: int, into: BlockSink | None) -> Iterator[NDArray[np.float64]]:
-        got = 0
+
+def _library_reader(path: Path, n_frames: int) -> Any:
+    """Blocks of any file libsndfile reads, from any frame."""
+    sf = _soundfile()
+
+    def reader(block_frames: int, ch: int, into: BlockSink | None, first: int,
+               stop: int) -> Iterator[NDArray[np.float64]]:
+        got = first
         try:
             with sf.SoundFile(str(path)) as fh:
-                while True:
-                    data = fh.read(block_frames, dtype="float64", always_2d=True)
+                if first:
+                    fh.seek(first)
+                while got < stop:
+                    data = fh.read(min(block_frames, stop - got), dtype="float64", always_2d=True)
                     if data.shape[0] == 0:
                         break
                     got += data.shape[0]
@@ -158,10 +174,7 @@ def open_capture(path: str | Path, *, channel: int | None = None, condition: str
         except RuntimeError as err:
             raise CaptureError(f"{path} could not be read to the end ({err}): the file is "
                                f"damaged; record it again") from err
-        if got < n_frames:
+        if got < stop:
             raise CaptureError(f"{path} is truncated: its header promises {n_frames} frames but "
                                f"only {got} could be read; record it again")
-
-    return Capture(float(info.samplerate), n_frames, channel, int(info.channels), volts_per_fs,
-                   condition or side_condition, meta, path, quantum_fs=_QUANTUM_FS.get(info.subtype),
-                   _reader=reader if direct is None else direct_reader)
+    return reader

@@ -57,5 +57,6 @@ def number(value: Any, *, where: str, key: str, low: float = -math.inf, high: fl
     if not ok:
         rule = f"{'>' if low_open else '>='} {low:g}" if math.isfinite(low) else ""
         rule += (" and " if rule and math.isfinite(high) else "") + (f"<= {high:g}" if math.isfinite(high) else "")
-        raise ParameterError(f"{where}: {key}={value!r} must be a number{' ' + rule if rule else ''}")
+        shown = format(value, "g") if isinstance(value, (int, float)) and not isinstance(value, bool) else repr(value)
+        raise ParameterError(f"{where}: {key}={shown} must be a number{' ' + rule if rule else ''}")
     return float(value)

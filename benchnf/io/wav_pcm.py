@@ -202,8 +202,8 @@ def decode_samples(raw: bytes | bytearray | memoryview, layout: WavLayout, n_fra
 
 def iter_channel_blocks(path: str | Path, layout: WavLayout, n_frames: int, channel: int,
                         block_frames: int, into: Callable[[int], NDArray[np.float64]] | None = None,
-                        ) -> Iterator[NDArray[np.float64]]:
-    """Yield one channel of the first `n_frames` frames in blocks of `block_frames`.
+                        *, first_frame: int = 0) -> Iterator[NDArray[np.float64]]:
+    """Yield one channel of `n_frames` frames from `first_frame` in blocks of `block_frames`.
 
     Each block is decoded into ``into(k)`` when given (and that array yielded), else into a
     new array.
@@ -218,7 +218,7 @@ def iter_channel_blocks(path: str | Path, layout: WavLayout, n_frames: int, chan
     raw = bytearray(block_frames * align + 1)
     view = memoryview(raw)
     with open(path, "rb") as fh:
-        fh.seek(layout.data_offset)
+        fh.seek(layout.data_offset + int(first_frame) * align)
         left = int(n_frames)
         while left > 0:
             k = min(block_frames, left)

@@ -203,7 +203,9 @@ def load_chain(path: str | Path) -> Chain:
     for i, table in enumerate(shape.stage, 1):
         st = {k: v for k, v in table.__dict__.items() if v is not None and k != "notes"}
         if "gain_linear" in st:
-            g = number(st.pop("gain_linear"), where=f"{where}, stage {i}", key="gain_linear", low=0.0, low_open=True)
+            g = st.pop("gain_linear")
+            if not (math.isfinite(g) and g > 0):
+                raise ParameterError(f"{where}, stage {i}: gain_linear {g:g} must be > 0")
             st["gain_db"] = 10 * math.log10(g)
         if "voltage_gain_db" in st:
             st["gain_db"] = st.pop("voltage_gain_db")

@@ -16,7 +16,8 @@ References
 ----------
 .. [1] C. D. Motchenbacher and J. A. Connelly, "Low-Noise Electronic System
        Design", Wiley 1993, ch. 1 (1/f noise and the noise corner).
-.. [2] scipy.optimize.curve_fit (covariance of least-squares parameters).
+.. [2] The covariance of least-squares parameters, sigma^2 (J^T J)^-1, as scipy.optimize.curve_fit
+       gives it with absolute sigma (the tests compare both).
 """
 
 from __future__ import annotations
@@ -25,16 +26,63 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from numpy.typing import ArrayLike
+from numpy.typing import ArrayLike, NDArray
 
 from ..errors import MeasurementError
 
 __all__ = ["FlickerFit", "fit_flicker"]
 
-# Convergence of the least-squares fit, relative. MINPACK's default (1.5e-8) left the corner's last seven
-# digits to the path the iteration took, so another BLAS or scipy release moved it by 1e-7; at 1e-13 the
-# fit stops at the optimum itself, and the same spectrum gives the same corner everywhere.
-_TOL = 1e-13
+
+
+def _model(log_f: NDArray[np.float64], p: NDArray[np.float64]) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """The log model and its Jacobian: ``y = lw + ln(1 + exp(a (lc - ln f)))`` in (lw, lc[, a])."""
+    slope = p[2] if p.size > 2 else 1.0
+    d = p[1] - log_f
+    u = slope * d
+    y = p[0] + np.logaddexp(0.0, u)
+    share = 0.5 * (1.0 + np.tanh(0.5 * u))  # the logistic 1/(1 + exp(-u)), without overflow
+    cols = [np.ones_like(log_f), slope * share] + ([d * share] if p.size > 2 else [])
+    return y, np.column_stack(cols)
+
+
+def _fit(log_f: NDArray[np.float64], y: NDArray[np.float64],
+         p: NDArray[np.float64]) -> tuple[NDArray[np.float64] | None, NDArray[np.float64]]:
+    """Least squares by Levenberg-Marquardt with the analytic Jacobian, carried on until the step vanishes
+    (Gauss-Newton converges quadratically at the end), so the optimum itself is returned, not a point where
+    the sum of squares merely stopped falling: the same spectrum gives the same corner to the last digits.
+    Returns (parameters, J^T J at them), or (None, ...) when it does not converge.
+
+    References: K. Levenberg (1944), D. W. Marquardt (1963); the scaled damping of Numerical Recipes, 3rd
+    ed., sec. 15.5.2. Checked against scipy.optimize.curve_fit in tests/reference/test_flicker_fit.py.
+    """
+    model, jac = _model(log_f, p)
+    r = y - model
+    cost = float(r @ r)
+    lam = 1e-3
+    jtj = jac.T @ jac
+    for _ in range(500):
+        a = jtj + lam * np.diag(np.diag(jtj))
+        try:
+            step = np.linalg.solve(a, jac.T @ r)
+        except np.linalg.LinAlgError:
+            return None, jtj
+        trial = p + step
+        new_model, new_jac = _model(log_f, trial)
+        new_r = y - new_model
+        new_cost = float(new_r @ new_r)
+        if not np.isfinite(new_cost):
+            lam *= 10.0
+        elif new_cost <= cost:
+            p, r, jac, cost = trial, new_r, new_jac, new_cost
+            jtj = jac.T @ jac
+            lam = max(lam / 10.0, 1e-15)
+            if np.all(np.abs(step) <= 1e-15 * np.maximum(np.abs(p), 1.0)):
+                return p, jtj
+        else:
+            lam *= 10.0
+        if lam > 1e12:  # no step lowers the sum of squares any more: this is the optimum
+            return (p, jtj) if np.all(np.isfinite(p)) else (None, jtj)
+    return None, jtj
 
 
 @dataclass(frozen=True)
@@ -82,7 +130,6 @@ def fit_flicker(frequency_hz: ArrayLike, density_v2_per_hz: ArrayLike, *, dof: f
     MeasurementError
         Too few usable bins, or the fit does not converge.
     """
-    from scipy import optimize
     f = np.asarray(frequency_hz, dtype=np.float64)
     s = np.asarray(density_v2_per_hz, dtype=np.float64)
     use = (f >= range_hz[0]) & (f <= range_hz[1]) & np.isfinite(s) & (s > 0)
@@ -94,31 +141,24 @@ def fit_flicker(frequency_hz: ArrayLike, density_v2_per_hz: ArrayLike, *, dof: f
     fu, ls = f[use], np.log(s[use])
     sigma = math.sqrt(2.0 / dof)
     white0 = float(np.median(ls[fu > np.median(fu)]))
-
-    def model(freq, log_white, log_corner, slope=1.0):
-        return log_white + np.log1p(np.exp(slope * (log_corner - np.log(freq))))
-
     p0 = [white0, math.log(max(range_hz[0] * 2, 1.0))] + ([1.0] if free_slope else [])
-    import warnings
-    try:
-        with warnings.catch_warnings():
-            warnings.simplefilter("error", optimize.OptimizeWarning)
-            popt, pcov = optimize.curve_fit(model, fu, ls, p0=p0, sigma=np.full(fu.size, sigma),
-                                            absolute_sigma=True, maxfev=20_000,
-                                            ftol=_TOL, xtol=_TOL)
-    except optimize.OptimizeWarning:
-        raise MeasurementError(f"no 1/f corner is resolved between {range_hz[0]:g} and {range_hz[1]:g} Hz "
-                               f"(the noise is white there, or the range is too narrow)") from None
-    except (RuntimeError, ValueError) as err:
-        raise MeasurementError(f"the 1/f fit did not converge ({err}); choose another range") from err
+    unresolved = MeasurementError(f"no 1/f corner is resolved between {range_hz[0]:g} and {range_hz[1]:g} Hz "
+                                  f"(the noise is white there, or the range is too narrow)")
+    popt, jtj = _fit(np.log(fu), ls, np.array(p0, dtype=np.float64))
+    if popt is None:
+        raise unresolved
+    with np.errstate(all="ignore"):
+        cond = np.linalg.cond(jtj)
+    if not (np.isfinite(cond) and cond < 1e14):  # the corner and the white level cannot be told apart
+        raise unresolved
+    pcov = np.linalg.inv(jtj) * sigma ** 2
     if not np.all(np.isfinite(pcov)) or math.exp(popt[1]) < range_hz[0] / 100:
-        raise MeasurementError(f"no 1/f corner is resolved between {range_hz[0]:g} and {range_hz[1]:g} Hz "
-                               f"(the noise is white there, or the range is too narrow)")
-    from scipy import special
+        raise unresolved
+    from ..dsp.special import digamma
     pcov = pcov * enbw_bins
     std = [float(e) for e in np.sqrt(np.diag(pcov))]
     # The mean of ln(S_est) lies below ln(S) by ln(nu/2) - psi(nu/2) (about 1/nu): undo it.
-    log_bias = math.log(dof / 2) - float(special.digamma(dof / 2))
+    log_bias = math.log(dof / 2) - digamma(dof / 2)
     white = math.exp((popt[0] + log_bias) / 2)
     corner = math.exp(popt[1])
     return FlickerFit(

@@ -161,7 +161,9 @@ def _plots(r: AnalysisResult) -> tuple[Plot, ...]:
         f = s.frequency_hz[1:]
 
         def rt(a) -> tuple[float | None, ...]:
-            return values((math.sqrt(v) if v is not None and v >= 0 else None for v in a[1:]), _NV)
+            import numpy as np
+            with np.errstate(invalid="ignore"):
+                return values(np.sqrt(np.where(a[1:] >= 0, a[1:], np.nan)), _NV)
         out_traces.append(Trace("DUT output, as measured", values(f), rt(s.output_v2_per_hz)))
         if s.floor_v2_per_hz is not None:
             out_traces += [Trace("analyzer floor", values(f), rt(s.floor_v2_per_hz)),
@@ -179,7 +181,7 @@ def _plots(r: AnalysisResult) -> tuple[Plot, ...]:
         if s.flicker is not None:
             fit = s.flicker
             in_traces.append(Trace(f"1/f fit: corner {fit.corner_hz:.0f} Hz", values(f),
-                                   values((math.sqrt(v) for v in fit.model_v2_per_hz(f)), _NV)))
+                                   values(fit.model_v2_per_hz(f) ** 0.5, _NV)))
         nf_traces.insert(0, Trace("per bin", values(f), values(s.noise_figure_db[1:])))
     plots = []
     if out_traces:

@@ -10,7 +10,6 @@ notation, the same U. Numbers become text in one place only, :mod:`.quantity`.
 
 from __future__ import annotations
 
-import math
 from collections.abc import Iterable
 from dataclasses import dataclass, field
 from typing import Any, Literal
@@ -138,11 +137,10 @@ class View:
 
 def values(seq: Iterable[Any], scale: float = 1.0) -> tuple[float | None, ...]:
     """Plot values: scaled, and None where there is no finite number (a gap in the trace)."""
-    out: list[float | None] = []
-    for v in seq:
-        if v is None:
-            out.append(None)
-            continue
-        x = float(v) * scale
-        out.append(x if math.isfinite(x) else None)
+    import numpy as np
+    items = seq if hasattr(seq, "dtype") else [np.nan if v is None else v for v in seq]
+    arr = np.asarray(items, dtype=np.float64) * scale
+    out: list[float | None] = arr.tolist()
+    for i in np.flatnonzero(~np.isfinite(arr)).tolist():
+        out[i] = None
     return tuple(out)

@@ -134,9 +134,7 @@ def test_too_short_a_capture_is_refused():
 def test_both_fft_backends_match_scipy(backend, monkeypatch):
     if backend == "fftw":
         pytest.importorskip("pyfftw")
-        monkeypatch.delenv("BENCHNF_FFT", raising=False)
-    else:
-        monkeypatch.setenv("BENCHNF_FFT", "numpy")
+    monkeypatch.setenv("BENCHNF_FFT", backend)
     x = np.random.default_rng(9).normal(0, 1e-4, 300_000) + 0.3 * np.sin(np.arange(300_000) * 0.2)
     acc = WelchAccumulator(sample_rate_hz=96_000.0, segment_length=8192)
     assert acc.fft_backend == backend
@@ -144,3 +142,48 @@ def test_both_fft_backends_match_scipy(backend, monkeypatch):
         acc.update(x[i:i + 50_000])
     _, ref = signal.welch(x, fs=96_000.0, nperseg=8192)
     np.testing.assert_allclose(acc.result().psd_per_hz[1:], ref[1:], rtol=1e-9)
+
+
+def test_a_long_stream_moves_to_fftw_and_stays_on_scipys_spectrum(monkeypatch):
+    """Past FFTW_AFTER_SEGMENTS segments a stream moves from numpy to FFTW (pyFFTW installed); the spectrum is
+    scipy.signal.welch's to rounding across the move."""
+    pytest.importorskip("pyfftw")
+    from benchnf.dsp import spectrum
+    monkeypatch.delenv("BENCHNF_FFT", raising=False)
+    monkeypatch.setattr(spectrum, "FFTW_AFTER_SEGMENTS", 20)
+    x = np.random.default_rng(4).normal(0, 1e-4, 300_000)
+    acc = WelchAccumulator(sample_rate_hz=48_000.0, segment_length=4096)
+    assert acc.fft_backend == "numpy"
+    for i in range(0, x.size, 30_000):
+        acc.update(x[i:i + 30_000])
+    assert acc.fft_backend == "fftw"
+    _, ref = signal.welch(x, fs=48_000.0, nperseg=4096)
+    np.testing.assert_allclose(acc.result().psd_per_hz[1:], ref[1:], rtol=1e-9)
+
+
+@pytest.mark.parametrize("kind", ["array", "wav", "flac"])
+def test_a_long_capture_read_in_parts_gives_scipys_spectrum_and_every_sample_counted(kind, tmp_path, monkeypatch):
+    """A capture long enough to be read in two parts (threads): the spectrum is scipy.signal.welch's of the whole
+    to rounding, and the sample statistics count each sample once (a few clipped samples placed across the
+    split are each counted once). Seeded noise (INVENTED DATA)."""
+    import soundfile as sf
+
+    from benchnf import streaming
+    from benchnf.capture import Capture
+    from benchnf.io import open_capture
+    monkeypatch.setattr(streaming, "PARALLEL_MIN_SEGMENTS", 4)
+    monkeypatch.setattr(streaming.os, "cpu_count", lambda: 2)
+    x = np.random.default_rng(11).normal(0, 1e-2, 100_003)
+    x[[10, 50_000, 50_001, 99_999]] = 1.0  # clipped, on both sides of the split
+    if kind == "array":
+        cap = Capture.from_array(x, sample_rate_hz=48_000.0)
+    else:
+        sf.write(tmp_path / f"x.{kind}", x, 48_000, subtype="PCM_24" if kind == "flac" else "DOUBLE")
+        cap = open_capture(tmp_path / f"x.{kind}")
+        x = cap.read()
+    assert len(streaming._parts(cap, 1024, 512)) == 2
+    acc, stats = streaming.stream_spectrum(cap, segment_length=1024)
+    _, ref = signal.welch(x, fs=48_000.0, nperseg=1024)
+    np.testing.assert_allclose(acc.result().psd_per_hz[1:], ref[1:], rtol=1e-9)
+    assert stats.n == x.size and stats.n_clipped == 4
+    assert stats.sum_sq_fs2 == pytest.approx(float(np.dot(x, x)), rel=1e-12)
