@@ -27,7 +27,7 @@ from typing import Any, Protocol
 import numpy as np
 from numpy.typing import NDArray
 
-from ..errors import AcquisitionError, CaptureError
+from ..errors import OutputError, AcquisitionError, CaptureError
 from ..io.sidecar import sidecar_candidates
 from ..write import Writer
 from .devices import DeviceInfo, find_device, rate_note, sounddevice
@@ -356,6 +356,20 @@ def recover_wav(damaged: str | Path, output: str | Path, *, block_frames: int = 
                 dst.write(decode_samples(view, layout, k, native=True))
                 left -= k
         writer.place(tmp, output)
+    except RuntimeError as err:  # libsndfile's error while writing the rescued file
+        raise OutputError(f"cannot write {output}: {_write_trouble(tmp.parent)} (libsndfile: {err}; nothing was "
+                          f"written, the damaged file is unchanged)") from err
     finally:
         tmp.unlink(missing_ok=True)
     return frames
+
+
+def _write_trouble(folder: Path) -> str:
+    """Why writing in `folder` failed, as far as the file system tells: full, or something else."""
+    import os
+    try:
+        st = os.statvfs(folder)
+    except (OSError, AttributeError):
+        return "the file could not be written"
+    return ("the disk is full: free some space or write elsewhere" if st.f_bavail * st.f_frsize < 1 << 16
+            else "the file could not be written")

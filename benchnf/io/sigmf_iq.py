@@ -10,6 +10,7 @@ one recording (alternating noise-source states).
 from __future__ import annotations
 
 import re
+import warnings
 
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass, field
@@ -136,6 +137,26 @@ def _check_data_size(meta_path: Path, datatype: str, channels: int) -> None:
                                f"({per_sample * channels} bytes each): the stated sample type does not fit the data")
 
 
+def _check_samples(meta_path: Path, datatype: str, rec: Any, errors: Any) -> None:
+    """Refuse samples that cannot be of the stated type: a float type must give finite values of
+    sensible size (bytes of another type read as floats give NaN, infinities and 1e30s), an integer type
+    must not sit at full scale (bytes of floats read as integers spread over the whole range)."""
+    with np.errstate(all="ignore"), warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        try:
+            x = np.asarray(rec.read_samples(start_index=0, count=min(int(rec.sample_count), 65_536)),
+                           dtype=np.complex128)
+        except (errors.SigMFError, ValueError, OSError, TypeError) as err:
+            raise CaptureError(f"{meta_path.name} could not be read ({err})") from err
+        parts = np.concatenate([x.real, x.imag])
+        odd = (not np.all(np.isfinite(parts)) or float(np.max(np.abs(parts), initial=0.0)) > 1e6
+               if datatype[1] == "f" else float(np.mean(np.abs(parts) >= 0.999)) > 0.01)
+    if odd:
+        raise CaptureError(f"{meta_path.name}: the samples do not look like {datatype} (non-finite, absurdly large, "
+                           f"or at full scale throughout): the stated sample type does not fit the data; correct "
+                           f"core:datatype, or record again with the receiver's gain lowered")
+
+
 def open_sigmf(path: str | Path) -> IqCapture:
     """Open a SigMF recording (give the .sigmf-meta, the .sigmf-data or the base name)."""
     sigmffile = require("sigmf.sigmffile", extra=None, purpose="reading SigMF recordings")
@@ -174,6 +195,7 @@ def open_sigmf(path: str | Path) -> IqCapture:
         total = int(len(rec.read_samples()))
     if total <= 0:
         raise CaptureError(f"{meta_path.name} holds no samples")
+    _check_samples(meta_path, datatype, rec, errors)
     segments = []
     for a in rec.get_annotations():
         lab = str(a.get("core:label", "")).strip().lower()

@@ -407,7 +407,65 @@ def _zero_data(p: Path) -> None:
 
 # Cases whose command rightly writes its other outputs before reporting the fault (a batch reports every
 # unit it could check); files may appear under this folder, nothing else may change.
-MAY_WRITE = {"batch unit recorded at another Rs than the profile": "out/batch"}
+MAY_WRITE = {"batch unit recorded at another Rs than the profile": "out/batch",
+             # SQLite keeps its write-ahead log beside a database in WAL mode, even for a reader
+             "records: a measured value that is text": "r.sqlite"}
+
+
+def _sigmf_edit(**changes: object) -> Spoil:
+    def spoil(d: Path) -> None:
+        meta = json.loads((d / "vhf_hot.sigmf-meta").read_text())
+        meta["global"].update(changes)
+        (d / "vhf_hot.sigmf-meta").write_text(json.dumps(meta))
+    return spoil
+
+
+def _spot_edit(**changes: object) -> Spoil:
+    def spoil(d: Path) -> None:
+        data = json.loads((d / "results.json").read_text())
+        data["spot"][0].update(changes)
+        (d / "results.json").write_text(json.dumps(data))
+    return spoil
+
+
+def _records_with_a_string(d: Path) -> None:
+    """A records store whose measured value was changed to text outside benchnf."""
+    import sqlite3
+    from benchnf.cli import main
+    import contextlib
+    import io
+    with contextlib.redirect_stdout(io.StringIO()):
+        main(["profile", str(d / "results.json"), "-o", str(d / "own.toml")])
+        main(["check", "--profile", str(d / "own.toml"), str(d / "results.json"), "--records", str(d / "r.sqlite")])
+    with sqlite3.connect(d / "r.sqlite") as db:
+        db.execute("UPDATE limits SET measured = 'low' WHERE name = 'gain_db'")
+
+
+def _earlier_crashes() -> list[Case]:
+    """Files of ours that once reached an internal error (exit 70), each now one line and exit 2."""
+    prof, plan = "known_good_profile.toml", "plan.toml"
+    yfactor = ["yfactor", "--hot", "{d}/vhf_hot.sigmf-meta", "--cold", "{d}/vhf_cold.sigmf-meta", "--enr-db", "5.5",
+               "--quiet"]
+    return [
+        ("results: uncertainty a word", json_edit("results.json", uncertainty="small"), CHECK, 2),
+        ("results: negative spot frequency", _spot_edit(freq_hz=-20.0), CHECK, 2),
+        ("results: schema version a number", json_edit("results.json", schema_version=1.5), CHECK, 2),
+        ("SigMF: datatype a number", _sigmf_edit(**{"core:datatype": 7}), yfactor, 2),
+        ("SigMF: datatype that does not fit the data", _sigmf_edit(**{"core:datatype": "cf64_le"}), yfactor, 2),
+        ("ENR table in Latin-1", write("noise_source_enr.toml", "# Kalibrierung M\xe4rz\npoints = [[1e8, 5.0]]\n"
+                                       .encode("latin-1").decode("latin-1").encode("latin-1")), YFACTOR, 2),
+        ("chain: temperature a word", write("head_amp_chain.toml", 'temperature_k = "hot"\n[[stage]]\nname = "a"\n'
+                                            'gain_db = 20.0\nnf_db = 2.0\n'), ["cascade", "{d}/head_amp_chain.toml"], 2),
+        ("sidecar: temperature a word", json_edit("terminated.json", temperature_k="hot"), ANALYZE, 2),
+        ("profile: a limit that is a number", write(prof, 'schema = "benchnf.profile/1"\nname = "p"\nlimit = 5\n'),
+         CHECK, 2),
+        ("profile: mask points numbers, not pairs", write(prof, 'schema = "benchnf.profile/1"\nname = "p"\n[[mask]]\n'
+                                                             'points = [1000.0, 1e-9]\n'), CHECK, 2),
+        ("plan: a step that is a number", write(plan, 'name = "p"\nstep = 5\n'),
+         ["measure", "{d}/plan.toml", "--yes", "--out-dir", "{d}/out/m"], 2),
+        ("records: a measured value that is text", _records_with_a_string,
+         ["records", "--records", "{d}/r.sqlite", "capability"], 2),
+    ]
 
 
 def all_cases() -> list[Case]:
@@ -428,6 +486,7 @@ def all_cases() -> list[Case]:
     cases += _outputs()
     cases += _own_formats()
     cases += _silent_wrong_figures()
+    cases += _earlier_crashes()
     names = [c[0] for c in cases]
     assert len(names) == len(set(names)), "fault case names repeat"
     return cases
