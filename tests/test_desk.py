@@ -376,7 +376,7 @@ _WITH_U = {"analysis": ("gain_db", "ein_dbu", "noise_figure_db", "nf_at_1khz_db"
            "yfactor": ("noise_figure_db", "noise_temperature_k", "system_noise_figure_db", "gain_db",
                        "receiver_noise_figure_db"),
            "eni": ("en_at_1khz_v_per_rthz", "in_at_1khz_a_per_rthz", "ropt_at_1khz_ohm", "nfmin_at_1khz_db"),
-           "budget": (), "cascade": ()}
+           "budget": ("measured_noise_figure_db",), "cascade": ()}
 
 
 def _words(view):

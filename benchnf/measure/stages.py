@@ -116,6 +116,7 @@ class BudgetResult(ResultFile):
     measured_noise_figure_db: float
     predicted_noise_figure_db: float | None
     notes: tuple[str, ...]
+    measured_noise_figure_u95_db: float | None = None  # U (k=2) from the last tap's Welch statistics and gain
     provenance: Provenance | None = figure(default=None, omit_if_none=True)
 
 
@@ -202,10 +203,13 @@ def measured_budget(*, taps: Sequence[tuple[str, Capture, GainSetup]], rs_ohm: f
                                bool(p is not None and abs(a - p) > 2 * a_s))
                      for name, g, m, s, a, a_s, p in results)
     n0 = 4 * BOLTZMANN_J_PER_K * T0_K * rs_ohm
-    measured_nf = 10 * math.log10(1 + (means[-1] - source) / n0)  # IEEE F, source at its own T
+    factor = 1 + (means[-1] - source) / n0  # IEEE F, source at its own T
+    measured_nf = 10 * math.log10(factor)
+    # dF = d(e^2)/N0, so U(NF) = 10/ln10 * 2 std / (N0 F) dB (first order, GUM 5.1.2)
+    nf_u95 = 10 / math.log(10) * 2 * results[-1][3] / (n0 * factor) if factor > 0 else None
     return BudgetResult((band.low_hz, band.high_hz), rs_ohm, temperature_k, math.sqrt(source), taps_out,
                         measured_nf, prediction.noise_figure_db if prediction is not None else None,
-                        tuple(notes))
+                        tuple(notes), nf_u95)
 
 
 # -- en/in from an Rs sweep ------------------------------------------------------------------

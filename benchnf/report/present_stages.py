@@ -93,18 +93,20 @@ def present_budget(r: BudgetResult) -> View:
                              f"({Quantity(r.source_density_v_per_rthz, 'V/√Hz').text()})"),
                   ("band", f"{Quantity(r.band_hz[0], 'Hz').text()} to {Quantity(r.band_hz[1], 'Hz').text()} "
                            f"(band-mean densities, lines removed)"))
-    head = (Headline("noise figure, measured", Quantity(r.measured_noise_figure_db, "dB"), key="measured_noise_figure_db"),
+    head = (Headline("noise figure, measured", Quantity(r.measured_noise_figure_db, "dB", r.measured_noise_figure_u95_db),
+                     key="measured_noise_figure_db"),
             Headline("noise figure, predicted from the part data", Quantity(r.predicted_noise_figure_db, "dB"),
                      key="predicted_noise_figure_db"))
     rows = tuple((t.name, Quantity(t.gain_db, "dB"),
-                  Quantity(t.input_density_v_per_rthz, "V/√Hz", 2 * t.input_density_std_v_per_rthz),
+                  Quantity(t.input_density_v_per_rthz, "V/√Hz"), Quantity(2 * t.input_density_std_v_per_rthz, "V/√Hz"),
                   Quantity(t.added_v2_per_hz ** 0.5 if t.added_v2_per_hz > 0 else 0.0, "V/√Hz"),
                   Quantity(t.predicted_added_v2_per_hz ** 0.5 if t.predicted_added_v2_per_hz else None, "V/√Hz"),
                   Quantity(100 * t.share_measured, "%"),
                   Quantity(None if t.share_predicted is None else 100 * t.share_predicted, "%"),
                   "unexplained" if t.unexplained else "") for t in r.taps)
     table = Table("Stages (input-referred; U: expanded, k=2)",
-                  ("tap", "gain (dB)", "input noise (nV/√Hz)", "added by the stage (nV/√Hz)", "added, predicted (nV/√Hz)",
+                  ("tap", "gain (dB)", "input noise (nV/√Hz)", "U (nV/√Hz)", "added by the stage (nV/√Hz)",
+                   "added, predicted (nV/√Hz)",
                    "share measured (%)", "share predicted (%)", ""), rows)
     names = tuple(t.name for t in r.taps)
     traces = [Trace("measured", tuple(float(i) for i in range(len(names))), values(100 * t.share_measured for t in r.taps),

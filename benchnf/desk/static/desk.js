@@ -57,7 +57,8 @@ function drawTrace(t, i, spec) {
       {type: "scatter", mode: "lines", name: t.name, x: t.x, y: up, fill: "tonexty", line: {width: 0},
        fillcolor: colour + "33", hoverinfo: "skip"}];
   }
-  return {type: "scatter", mode: MODES[t.style] || "lines", name: t.name, x: t.x, y: t.y,
+  return {type: "scatter", mode: (MODES[t.style] || "lines") + (t.labels && t.style === "markers" ? "+text" : ""),
+    name: t.name, x: t.x, y: t.y,
     line: {color: colour, width: 1.4}, marker: {color: colour, size: 6},
     text: t.labels || undefined, textposition: "top center",
     hovertemplate: `%{x:.4g} ${spec.x_label.match(/\((.*)\)/)?.[1] || ""}<br>%{y:.4g} ${spec.y_label.match(/\((.*)\)/)?.[1] || ""}<extra>${t.name}</extra>`,
