@@ -18,7 +18,7 @@ from __future__ import annotations
 
 import math
 
-__all__ = ["chi2_sf", "chi2_isf", "chi2_median", "digamma"]
+__all__ = ["chi2_sf", "chi2_isf", "chi2_median", "digamma", "normal_isf"]
 
 _EPS = 1e-16
 _TINY = 1e-300
@@ -86,7 +86,7 @@ def chi2_isf(p: float, nu: float) -> float:
     bracket that bisection keeps, from the Wilson-Hilferty start."""
     if not (0.0 < p < 1.0 and nu > 0):
         raise ValueError(f"chi2_isf needs 0 < p < 1 and nu > 0, not p={p!r}, nu={nu!r}")
-    z = _normal_isf(p)
+    z = normal_isf(p)
     h = 2.0 / (9.0 * nu)
     x = max(nu * (1.0 - h + z * math.sqrt(h)) ** 3, 1e-6 * nu)  # Wilson-Hilferty
     lo, hi = 0.0, x
@@ -111,8 +111,8 @@ def chi2_isf(p: float, nu: float) -> float:
     return x
 
 
-def _normal_isf(p: float) -> float:
-    """A start for the quantile: the standard normal's upper quantile (Acklam's rational form, ~1e-9)."""
+def normal_isf(p: float) -> float:
+    """The standard normal's upper quantile z(p), P(Z > z) = p (Acklam's rational form, relative error ~1e-9)."""
     a = (-3.969683028665376e+01, 2.209460984245205e+02, -2.759285104469687e+02, 1.383577518672690e+02,
          -3.066479806614716e+01, 2.506628277459239e+00)
     b = (-5.447609879822406e+01, 1.615858368580409e+02, -1.556989798598866e+02, 6.680131188771972e+01,
@@ -123,11 +123,11 @@ def _normal_isf(p: float) -> float:
     q_low = 1.0 - p  # the lower-tail probability of the same quantile
     if q_low < 0.02425:
         t = math.sqrt(-2.0 * math.log(q_low))
-        return -(((((c[0] * t + c[1]) * t + c[2]) * t + c[3]) * t + c[4]) * t + c[5]) / \
+        return (((((c[0] * t + c[1]) * t + c[2]) * t + c[3]) * t + c[4]) * t + c[5]) / \
             ((((d[0] * t + d[1]) * t + d[2]) * t + d[3]) * t + 1.0)
     if q_low > 1.0 - 0.02425:
         t = math.sqrt(-2.0 * math.log(p))
-        return (((((c[0] * t + c[1]) * t + c[2]) * t + c[3]) * t + c[4]) * t + c[5]) / \
+        return -(((((c[0] * t + c[1]) * t + c[2]) * t + c[3]) * t + c[4]) * t + c[5]) / \
             ((((d[0] * t + d[1]) * t + d[2]) * t + d[3]) * t + 1.0)
     t = q_low - 0.5
     r = t * t
