@@ -7,6 +7,10 @@ missing optional dependency).
 
 from __future__ import annotations
 
+import warnings
+from collections.abc import Iterator
+from contextlib import contextmanager
+
 __all__ = [
     "BenchError",
     "CaptureError",
@@ -21,6 +25,8 @@ __all__ = [
     "ClippingWarning",
     "FloorMarginWarning",
     "CalibrationWarning",
+    "ShapeWarning",
+    "warnings_into",
 ]
 
 
@@ -74,3 +80,23 @@ class FloorMarginWarning(BenchWarning):
 
 class CalibrationWarning(BenchWarning):
     """A calibration was made under doubtful conditions."""
+
+
+class ShapeWarning(BenchWarning):
+    """A figure rests on an assumption about the response that was not measured."""
+
+
+@contextmanager
+def warnings_into(kept: list[str]) -> Iterator[None]:
+    """Our warnings raised inside are kept (their one-line text, once each) for the result to carry; a
+    library's pass through unchanged."""
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", BenchWarning)
+        yield
+    for w in caught:
+        if issubclass(w.category, BenchWarning):
+            text = " ".join(str(w.message).split())
+            if text not in kept:
+                kept.append(text)
+        else:
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)

@@ -17,12 +17,16 @@ keeps and reads any registered result, and the demo runs them. Adding a measurem
 
 from __future__ import annotations
 
+import dataclasses
 import importlib
 import json
+import warnings
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
+
+from .errors import BenchWarning, warnings_into
 
 __all__ = ["Measurement", "register", "measurements", "measurement", "kinds", "result_type", "result_from_dict",
            "read_result", "load"]
@@ -186,5 +190,14 @@ def command_name(entry: Measurement) -> str:
 
 
 def run_measurement(entry: Measurement, request: Any, *, progress: Callable[[int], None] | None = None) -> Any:
-    """Resolve and run a measurement's request; its typed result."""
-    return entry.part("run")(request, progress=progress)
+    """Resolve and run a measurement's request; its typed result, carrying every warning of ours raised on
+    the way (in its ``warnings``, once each) when its type has that field."""
+    warned: list[str] = []
+    with warnings_into(warned):
+        result = entry.part("run")(request, progress=progress)
+    if not any(f.name == "warnings" for f in dataclasses.fields(result)):
+        for text in warned:  # a type without the field: the boundary shows them
+            warnings.warn(text, BenchWarning, stacklevel=2)
+        return result
+    own = tuple(result.warnings)
+    return dataclasses.replace(result, warnings=(*own, *(w for w in warned if w not in own)))

@@ -33,17 +33,17 @@ def test_recovers_gain_nf_ein_and_voltage_noise_well_above_the_floor():
     assert r.floor_corrected and r.floor_margin_db > 20
 
 
-def test_a_noise_figure_below_0_db_is_called_impossible():
+def test_a_noise_figure_below_0_db_is_refused_with_its_likely_causes():
     # A tone level stated ten times too low makes the gain read 20 dB high and the input noise
-    # 20 dB low: less than the source resistor's thermal noise (IEEE F >= 1; common practice).
+    # 20 dB low: less than the source resistor's thermal noise (IEEE Std 161: F >= 1; common practice).
     b = Bench(floor_v_per_rthz=5e-9)
     c = b.captures()
-    wrong = analyze_gain_method(terminated=c["terminated"], floor=c["floor"],
-                                gain=GainSetup(tone=c["tone"], tone_input_vrms=c["tone_input_vrms"] / 10),
-                                rs_ohm=b.rs_ohm, temperature_k=b.temperature_k)
-    assert wrong.noise_figure_db < 0
-    assert any("below 0 dB beyond its uncertainty" in n for n in wrong.notes)
-    assert not any("below 0 dB" in n for n in _analyze(b).notes)
+    with pytest.raises(MeasurementError, match=r"below the 200 ohm source's own thermal noise .* in band by 1[0-9]\.\d+ dB"
+                                               r".*noise figure below 0 dB.*Likely causes:.*--response.*swapped.*--rs"):
+        analyze_gain_method(terminated=c["terminated"], floor=c["floor"],
+                            gain=GainSetup(tone=c["tone"], tone_input_vrms=c["tone_input_vrms"] / 10),
+                            rs_ohm=b.rs_ohm, temperature_k=b.temperature_k)
+    _analyze(b)  # the same captures with the level as it was: no refusal
 
 
 def test_five_db_above_the_floor_correction_matters_by_more_than_1_db():
@@ -66,7 +66,7 @@ def test_low_margin_is_flagged_and_indistinguishable_dut_is_refused():
     dut_out = b0.gain * math.sqrt(b0.input_density_v2())
     low = Bench(floor_v_per_rthz=dut_out / math.sqrt(10 ** 0.2 - 1))  # 2 dB margin
     r = _analyze(low)
-    assert any("only 2.0 dB above the analyzer floor" in n for n in r.notes)
+    assert any("only 2.0 dB above the analyzer floor" in w for w in r.warnings)
     hopeless = Bench(floor_v_per_rthz=dut_out * 30)  # DUT 30 dB below the floor
     with pytest.raises(MeasurementError, match="cannot be told from the analyzer floor"):
         _analyze(hopeless)

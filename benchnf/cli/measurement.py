@@ -10,6 +10,7 @@ names. It computes nothing itself. Building the parser imports only each measure
 from __future__ import annotations
 
 import argparse
+import sys
 from functools import partial
 from typing import Any
 
@@ -44,6 +45,8 @@ def _run(kind: str, args: argparse.Namespace, writer: Writer) -> int:
     request = entry.part("from_args")(args)
     with progress(0, quiet=args.quiet, label="measuring") as tick:
         result = registry.run_measurement(entry, request, progress=tick)
+    for text in getattr(result, "warnings", ()):
+        print(f"benchnf: warning: {text}", file=sys.stderr)
     view = entry.part("present")(result)
     print(render_text(view, explain=args.explain), end="")
     write_outputs(args, writer, result, lambda: figures(view))

@@ -70,6 +70,7 @@ class CascadePrediction(CascadeResult, ResultFile):
     where_to_spend: tuple[Saving, ...] = field(default=())
     improve_db: float = figure(default=1.0, exclusiveMinimum=0)
     what_if: WhatIf | None = figure(default=None, omit_if_none=True)
+    warnings: tuple[str, ...] = ()  # one line each, also on stderr as "benchnf: warning: ..."
     provenance: Provenance | None = figure(default=None, omit_if_none=True)
 
 

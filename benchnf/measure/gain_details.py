@@ -129,10 +129,24 @@ def flicker_fit(f, en_diff, e2_diff, s_term, p_term, band, range_hz, free_slope,
     except MeasurementError as err:
         notes.append(f"no 1/f corner: {err}")
         return None, None
-    if fit.corner_hz < rng[0] / 3:
-        notes.append(f"the 1/f corner ({fit.corner_hz:.2g} Hz) lies below the fit range's bottom "
-                     f"({rng[0]:g} Hz): it is an extrapolation")
+    why = flicker_unresolved(fit.corner_hz, fit.corner_std_hz, band)
+    if why:
+        notes.append(f"1/f corner not resolved: {why}")
+        return None, None
     return fit, on
+
+
+def flicker_unresolved(corner_hz: float, corner_std_hz: float, band: Band) -> str:
+    """Why a fitted 1/f corner is no figure (empty when it is one): it lies outside the band, where the data
+    do not show it, or its k = 2 interval spans more than a decade (reaching zero counts as infinitely many)."""
+    if not (math.isfinite(corner_hz) and band.low_hz <= corner_hz <= band.high_hz):
+        where = "below" if corner_hz < band.low_hz else "above"
+        return f"the fit puts it at {corner_hz:.3g} Hz, {where} the band {band.label()}, where the data cannot show it"
+    low, high = corner_hz - 2 * corner_std_hz, corner_hz + 2 * corner_std_hz
+    if not (math.isfinite(high) and low > 0 and high / low <= 10):
+        return (f"the fit puts it at {corner_hz:.3g} Hz, but its k=2 interval "
+                f"({max(low, 0):.3g}-{high:.3g} Hz) spans more than a decade")
+    return ""
 
 
 def qp_ein(capture: NoiseInput, p_term: Psd, p_floor: Psd | None, w_band, g: GainEstimate,

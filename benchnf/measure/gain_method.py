@@ -18,9 +18,7 @@ See docs/method.md for every equation.
 from __future__ import annotations
 
 import math
-import warnings
-from collections.abc import Iterator, Sequence
-from contextlib import contextmanager
+from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -32,7 +30,7 @@ from ..dsp.integrate import band_bin_weights
 from ..dsp.spectrum import Psd, default_segment_length, pool_psds
 from ..dsp.spurs import LineSearch, find_lines, hum_hints
 from ..dsp.weighting import ABOVE_HUM_HARMONIC, Band, above_hum_band, weighting_power_gain
-from ..errors import BenchWarning, CaptureError, MeasurementError, ParameterError
+from ..errors import CaptureError, MeasurementError, ParameterError, warnings_into
 from ..noise.floor import band_relative_std, check_band_margin, subtract_floor
 from ..noise.gain_method import (
     band_noise_factor,
@@ -54,6 +52,7 @@ from .assumptions import NO_FLOOR
 from .gain import GainEstimate, GainSetup, measure_gain
 from .noise_inputs import NoiseInput, Progress, capture_psd, check_rates, label_of, path_of, with_vpfs
 from .gain_details import flicker_fit, qp_ein, repeat_values, resolved, spot_density_budget, spot_nf_budget, spot_values
+from .physics import check_not_swapped, check_physics, single_tone_warning
 from .results import DETECTORS, AnalysisFiles, AnalysisResult, AnalysisSpectra, RepeatSummary, SpotValue, SpurValue
 
 __all__ = ["analyze_gain_method"]
@@ -114,18 +113,6 @@ class _BandFigures:
     out_noise: float
     out_spurs: float
     out_raw: float
-
-
-@contextmanager
-def _notes_from_warnings(notes: list[str]) -> Iterator[None]:
-    """Our warnings raised inside become notes of the result; a library's pass through unchanged."""
-    with warnings.catch_warnings(record=True) as caught:
-        warnings.simplefilter("always", BenchWarning)
-        yield
-    notes.extend(str(w.message) for w in caught if issubclass(w.category, BenchWarning))
-    for w in caught:
-        if not issubclass(w.category, BenchWarning):
-            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
 
 
 # -- the pipeline ---------------------------------------------------------------------------------
@@ -200,7 +187,8 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
     prep = _prepare(terminated=terminated, floor=floor, shorted=shorted, gain=gain, band=band,
                     segment_length=segment_length)
     notes: list[str] = list(assumptions)
-    with _notes_from_warnings(notes):
+    warned: list[str] = []
+    with warnings_into(warned):
         spec = _spectra(prep, progress=progress)
         lines = _lines(spec, mains_hz=mains_hz)
         if band_above_mains:
@@ -222,14 +210,16 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
     at_1k = next((s for s in spots if s.freq_hz == 1000.0), None)
     flicker, flicker_on = flicker_fit(spec.f, en_diff, bf.e2_diff, lines.term, spec.term, band, flicker_range_hz,
                                    flicker_free_slope, notes)
-    budgets = _budgets(spec, lines, fl, bf, g, gain=gain, stated=stated, at_1k=at_1k, ein_reported=ein_reported,
-                       rs_ohm=rs_ohm, temperature_k=temperature_k, calibrated=prep.vpfs is not None, notes=notes)
+    budgets = _budgets(spec, lines, fl, bf, g, gain=gain, stated=stated, spots=spots, ein_reported=ein_reported,
+                       rs_ohm=rs_ohm, temperature_k=temperature_k, calibrated=prep.vpfs is not None)
     repeats = _repeat_summary(spec, lines, fl, g, band=band, weighting=weighting, rs_ohm=rs_ohm,
                               temperature_k=temperature_k, notes=notes)
     return _assemble(prep, spec, lines, fl, bf, g, gain=gain, band=band, weighting=weighting, detector=detector,
                      rs_ohm=rs_ohm, temperature_k=temperature_k, ein_reported=ein_reported, en_diff=en_diff,
                      spots=spots, at_1k=at_1k, flicker=flicker, flicker_on=flicker_on, budgets=budgets,
-                     stated=stated, repeats=repeats, reference_output_vrms=reference_output_vrms, notes=notes)
+                     stated=stated, repeats=repeats, reference_output_vrms=reference_output_vrms, notes=notes,
+                     warned=[*warned, *filter(None, [single_tone_warning(
+                         gain_kind=gain.kind, has_response=gain.response is not None, band=band, tone_hz=g.frequency_hz)])])
 
 
 def _validate(*, rs_ohm: float, temperature_k: float, weighting: str, detector: str,
@@ -350,6 +340,10 @@ def _voltage_noise(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorSte
         return None
     terminals = 1.0 if gain.zin_ohm is None else (gain.zin_ohm + rs_ohm) / gain.zin_ohm
     short_clean = lines.short.cleaned  # type: ignore[union-attr]
+    w, used = fl.w_band, fl.used
+    s_rel = band_relative_std(w, short_clean, dof=spec.short.dof, correlation=fl.kernel)
+    check_not_swapped(shorted_power=float(np.dot(w[used], short_clean[used])),
+                      terminated_power=fl.m_band * terminals ** 2, rel_std=math.hypot(fl.m_rel, s_rel))
     floor_clean = lines.floor.cleaned if lines.floor is not None else None
     short_diff = subtract_floor(short_clean, floor_clean).difference if floor_clean is not None else short_clean
     if spec.floor is not None and not resolved(fl.w_band, short_clean, floor_clean, dof_measured=spec.short.dof,
@@ -361,9 +355,10 @@ def _voltage_noise(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorSte
 
 
 def _budgets(spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g: GainEstimate, *,
-             gain: GainSetup, stated: StatedUncertainty, at_1k: SpotValue | None, ein_reported: float,
-             rs_ohm: float, temperature_k: float, calibrated: bool, notes: list[str]) -> dict[str, Budget]:
-    """The GUM budgets of EIN, band NF, gain and the NF at 1 kHz; a note for an impossible NF."""
+             gain: GainSetup, stated: StatedUncertainty, spots: list[SpotValue], ein_reported: float,
+             rs_ohm: float, temperature_k: float, calibrated: bool) -> dict[str, Budget]:
+    """The GUM budgets of EIN, band NF, gain and the 1 kHz spots; an input noise below the source's refused."""
+    at_1k = next((s for s in spots if s.freq_hz == 1000.0), None)
     n0 = 4 * BOLTZMANN_J_PER_K * T0_K * rs_ohm * bf.b_w
     dut_rel = dut_power_rel_std(measured=fl.m_band, measured_rel_std=fl.m_rel, floor=fl.f_band,
                                 floor_rel_std=fl.f_rel)
@@ -372,12 +367,14 @@ def _budgets(spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g:
         "ein_db": ein_budget(value_db=float(vrms_to_dbu(ein_reported)), dut_rel_std=dut_rel,
                              floor_corrected=corrected, gain_kind=gain.kind, gain_rel_std=g.gain_rel_std,
                              stated=stated, response_rel_std=g.response_rel_std),
-        "noise_figure_db": nf_budget(quantity="noise_figure_db", noise_factor=bf.noise_factor,
-                                     excess_over_n0=bf.ein_power / n0, dut_rel_std=dut_rel,
-                                     floor_corrected=corrected, gain_kind=gain.kind, gain_rel_std=g.gain_rel_std,
-                                     stated=stated, response_rel_std=g.response_rel_std),
         "gain_db": gain_budget(value_db=g.gain_db, gain_kind=gain.kind, gain_rel_std=g.gain_rel_std, stated=stated),
     }
+    _check_physics(bf, spots, budgets, rs_ohm=rs_ohm, temperature_k=temperature_k)
+    budgets["noise_figure_db"] = nf_budget(
+        quantity="noise_figure_db", noise_factor=bf.noise_factor, excess_over_n0=bf.ein_power / n0,
+        dut_rel_std=dut_rel, floor_corrected=corrected, gain_kind=gain.kind, gain_rel_std=g.gain_rel_std,
+        stated=stated, response_rel_std=g.response_rel_std)
+    budgets = {k: budgets[k] for k in ("ein_db", "noise_figure_db", "gain_db")}  # the order of the report
     floor_clean = lines.floor.cleaned if lines.floor is not None else None
     if bf.out_noise > 0:
         budgets["output_noise_db"] = output_noise_budget(
@@ -394,14 +391,19 @@ def _budgets(spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g:
         budgets["voltage_noise_at_1khz_db"] = spot_density_budget(
             "voltage_noise_at_1khz_db", at_1k.voltage_noise_v_per_rthz, spec.f, spec.short, spec.floor,
             lines.short.cleaned, floor_clean, g, gain, stated)
-    nf_band_db = float(power_db(bf.noise_factor)) if bf.noise_factor > 0 else None
-    if nf_band_db is not None and nf_band_db + budgets["noise_figure_db"].expanded_db < 0.0:
-        notes.append(f"the band noise figure ({nf_band_db:.2f} dB) is below 0 dB beyond its uncertainty: "
-                     f"less noise than {rs_ohm:g} ohm makes by itself at {temperature_k:.1f} K, which no "
-                     f"amplifier can give; check the gain (the tone's stated level and where it was "
-                     f"read), the calibration, --rs and --temperature-k, and that the input was "
-                     f"terminated in Rs")
     return budgets
+
+
+def _check_physics(bf: _BandFigures, spots: list[SpotValue], budgets: dict[str, Budget], *, rs_ohm: float,
+                   temperature_k: float) -> None:
+    """No input noise below the source's own, in band (within the EIN's U) or at a spot (within its Welch U
+    and the gain's, combined in quadrature): see :mod:`.physics`."""
+    gain_u = budgets["gain_db"].expanded_db
+    gain_u = gain_u if math.isfinite(gain_u) else 0.0
+    check_physics(rs_ohm=rs_ohm, temperature_k=temperature_k, band_ratio=bf.ein_power / bf.thermal ** 2,
+                  band_u95_db=budgets["ein_db"].expanded_db,
+                  spots=[(s.freq_hz, s.input_density_v_per_rthz, math.hypot(s.input_density_expanded_db or 0.0, gain_u))
+                         for s in spots])
 
 
 def _repeat_summary(spec: _Spectra, lines: _Lines, fl: _FloorStep, g: GainEstimate, *, band: Band, weighting: str,
@@ -438,7 +440,7 @@ def _assemble(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorStep, bf
               ein_reported: float, en_diff: NDArray[np.float64] | None, spots: list[SpotValue],
               at_1k: SpotValue | None, flicker: Any, flicker_on: str | None, budgets: dict[str, Budget],
               stated: StatedUncertainty, repeats: RepeatSummary | None, reference_output_vrms: float | None,
-              notes: list[str]) -> AnalysisResult:
+              notes: list[str], warned: list[str]) -> AnalysisResult:
     """The frozen result: figures, conditions, budgets, spectra."""
     nf_band_db = float(power_db(bf.noise_factor)) if bf.noise_factor > 0 else None
     f = spec.f
@@ -476,6 +478,6 @@ def _assemble(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorStep, bf
         repeats=repeats,
         sample_rate_hz=prep.fs, segment_length=prep.seg, spectrum_window=spec.term.window,
         rbw_hz=spec.term.enbw_hz, n_averages=spec.term.n_averages, dof=spec.term.dof, volts_per_fs=prep.vpfs,
-        files=files, spot=tuple(spots), notes=tuple(notes),
+        files=files, spot=tuple(spots), notes=tuple(notes), warnings=tuple(warned),
         spectra=_spectra_out(spec, lines, fl, bf, g, en_diff=en_diff, flicker=flicker, rs_ohm=rs_ohm,
                              temperature_k=temperature_k))

@@ -198,6 +198,7 @@ class AnalysisResult(ResultFile):
     files: AnalysisFiles
     spot: tuple[SpotValue, ...]
     notes: tuple[str, ...]
+    warnings: tuple[str, ...] = ()  # one line each, also on stderr as "benchnf: warning: ..."
     provenance: Provenance | None = figure(default=None, omit_if_none=True)
     spectra: AnalysisSpectra | None = memory_only()
 

@@ -137,13 +137,16 @@ def run_budget(req: BudgetRequest, *, progress: Any = None) -> Any:
                      _gain(req.options, tone, tone_input_vrms=req.tone_input_vrms, gain_db=req.gain_db)))
     meta = taps[0][1].metadata
     side = f"the sidecar of {Path(req.taps[0][0]).name}"
-    rs = agree("source resistance", [("--rs", req.rs_ohm), (side, meta.get("rs_ohm"))], unit=" ohm")
+    in_chain = f"the chain file {Path(req.chain).name}" if req.chain else "the chain file"
+    rs = agree("source resistance", [("--rs", req.rs_ohm), (side, meta.get("rs_ohm")),
+                                     (in_chain, chain.source_ohm if chain is not None else None)], unit=" ohm")
     if rs is None or not rs > 0:
         raise ParameterError("give the source resistance the chain's input is terminated in: --rs OHM")
+    chain_t = chain.temperature_k if chain is not None and chain.temperature_stated else None
     temperature = agree("source temperature", [("--temperature-k", req.temperature_k),
-                                               (side, meta.get("temperature_k"))],
+                                               (side, meta.get("temperature_k")), (in_chain, chain_t)],
                         default=DEFAULT_TEMPERATURE_K, unit=" K")
-    stated = req.temperature_k is not None or meta.get("temperature_k") is not None
+    stated = req.temperature_k is not None or meta.get("temperature_k") is not None or chain_t is not None
     return measured_budget(taps=taps, rs_ohm=float(rs), temperature_k=float(temperature),
                            floor=req.options.open(req.floor, "floor"), chain=chain, band=Band(*req.band_hz),
                            segment_length=req.segment_length,

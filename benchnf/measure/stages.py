@@ -22,13 +22,15 @@ from ..codec import ResultFile, figure, memory_only
 from .assumptions import NO_FLOOR
 from .gain import GainSetup, measure_gain
 from .noise_inputs import capture_psd
+from .physics import CAUSES, check_physics
 from .provenance import Provenance
 from ..capture import Capture
 from ..dsp.integrate import band_bin_weights
+from ..dsp.scatter import band_power_rel_var
 from ..dsp.spectrum import Psd, default_segment_length
 from ..dsp.spurs import find_lines
 from ..dsp.weighting import Band
-from ..errors import CaptureError, ParameterError
+from ..errors import CaptureError, MeasurementError, ParameterError
 from ..noise.floor import correlated_sum_variance
 from ..noise.cascade import Chain, predict
 from ..noise.gain_method import third_octave_centres_hz, third_octave_weights
@@ -52,23 +54,39 @@ class InputReferred:
     gain_rel_std: float
     correlation: tuple[float, ...]
     label: str
+    seen_band_variance: float | None = None  # of the band mean, from the captures' own scatter (.dsp.scatter)
 
     def band_mean(self, weights: NDArray[np.float64]) -> tuple[float, float]:
-        """Weighted mean density over a band and its standard deviation (bins correlated by the window,
-        :func:`benchnf.noise.floor.correlated_sum_variance`)."""
+        """Weighted mean density over the band and its standard deviation: the larger of the Welch statistics'
+        (bins correlated by the window, :func:`benchnf.noise.floor.correlated_sum_variance`) and the scatter
+        the tap and floor captures actually show over the band they were referred for."""
         wsum = float(weights.sum())
         mean = float(np.dot(weights, self.density_v2_per_hz)) / wsum
         var = correlated_sum_variance(weights * np.sqrt(self.variance), self.correlation) / wsum ** 2
-        return mean, math.sqrt(var)
+        return mean, math.sqrt(max(var, self.seen_band_variance or 0.0))
+
+
+#: The longest stretch of a capture its band power's scatter is estimated from.
+SCATTER_SECONDS = 120.0
+
+
+def seen_rel_var(capture: Capture | Psd, segment_length: int, weights: NDArray[np.float64]) -> float | None:
+    """The relative variance of a capture's mean band power as its own segments scatter (None for a trace)."""
+    if not isinstance(capture, Capture):
+        return None
+    x = capture.read(max_frames=int(SCATTER_SECONDS * capture.sample_rate_hz))
+    return band_power_rel_var(x, segment_length, weights)
 
 
 def input_referred(capture: Capture | Psd, gain: GainSetup, *, rs_ohm: float, floor: Psd | None,
-                   segment_length: int, band: Band) -> InputReferred:
-    """Input-referred density of a capture (lines removed, floor subtracted) and its variance."""
+                   segment_length: int, band: Band, floor_rel_var: float | None = None) -> InputReferred:
+    """Input-referred density of a capture (lines removed, floor subtracted), its variance from the Welch
+    statistics, and the variance of its band mean from the scatter the capture (and the floor's, given as
+    `floor_rel_var`) actually show."""
     p = capture_psd(capture, segment_length=segment_length)
     clean = find_lines(p).cleaned
     var_out = 2.0 / p.dof * clean ** 2
-    diff = clean
+    diff, floor_clean = clean, np.zeros_like(clean)
     if floor is not None:
         floor_clean = find_lines(floor).cleaned
         diff = clean - floor_clean
@@ -77,8 +95,15 @@ def input_referred(capture: Capture | Psd, gain: GainSetup, *, rs_ohm: float, fl
     g = measure_gain(gain, frequency_hz=p.frequency_hz, rs_ohm=rs_ohm, segment_length=segment_length,
                      output_volts_per_fs=vpfs, band=band)
     label = capture.label if isinstance(capture, Capture) else "spectrum"
+    w = band_bin_weights(p.frequency_hz, band)
+    seen = None
+    rel = seen_rel_var(capture, segment_length, w)
+    if rel is not None:
+        band_of = (lambda v: float(np.dot(w, v)) / float(w.sum()))  # noqa: E731
+        out_var = rel * band_of(clean) ** 2 + (floor_rel_var or 0.0) * band_of(floor_clean) ** 2
+        seen = out_var / band_of(g.power_gain) ** 2
     return InputReferred(p.frequency_hz, diff / g.power_gain, var_out / g.power_gain ** 2, g.gain_db,
-                         g.gain_rel_std, p.correlation_kernel, label)
+                         g.gain_rel_std, p.correlation_kernel, label, seen)
 
 
 # -- measured stage budget -------------------------------------------------------------------
@@ -116,6 +141,7 @@ class BudgetResult(ResultFile):
     measured_noise_figure_db: float
     predicted_noise_figure_db: float | None
     notes: tuple[str, ...]
+    warnings: tuple[str, ...] = ()  # one line each, also on stderr as "benchnf: warning: ..."
     measured_noise_figure_u95_db: float | None = None  # U (k=2) from the last tap's Welch statistics and gain
     provenance: Provenance | None = figure(default=None, omit_if_none=True)
 
@@ -157,8 +183,10 @@ def measured_budget(*, taps: Sequence[tuple[str, Capture, GainSetup]], rs_ohm: f
     fs = first.sample_rate_hz
     seg = default_segment_length(fs) if segment_length is None else int(segment_length)
     p_floor = capture_psd(floor, segment_length=seg) if floor is not None else None
-    refs = [input_referred(cap, g, rs_ohm=rs_ohm, floor=p_floor, segment_length=seg, band=band)
-            for _name, cap, g in taps]
+    floor_rel = (seen_rel_var(floor, seg, band_bin_weights(p_floor.frequency_hz, band))
+                 if floor is not None and p_floor is not None else None)
+    refs = [input_referred(cap, g, rs_ohm=rs_ohm, floor=p_floor, segment_length=seg, band=band,
+                           floor_rel_var=floor_rel) for _name, cap, g in taps]
     for a, b, (na, _, _), (nb, _, _) in zip(refs, refs[1:], taps, taps[1:]):
         if not b.gain_db > a.gain_db:
             raise ParameterError(f"tap {nb!r} has gain {b.gain_db:.2f} dB, not more than tap {na!r} "
@@ -203,13 +231,23 @@ def measured_budget(*, taps: Sequence[tuple[str, Capture, GainSetup]], rs_ohm: f
                                bool(p is not None and abs(a - p) > 2 * a_s))
                      for name, g, m, s, a, a_s, p in results)
     n0 = 4 * BOLTZMANN_J_PER_K * T0_K * rs_ohm
+    for (tap, _gain_db, m, sd, *_rest) in results:  # every tap carries at least the source's noise
+        if not m > 0:
+            raise MeasurementError(f"tap {tap} cannot be told from the analyzer floor in the band (its noise less "
+                                   f"the floor's came out at or below zero): raise the tap's level (more gain "
+                                   f"before the analyzer), use a quieter analyzer, or record both longer")
+        check_physics(rs_ohm=rs_ohm, temperature_k=temperature_k, band_ratio=m / source,
+                      band_u95_db=10 * math.log10(1 + 2 * sd / m), spots=(), where=f"at tap {tap}", band_k=3.0)
     factor = 1 + (means[-1] - source) / n0  # IEEE F, source at its own T
+    if not factor > 0:
+        raise MeasurementError(f"the last tap's noise factor came out at {factor:.3g}, at or below zero: "
+                               f"likely causes: {CAUSES}")
     measured_nf = 10 * math.log10(factor)
     # dF = d(e^2)/N0, so U(NF) = 10/ln10 * 2 std / (N0 F) dB (first order, GUM 5.1.2)
-    nf_u95 = 10 / math.log(10) * 2 * results[-1][3] / (n0 * factor) if factor > 0 else None
+    nf_u95 = 10 / math.log(10) * 2 * results[-1][3] / (n0 * factor)
     return BudgetResult((band.low_hz, band.high_hz), rs_ohm, temperature_k, math.sqrt(source), taps_out,
                         measured_nf, prediction.noise_figure_db if prediction is not None else None,
-                        tuple(notes), nf_u95)
+                        tuple(notes), measured_noise_figure_u95_db=nf_u95)
 
 
 # -- en/in from an Rs sweep ------------------------------------------------------------------
@@ -285,6 +323,7 @@ class EniResult(ResultFile):
     points: tuple[EniPoint, ...]
     nf_vs_rs: NfVsRs
     notes: tuple[str, ...]
+    warnings: tuple[str, ...] = ()  # one line each, also on stderr as "benchnf: warning: ..."
     provenance: Provenance | None = figure(default=None, omit_if_none=True)
     fit: EnInFit | None = memory_only()
 

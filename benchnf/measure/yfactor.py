@@ -33,6 +33,7 @@ from ..noise.yfactor import (
     noise_temperature_from_factor,
 )
 from ..units import T0_K, power_db
+from .physics import check_noise_factor
 from .yfactor_result import YExcluded, YFactorResult, YFiles, YLoss, YRepeats, YRow
 from .yfactor_model import (
     Model,
@@ -318,15 +319,20 @@ def _headline(evaluated: tuple[Powers, Model] | None, band: Band, source: HotCol
     if y12 - 1 < 3 * u_y * y12:
         notes.append(f"Y = {10 * math.log10(y12):.3f} dB is hardly resolved (its scatter is {100 * u_y:.2f} % "
                      f"of Y): the NF is far above the ENR; use a higher-ENR source or record longer")
+    check_noise_factor(f1, math.inf, what="noise factor", causes=Y_CAUSES)  # > 0 before its logarithm
     nf_budget, gain_budget = evaluate_budgets(model, pw, source, corrected)
-    if f1 < 1.0:
-        notes.append("the corrected noise factor came out below 1 (0 dB): check the ENR, the temperatures "
-                     "and the calibration pair")
+    check_noise_factor(f1, nf_budget.expanded_db, what="noise figure", causes=Y_CAUSES)
     budgets = {"noise_figure_db": nf_budget}
     if gain_budget is not None:
         budgets["gain_db"] = gain_budget
     budgets.update(other_budgets(model, pw, source, corrected))
     return _Headline(pw, model, y12, f12, f2, g1, f1, budgets)
+
+
+#: What makes a Y-factor noise figure come out below 0 dB (common practice).
+Y_CAUSES = ("an ENR table for another source or in other units (or --enr-db wrong); hot and cold captures "
+            "swapped; a wrong cold temperature; a calibration pair taken at another setting than the DUT "
+            "measurement; a receiver that compresses in the hot state")
 
 
 def _check_calibration_pair(pw: Powers) -> None:

@@ -102,6 +102,7 @@ class YFactorResult(ResultFile):
     n_averages: int
     files: YFiles
     notes: tuple[str, ...]
+    warnings: tuple[str, ...] = ()  # one line each, also on stderr as "benchnf: warning: ..."
     noise_temperature_u95_k: float | None = None  # U (k=2) of the noise temperature, from the NF's
     provenance: Provenance | None = figure(default=None, omit_if_none=True)
 

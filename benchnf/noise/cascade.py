@@ -136,6 +136,7 @@ class Chain:
     source_ohm: float | None = None
     temperature_k: float = T0_K
     name: str = ""
+    temperature_stated: bool = field(default=False, compare=False)  # the chain file gave temperature_k
 
     def __post_init__(self) -> None:
         if not self.stages:
@@ -216,7 +217,8 @@ def load_chain(path: str | Path) -> Chain:
                          key="temperature_k", low=0.0, high=1e4, low_open=True)
     source = (number(shape.source_ohm, where=where, key="source_ohm", low=0.0, low_open=True)
               if shape.source_ohm is not None else None)
-    return Chain(tuple(stages), source, temperature, shape.name if shape.name is not None else path.stem)
+    return Chain(tuple(stages), source, temperature, shape.name if shape.name is not None else path.stem,
+                 temperature_stated=shape.temperature_k is not None)
 
 
 @dataclass(frozen=True)

@@ -91,17 +91,25 @@ class EnInFit:
     def at(self, frequency_hz: float) -> dict[str, Any]:
         """Values at the nearest fitted frequency, with Ropt and NFmin and their uncertainties.
 
-        A figure the sweep cannot determine is None, with the reason under ``undetermined``: a correlation
-        whose k = 2 interval is wider than +/-1, an Ropt outside the swept resistances.
+        Only what the sweep determines is given; the rest is None, with the reason under ``undetermined``:
+        en or in whose k = 2 interval reaches zero (and so Ropt and NFmin, which need both), a correlation whose
+        k = 2 interval is wider than +/-1, an Ropt outside the swept resistances (0 ohm counts) and then NFmin,
+        which would be an extrapolation beyond the sweep.
         """
         k = int(np.argmin(np.abs(self.frequency_hz - frequency_hz)))
         en, i_n = float(self.en_v_per_rthz[k]), float(self.in_a_per_rthz[k])
+        en_std, in_std = float(self.en_std[k]), float(self.in_std[k])
         rho = float(self.correlation[k]) if self.correlation is not None else 0.0
-        ok = math.isfinite(en) and math.isfinite(i_n) and i_n > 0
-        derived = _derived(en, i_n, rho, self.cov[k] if self.cov is not None else None, self.rs_ohm) if ok else {}
-        return {"freq_hz": float(self.frequency_hz[k]), "en_v_per_rthz": en, "in_a_per_rthz": i_n,
-                "en_std_v_per_rthz": float(self.en_std[k]), "in_std_a_per_rthz": float(self.in_std[k]),
-                "correlation": derived.get("correlation", rho if self.correlation is not None else None),
+        why = [f"{name} (its k=2 interval reaches zero)" for name, v, u in (("en", en, en_std), ("in", i_n, in_std))
+               if not (math.isfinite(v) and math.isfinite(u) and v - 2 * u > 0)]
+        derived = (_derived(en, i_n, rho, self.cov[k] if self.cov is not None else None, self.rs_ohm) if not why
+                   else {"undetermined": why + ["Ropt and NFmin (they need both en and in)"]})
+        return {"freq_hz": float(self.frequency_hz[k]),
+                "en_v_per_rthz": None if any(w.startswith("en ") for w in why) else en,
+                "in_a_per_rthz": None if any(w.startswith("in ") for w in why) else i_n,
+                "en_std_v_per_rthz": en_std if math.isfinite(en_std) else None,
+                "in_std_a_per_rthz": in_std if math.isfinite(in_std) else None,
+                "correlation": derived.get("correlation", rho if self.correlation is not None and not why else None),
                 "correlation_std": derived.get("correlation_std"),
                 "ropt_ohm": derived.get("ropt_ohm"), "ropt_u95_ohm": derived.get("ropt_u95_ohm"),
                 "nfmin_db": derived.get("nfmin_db"), "nfmin_u95_db": derived.get("nfmin_u95_db"),
@@ -132,11 +140,11 @@ def _derived(en: float, i_n: float, rho: float, cov: NDArray[np.float64] | None,
         if 2 * out["correlation_std"] > 1.0:
             out["correlation"] = None
             out["undetermined"].append("correlation (its k=2 interval is wider than +/-1)")
-    swept = rs_ohm[rs_ohm > 0]
-    if swept.size and not (swept.min() <= out["ropt_ohm"] <= swept.max()):
-        out["undetermined"].append(f"Ropt (about {out['ropt_ohm']:.3g} ohm lies outside the swept "
-                                   f"{swept.min():g}-{swept.max():g} ohm)")
-        out["ropt_ohm"] = out["ropt_u95_ohm"] = None
+    low, high = float(rs_ohm.min()), float(rs_ohm.max())  # a shorted input (0 ohm) counts as the low end
+    if not low <= out["ropt_ohm"] <= high:
+        out["undetermined"].append(f"Ropt and NFmin (Ropt, about {out['ropt_ohm']:.3g} ohm, lies outside the swept "
+                                   f"{low:g}-{high:g} ohm: sweep across it)")
+        out["ropt_ohm"] = out["ropt_u95_ohm"] = out["nfmin_db"] = out["nfmin_u95_db"] = None
     return out
 
 

@@ -53,6 +53,11 @@ __all__ = ["EnrTable", "load_enr_table", "hot_temperature_from_enr", "noise_temp
            "check_temperature"]
 
 
+#: The ENR a noise source may have, dB: below 0 dB its hot state is less than T0 above T0 (no diode source is so weak), above
+#: 40 dB it would compress any DUT worth measuring (common practice: diode sources give about 5-35 dB).
+ENR_RANGE_DB = (0.0, 40.0)
+
+
 def check_temperature(value_k: float, what: str) -> float:
     """Return `value_k` if it is a temperature above 0 K, else raise."""
     if not (math.isfinite(value_k) and value_k > 0):
@@ -165,6 +170,11 @@ class EnrTable:
             raise ParameterError("an ENR table needs matching lists of frequencies and ENR values")
         if f.size > 1 and np.any(np.diff(f) <= 0):
             raise ParameterError("the ENR table's frequencies must increase")
+        bad = e[~((e >= ENR_RANGE_DB[0]) & (e <= ENR_RANGE_DB[1]))]
+        if bad.size:
+            raise ParameterError(f"an ENR of {float(bad[0]):g} dB is not a noise source's: noise sources give "
+                                 f"{ENR_RANGE_DB[0]:g} to {ENR_RANGE_DB[1]:g} dB (check the table's units and its "
+                                 f"columns, or the --enr-db value)")
         check_temperature(self.cold_k, "the noise source's cold temperature")
         object.__setattr__(self, "frequency_hz", f)
         object.__setattr__(self, "enr_db", e)

@@ -208,4 +208,4 @@ def present(r: AnalysisResult) -> View:
     details = tuple(budget_lines(r.budgets, "Uncertainty budgets (standard uncertainties in dB; "
                                  f"{r.uncertainty.stated or 'stated limits'})"))
     return View("analysis", "gain-method noise analysis", _conditions(r), _headline(r), tables, _plots(r),
-                tuple(r.notes), (), details, summary)
+                tuple(r.notes), tuple(r.warnings), details, summary)

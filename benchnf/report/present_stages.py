@@ -84,7 +84,7 @@ def present_eni(r: EniResult) -> View:
     summary = (f"en {Quantity(a.en_v_per_rthz, 'V/√Hz').text()}, in {Quantity(a.in_a_per_rthz, 'A/√Hz').text()} at "
                f"{Quantity(a.freq_hz, 'Hz').text()}")
     return View("eni", "voltage and current noise from a source-resistance sweep", conditions, _eni_headline(a),
-                (points, table), _eni_plots(r), notes, (), (), summary)
+                (points, table), _eni_plots(r), notes, tuple(r.warnings), (), summary)
 
 
 def present_budget(r: BudgetResult) -> View:
@@ -119,7 +119,7 @@ def present_budget(r: BudgetResult) -> View:
                 "Share of the excess noise (%)", tuple(traces), log_x=False, categories=True)
     summary = f"noise figure measured {r.measured_noise_figure_db:.2f} dB" + (
         f", predicted {r.predicted_noise_figure_db:.2f} dB" if r.predicted_noise_figure_db is not None else "")
-    return View("budget", "measured stage budget", conditions, head, (table,), (plot,), tuple(r.notes), (), (),
+    return View("budget", "measured stage budget", conditions, head, (table,), (plot,), tuple(r.notes), tuple(r.warnings), (),
                 summary)
 
 
@@ -150,4 +150,5 @@ def present_cascade(r: CascadePrediction) -> View:
                        values(100 * s.share_of_excess for s in r.stages), "bar", labels=names),),
                 log_x=False, categories=True)
     return View("cascade", "cascade prediction", (("form", form),), tuple(head), (stages, spend), (plot,),
-                tuple(r.notes), (), (), f"noise figure {r.noise_figure_db:.3f} dB, gain {r.gain_db:.2f} dB")
+                tuple(r.notes), tuple(r.warnings), (),
+                f"noise figure {r.noise_figure_db:.3f} dB, gain {r.gain_db:.2f} dB")

@@ -92,5 +92,5 @@ def present(r: YFactorResult, *, file_stem: str = "yfactor") -> View:
     summary = f"noise figure {Quantity(r.noise_figure_db, 'dB', r.uncertainty.get('noise_figure_db')).text()}" + (
         f", gain {Quantity(r.gain_db, 'dB', r.uncertainty.get('gain_db')).text()}" if r.gain_db is not None else "")
     details = tuple(budget_lines(r.budgets, "Uncertainty budgets (standard uncertainties in dB)"))
-    return View("yfactor", "Y-factor noise figure", _conditions(r), _headline(r), (table,), plots, tuple(r.notes), (),
-                details, summary)
+    return View("yfactor", "Y-factor noise figure", _conditions(r), _headline(r), (table,), plots, tuple(r.notes),
+                tuple(r.warnings), details, summary)
