@@ -12,7 +12,8 @@ import soundfile as sf
 
 from benchnf.check.batch import check_batch
 from benchnf.check.limits import check_results
-from benchnf.check.profile import Mask, load_profile, profile_from_results
+from benchnf.check.population import profile_from_results
+from benchnf.check.profile import Mask, load_profile
 from benchnf.cli import ExitStatus, main
 from benchnf.errors import ParameterError
 
@@ -99,16 +100,42 @@ def test_other_conditions_and_schema_are_refused(tmp_path):
         check_results(result_from_dict({**_results().to_dict(), "schema_version": "0"}, where="x"), prof)
 
 
-def test_profile_from_several_good_units_uses_their_spread():
-    goods = [_results(gain_db=g, ein_dbu=e) for g, e in ((40.0, -125.0), (40.2, -124.8), (39.9, -125.1))]
+def test_profile_limits_are_tolerance_limits_of_the_good_units_plus_their_u():
+    # Reference: toleranceinterval (PyPI), the exact normal tolerance factors of ISO 16269-6; values INVENTED.
+    ti = pytest.importorskip("toleranceinterval")
+    gains, eins = [40.0, 40.2, 39.9], [-125.0, -124.8, -125.1]
+    goods = [_results(gain_db=g, ein_dbu=e) for g, e in zip(gains, eins)]
     p = profile_from_results(goods, margin_db=1.0)
+    k2 = ti.twoside.normal_factor(3, 0.95, 0.95, method="exact")
     gain = next(x for x in p.limits if x.key == "gain_db")
-    spread = 3 * float(np.std([40.0, 40.2, 39.9], ddof=1))
-    assert gain.max - np.mean([40.0, 40.2, 39.9]) == pytest.approx(1.0 + spread)
+    half = k2 * float(np.std(gains, ddof=1)) + 0.1 + 1.0  # + U (0.1 dB) + margin
+    assert gain.min == pytest.approx(np.mean(gains) - half, abs=1e-9)
+    assert gain.max == pytest.approx(np.mean(gains) + half, abs=1e-9)
     ein = next(x for x in p.limits if x.key == "ein_dbu")
-    assert ein.max == pytest.approx(-124.8 + 1.0 + 3 * float(np.std([-125.0, -124.8, -125.1], ddof=1)))
+    upper = float(np.ravel(ti.oneside.normal(np.array(eins), 0.95, 0.95))[0])  # mean + k1 s
+    assert ein.max == pytest.approx(upper + 0.1 + 1.0, abs=1e-9)
+    assert p.origin.units == 3 and p.origin.coverage == 0.95 and p.origin.confidence == 0.95
+    assert p.origin.serials == ("unit 1", "unit 2", "unit 3") and "ISO 16269-6" in p.notes
     with pytest.raises(ParameterError, match="different conditions"):
-        profile_from_results([_results(), _results(rs_ohm=150.0)])
+        profile_from_results([_results(), _results(gain_db=40.1), _results(rs_ohm=150.0, gain_db=40.2)])
+
+
+def test_a_profile_needs_three_distinct_possible_units():
+    with pytest.raises(ParameterError, match="at least 3 known-good units, not 2"):
+        profile_from_results([_results(), _results(gain_db=40.1)])
+    with pytest.raises(ParameterError, match="unit 1 and unit 3 carry the very same figures"):
+        profile_from_results([_results(), _results(gain_db=40.1), _results()])
+    impossible = _results(noise_figure_db=-3.0, gain_db=40.2)  # as an old results file could say
+    with pytest.raises(ParameterError, match="unit 3: its noise figure is -3.00 dB, below 0 dB"):
+        profile_from_results([_results(), _results(gain_db=40.1), impossible])
+
+
+def test_a_figure_not_resolved_in_every_unit_gets_no_limit():
+    goods = [_results(gain_db=40.0), _results(gain_db=40.1, flicker_corner_hz=None), _results(gain_db=39.9)]
+    p = profile_from_results(goods)
+    assert "flicker_corner_hz" not in {x.key for x in p.limits}
+    assert p.origin.not_limited == ("flicker_corner_hz (not resolved in 1 of 3 units)",)
+    assert "no limit on flicker_corner_hz" in p.notes
 
 
 def _unit(folder: Path, bench: Bench, *, hum_vrms: float = 0.0):
@@ -132,12 +159,18 @@ def test_batch_of_synthetic_units_with_known_faults(tmp_path, capsys):
     _unit(units / "U3-noisy", Bench(seed=3, seconds=3.0, en_v_per_rthz=6e-9))
     (units / "U4-empty").mkdir()
     sf.write(tmp_path / "floor.wav", floor, 48000, subtype="FLOAT")
-    # Profile from the good unit's own analysis (as 'benchnf profile' does).
-    assert main(["analyze", "--terminated", str(units / "U1-good" / "terminated.wav"), "--floor",
-                 str(tmp_path / "floor.wav"), "--tone", str(units / "U1-good" / "tone.wav"), "--rs", "200",
-                 "--volts-per-fs", "2", "--json", str(tmp_path / "good.json"), "--quiet"]) == 0
-    assert main(["profile", str(tmp_path / "good.json"), "--margin-db", "1.5", "-o", str(tmp_path / "p.toml")]) == 0
-    assert main(["profile", str(tmp_path / "good.json"), "-o", str(tmp_path / "p.toml")]) == ExitStatus.BAD_INPUT
+    # Profile from three known-good units' own analyses (as a line would make it), never from one.
+    goods = []
+    for seed in (21, 22, 23):
+        _unit(tmp_path / "goods" / f"G{seed}", Bench(seed=seed, seconds=3.0))
+        goods.append(tmp_path / f"G{seed}.json")
+        assert main(["analyze", "--terminated", str(tmp_path / "goods" / f"G{seed}" / "terminated.wav"), "--floor",
+                     str(tmp_path / "floor.wav"), "--tone", str(tmp_path / "goods" / f"G{seed}" / "tone.wav"),
+                     "--rs", "200", "--volts-per-fs", "2", "--json", str(goods[-1]), "--quiet"]) == 0
+    assert main(["profile", str(goods[0]), "-o", str(tmp_path / "one.toml")]) == ExitStatus.BAD_INPUT
+    assert "at least 3 known-good units, not 1" in capsys.readouterr().err
+    assert main(["profile", *map(str, goods), "-o", str(tmp_path / "p.toml")]) == 0
+    assert main(["profile", *map(str, goods), "-o", str(tmp_path / "p.toml")]) == ExitStatus.BAD_INPUT
     capsys.readouterr()
     out = tmp_path / "out"
     rc = main(["batch", str(units), "--profile", str(tmp_path / "p.toml"), "--floor", str(tmp_path / "floor.wav"),
@@ -221,16 +254,18 @@ def test_html_report_renders_in_headless_chromium(tmp_path):
     assert (np.abs(img[..., :3] - img[0, 0, :3]).sum(axis=-1) > 0.3).mean() > 0.01
 
 
-def test_profile_masks_skip_bands_too_narrow_to_carry_a_figure():
-    # Spot bands narrower than 10 spectrum bins are left out of a new profile's mask (their own scatter would
-    # flag good units MARGINAL at random). Demo-like results: fs 48 kHz, 16384-sample segments (2.93 Hz bins).
-    from benchnf.check.profile import MIN_MASK_BINS, profile_from_results
-    spots = [{"freq_hz": f, "input_density_v_per_rthz": 1e-9, "input_density_expanded_db": 0.5}
-             for f in (20.0, 25.0, 50.0, 100.0, 125.0, 160.0, 1000.0, 10000.0)]
-    r = _results(sample_rate_hz=48_000.0, segment_length=16384, spot=spots)
-    mask = profile_from_results([r], margin_db=1.0).masks[0]
-    lowest = MIN_MASK_BINS * 48_000.0 / 16384 / (10 ** 0.05 - 10 ** -0.05)
-    assert min(mask.frequency_hz) >= lowest > 100.0 and 160.0 in mask.frequency_hz
+def test_profile_mask_reaches_down_to_the_band_edge_where_every_unit_resolves_it():
+    # INVENTED spot values: all three units resolve 20 Hz to 10 kHz, one does not resolve 25 Hz.
+    freqs = (20.0, 25.0, 50.0, 100.0, 1000.0, 10000.0)
+
+    def spots(skip=()):
+        return [{"freq_hz": f, "input_density_v_per_rthz": None if f in skip else 1e-9,
+                 "input_density_expanded_db": 0.5} for f in freqs]
+    goods = [_results(spot=spots()), _results(gain_db=40.1, spot=spots(skip=(25.0,))), _results(gain_db=39.9,
+                                                                                              spot=spots())]
+    mask = profile_from_results(goods).masks[0]
+    assert mask.frequency_hz == (20.0, 50.0, 100.0, 1000.0, 10000.0)  # 20 Hz: the band's lower edge
+    assert mask.limit[0] == pytest.approx(1e-9 * 10 ** (0.5 / 20))  # no spread: the level + its U
 
 
 def test_batch_states_conditions_as_analyze_does_and_refuses_a_disagreement(tmp_path, capsys):
@@ -246,10 +281,29 @@ def test_batch_states_conditions_as_analyze_does_and_refuses_a_disagreement(tmp_
 
 def test_a_profile_named_with_quotes_and_backslashes_round_trips(tmp_path):
     # Written by a TOML writer (tomli-w): an f-string once left invalid TOML on disk for such a name.
-    from benchnf.check.profile import load_profile, profile_from_results
+    from benchnf.check.profile import load_profile
     name = 'bench "A" \\ line 2\ttab'
-    prof = profile_from_results([_results()], margin_db=1.0, name=name)
+    prof = profile_from_results([_results(), _results(gain_db=40.1), _results(gain_db=39.9)], name=name)
     p = tmp_path / "p.toml"
     p.write_text(prof.to_toml())
     back = load_profile(p)
     assert back.name == name and back.limits == prof.limits and back.conditions == prof.conditions
+
+
+def test_ripple_with_raised_broadband_noise_points_to_the_supply_filter_first(tmp_path):
+    # A failing filter capacitor (INVENTED figures): ripple lines at 100 and 200 Hz and raised broadband noise.
+    prof = load_profile(_profile(tmp_path, '[[limit]]\nkey = "ein_dbu"\nmax = -126\n[[limit]]\nkey = "noise_figure_db"\n'
+                                           'max = 3.5\n[[hum]]\nfamily = "ripple"\nmax_output_vrms = 2e-6\n'
+                                           '[[hum]]\nfamily = "mains"\nmax_output_vrms = 2e-6\n'))
+    spurs = [{"freq_hz": 100.0, "output_vrms": 6e-6, "family": "ripple"},
+             {"freq_hz": 200.0, "output_vrms": 3e-6, "family": "ripple"},
+             {"freq_hz": 50.0, "output_vrms": 3e-6, "family": "mains"}]
+    check = check_results(_results(ein_dbu=-123.0, noise_figure_db=5.0, spurs=spurs), prof)
+    assert check.verdict == "FAIL"
+    first = check.diagnosis[0]
+    assert first.startswith("supply ripple (100, 200 Hz) together with raised broadband noise")
+    assert "one failing reservoir or filter capacitor explains both" in first
+    assert not any(f.startswith("raised broadband noise: suspect the input stage") for f in check.diagnosis)
+    assert any("(lines at 50 Hz)" in f for f in check.diagnosis[1:])  # the mains finding names its line
+    alone = check_results(_results(ein_dbu=-123.0), prof)  # noise alone: the input stage
+    assert alone.diagnosis[0].startswith("raised broadband noise: suspect the input stage")

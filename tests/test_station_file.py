@@ -102,6 +102,7 @@ def test_the_file_can_say_what_inputs_are_named_relative_to(station, tmp_path):
     results = tmp_path / "r.json"
     unit = DEMO / "units" / "HA-0001"
     assert main(["analyze", "--terminated", str(unit / "terminated.flac"), "--tone", str(unit / "tone.flac"),
+                 "--floor", str(DEMO / "floor.flac"),
                  "--calibration", str(station / "cal" / "c.json"), "--rs", "20", "--band", "20", "20000",
                  "--json", str(results), "--quiet"]) == 0
     text = (station / "station.toml").read_text()

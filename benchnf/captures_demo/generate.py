@@ -231,6 +231,7 @@ def main() -> None:
     truth_data = ground_truth()
     truth_data["stage_budget"] = write_taps_and_sweep(args.force)
     truth_data["units"] = write_units(args.force)
+    truth_data["known_good"] = write_known_good_units(args.force)
     truth_data["yfactor_vhf"] = write_vhf_scenario(args.force)
     truth_data["yfactor_audio"] = write_two_temperature_scenario(args.force)
     write_known_good_profile(args.force)
@@ -324,24 +325,58 @@ def write_units(force: bool) -> dict:
     return {"note": "INVENTED DATA", **{k: v["fault"] for k, v in UNITS.items()}}
 
 
+#: Four units known to be good, as a production line keeps them to set its limits: the parts' spread gives
+#: each its own input-stage noise, supply hum and gain (INVENTED DATA).
+KNOWN_GOOD = {"KG-01": {"en1_scale": 0.97, "hum_scale": 0.8, "gain_scale": 1.010},
+              "KG-02": {"en1_scale": 1.04, "hum_scale": 1.3, "gain_scale": 0.985},
+              "KG-03": {"en1_scale": 1.00, "hum_scale": 1.0, "gain_scale": 1.000},
+              "KG-04": {"en1_scale": 1.06, "hum_scale": 0.9, "gain_scale": 1.020}}
+
+
+def write_known_good_units(force: bool) -> dict:
+    """Terminated and tone captures of the known-good units (4 s and 1 s; the shared floor is floor.flac)."""
+    import shutil
+    rng = np.random.default_rng(SEED + 3)
+    n, nt = int(4.0 * FS), int(1.0 * FS)
+    t = np.arange(nt) / FS
+    g = total_gain() * response(np.array([TONE_HZ]))[0]
+    root = HERE / "known_good"
+    if force and root.exists():
+        shutil.rmtree(root)
+    for serial, spec in KNOWN_GOOD.items():
+        kw = {"en1_scale": spec["en1_scale"], "hum_scale": spec["hum_scale"]}
+        k = spec["gain_scale"]
+        term = k * dut_output_noise(rng, n, RS_OHM, **kw) + coloured_noise(rng, n, card_density)
+        tone = k * (TONE_EMF_VRMS * math.sqrt(2) * abs(g) * np.sin(2 * np.pi * TONE_HZ * t + np.angle(g))
+                    + dut_output_noise(rng, nt, RS_OHM, **kw)) + coloured_noise(rng, nt, card_density)
+        for name, x, meta in (("terminated", term, {"condition": "terminated", "rs_ohm": RS_OHM,
+                                                     "temperature_k": TEMPERATURE_K}),
+                              ("tone", tone, {"condition": "tone", "tone_input_vrms": TONE_EMF_VRMS})):
+            write(f"known_good/{serial}/{name}", x, {**meta, "serial": serial}, force)
+    return {"note": "INVENTED DATA", **{k: dict(v) for k, v in KNOWN_GOOD.items()}}
+
+
 def write_known_good_profile(force: bool) -> None:
-    """The known-good profile, made by benchnf from the main demo unit (as 'benchnf profile' would)."""
+    """The known-good profile, made by benchnf from the four known-good units (as 'benchnf profile' would)."""
     import sys
     sys.path.insert(0, str(HERE.parent))
     from benchnf.measure import GainSetup, analyze_gain_method
     from benchnf.calibration import apply_calibration, calibrate_from_tone
-    from benchnf.check.profile import profile_from_results
+    from benchnf.check.population import profile_from_results
     from benchnf.io import open_capture
     path = HERE / "known_good_profile.toml"
     if path.exists() and not force:
         return
     cal = calibrate_from_tone(open_capture(HERE / "reference.flac"), vrms=REFERENCE_VRMS)
-    cap = lambda name: apply_calibration(open_capture(HERE / f"{name}.flac"), cal)  # noqa: E731
-    res = analyze_gain_method(terminated=cap("terminated"), floor=cap("floor"),
-                              gain=GainSetup(tone=cap("tone"), tone_input_vrms=TONE_EMF_VRMS),
-                              rs_ohm=RS_OHM, temperature_k=TEMPERATURE_K).to_dict()
-    prof = profile_from_results([res], margin_db=2.0, name="MC head amplifier, known good")
-    path.write_text("# Made by benchnf from the demo's main unit (INVENTED DATA), 2 dB margin.\n" + prof.to_toml())
+    floor = apply_calibration(open_capture(HERE / "floor.flac"), cal)
+    results = []
+    for serial in KNOWN_GOOD:
+        cap = lambda name: apply_calibration(open_capture(HERE / "known_good" / serial / f"{name}.flac"), cal)  # noqa: E731
+        results.append(analyze_gain_method(terminated=cap("terminated"), floor=floor,
+                                           gain=GainSetup(tone=cap("tone"), tone_input_vrms=TONE_EMF_VRMS),
+                                           rs_ohm=RS_OHM, temperature_k=TEMPERATURE_K))
+    prof = profile_from_results(results, name="MC head amplifier, known good", serials=list(KNOWN_GOOD))
+    path.write_text("# Made by benchnf from the demo's four known-good units (INVENTED DATA).\n" + prof.to_toml())
 
 
 # --- Y-factor scenarios (INVENTED DATA) ------------------------------------------------------

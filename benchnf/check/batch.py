@@ -83,6 +83,7 @@ class UnitSettings:
     station: str | None = None
     operator: str | None = None
     relative_to: Path | None = None
+    decision_rule: str | None = None  # None: the profile's
 
 
 def unit_floor(unit: Path, settings: UnitSettings, roles: dict[str, Path] | None = None) -> Path | None:
@@ -115,7 +116,7 @@ def _check_unit(unit: Path, profile_path: str, settings: UnitSettings) -> UnitOu
             results = read_result(results_file, kinds=("analysis",))
         else:
             results = _analyse(unit, profile, settings)
-        check = check_results(results, profile, unit=serial)
+        check = check_results(results, profile, unit=serial, decision_rule=settings.decision_rule)
         return UnitOutcome(serial, check.verdict, None, check, results)
     except BenchError as err:
         return UnitOutcome(serial, "ERROR", str(err), None, None)

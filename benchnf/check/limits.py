@@ -1,18 +1,10 @@
 """Checking one unit's results against a profile: verdicts with margins, uncertainty and hints.
 
-Each limit gives a margin (how far the value is inside the limit, positive
-when inside, in the figure's unit; for masks and densities in dB).  With U the
-expanded (k = 2) uncertainty of the figure, where the results carry one:
-
-* margin >= U: PASS;
-* -U < margin < U: MARGINAL (within the uncertainty of the limit: neither a
-  confident pass nor a proven failure);
-* margin <= -U: FAIL.
-
-Without an uncertainty (U unknown) the limit is taken as sharp.  This follows
-the idea of the uncertainty zone of ISO 14253-1 (from memory: conformance, or
-non-conformance, is proven only when the measured value lies inside, or
-outside, the limit by more than the expanded uncertainty).  The overall
+Each limit gives a margin (how far the value is inside the limit, positive when inside, in the figure's
+unit; for masks and densities in dB) and, where the results carry one, the figure's expanded (k = 2)
+uncertainty U. The decision rule (:mod:`.decision`: simple acceptance, guarded acceptance or the
+uncertainty zones of ISO 14253-1; the profile names one, ``--decision-rule`` may choose another) makes the
+verdict, and is stated on every check. Without an uncertainty the limit is taken as sharp. The overall
 verdict is FAIL if any limit fails, else MARGINAL if any is marginal, else PASS.
 """
 
@@ -20,13 +12,15 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Any, Literal
+from typing import Any
 
 from ..codec import ResultFile, figure
 from ..errors import ParameterError
 from ..measure.provenance import Provenance
 from ..measure.results import FIGURE_UNITS, RELATIVE_UNITS, AnalysisResult
 from ..quantity import Quantity
+from .decision import Verdict, check_rule, classify
+from .diagnosis import diagnose
 from .profile import Profile
 
 __all__ = ["LimitVerdict", "CheckConditions", "CheckResult", "check_results", "HINTS"]
@@ -58,7 +52,7 @@ class LimitVerdict:
     margin: float | None
     unit: str
     uncertainty: float | None
-    verdict: Literal["PASS", "MARGINAL", "FAIL"]
+    verdict: Verdict
     hint: str | None
     value_unit: str = ""  # the unit of `measured`, `lower` and `upper`
     lower: float | None = None
@@ -90,25 +84,16 @@ class CheckResult(ResultFile):
 
     unit: str
     profile: str
-    verdict: Literal["PASS", "MARGINAL", "FAIL"]
+    verdict: Verdict
     conditions: CheckConditions
     limits: tuple[LimitVerdict, ...]
+    decision_rule: str = figure(default="zones", enum=["simple", "guarded", "zones"])
+    diagnosis: tuple[str, ...] = ()  # the findings, in the order to act on them (.diagnosis)
     provenance: Provenance | None = figure(default=None, omit_if_none=True)
 
     @property
     def failed(self) -> bool:
         return self.verdict == "FAIL"
-
-
-def _classify(margin: float | None, u: float | None) -> Literal["PASS", "MARGINAL", "FAIL"]:
-    if margin is None:
-        return "FAIL"
-    u = u or 0.0
-    if margin >= u and margin >= 0:
-        return "PASS"
-    if margin > -u:
-        return "MARGINAL"
-    return "FAIL"
 
 
 def _check_conditions(results: AnalysisResult, profile: Profile) -> None:
@@ -133,7 +118,7 @@ def _check_conditions(results: AnalysisResult, profile: Profile) -> None:
                              f"(--floor) as the profile's units had it, or make the profile again")
 
 
-def _scalar(results: AnalysisResult, lim: Any) -> LimitVerdict:
+def _scalar(results: AnalysisResult, lim: Any, rule: str) -> LimitVerdict:
     value = results.figure(lim.key)
     unit = FIGURE_UNITS[lim.key][0]
     u = results.figure_u(lim.key)
@@ -148,13 +133,13 @@ def _scalar(results: AnalysisResult, lim: Any) -> LimitVerdict:
     if lim.min is not None:
         margins.append(20 * math.log10(value / lim.min) if relative else value - lim.min)
     margin = min(margins)
-    verdict = _classify(margin, u)
+    verdict = classify(margin, u, rule)
     margin_unit = "dB" if relative or unit in ("dBu", "dBV") else unit
     return LimitVerdict(lim.key, float(value), text, margin, margin_unit, u, verdict,
                         HINTS.get(lim.key) if verdict != "PASS" else None, unit, lim.min, lim.max)
 
 
-def _mask(results: AnalysisResult, mask: Any) -> LimitVerdict:
+def _mask(results: AnalysisResult, mask: Any, rule: str) -> LimitVerdict:
     rank = {"PASS": 0, "MARGINAL": 1, "FAIL": 2}
     unit = "dB" if mask.quantity == "noise_figure_db" else "V/√Hz"
     worst_row: tuple[int, float, float, float, float | None] | None = None
@@ -165,47 +150,48 @@ def _mask(results: AnalysisResult, mask: Any) -> LimitVerdict:
             continue
         margin = (at - v) if mask.quantity == "noise_figure_db" else 20 * math.log10(at / v)
         u = s.input_density_expanded_db if mask.quantity != "noise_figure_db" else s.noise_figure_expanded_db
-        key = (rank[_classify(margin, u)], -margin)
+        key = (rank[classify(margin, u, rule)], -margin)
         if worst_row is None or key > (worst_row[0], -worst_row[1]):
             worst_row = (key[0], margin, s.freq_hz, float(v), u)
     if worst_row is None:
         return LimitVerdict(f"mask {mask.quantity}", None, "mask", None, "dB", None, "FAIL",
                             "no spot value lies inside the mask's span", unit)
     _r, margin, f_worst, value, u = worst_row
-    verdict = _classify(margin, u)
+    verdict = classify(margin, u, rule)
     at = mask.at(f_worst) or math.nan  # a worst point lies inside the mask's span
     return LimitVerdict(f"mask {mask.quantity} (worst at {f_worst:g} Hz)", value, f"max {Quantity(at, unit).text()}",
                         margin, "dB", u, verdict, HINTS["input_density_v_per_rthz"] if verdict != "PASS" else None,
                         unit, None, at)
 
 
-def _hum(results: AnalysisResult, h: Any) -> LimitVerdict:
+def _hum(results: AnalysisResult, h: Any, rule: str) -> LimitVerdict:
     level = math.sqrt(sum(sp.output_vrms ** 2 for sp in results.spurs if h.family in ("all", sp.family)))
     margin = 20 * math.log10(h.max_output_vrms / level) if level > 0 else math.inf
-    verdict = _classify(margin, None)
+    verdict = classify(margin, None, rule)
     return LimitVerdict(f"hum {h.family}", level, f"max {_in_unit_of(h.max_output_vrms, level, 'V')}",
                         margin if math.isfinite(margin) else 99.0, "dB", None, verdict,
                         HINTS[h.family] if verdict != "PASS" else None, "V", None, h.max_output_vrms)
 
 
-def check_results(results: AnalysisResult, profile: Profile, *, unit: str = "unit") -> CheckResult:
-    """Check a unit's gain-method result against a profile.
+def check_results(results: AnalysisResult, profile: Profile, *, unit: str = "unit",
+                  decision_rule: str | None = None) -> CheckResult:
+    """Check a unit's gain-method result against a profile, by `decision_rule` (default: the profile's).
 
     Raises
     ------
     ParameterError
-        Other measurement conditions than the profile's.
+        Other measurement conditions than the profile's; an unknown decision rule.
     """
+    rule = check_rule(decision_rule or profile.decision_rule)
     _check_conditions(results, profile)
-    verdicts = ([_scalar(results, lim) for lim in profile.limits] + [_mask(results, m) for m in profile.masks]
-                + [_hum(results, h) for h in profile.hum])
-    overall: Literal["PASS", "MARGINAL", "FAIL"] = (
-        "FAIL" if any(v.verdict == "FAIL" for v in verdicts) else
-        "MARGINAL" if any(v.verdict == "MARGINAL" for v in verdicts) else "PASS")
+    verdicts = ([_scalar(results, lim, rule) for lim in profile.limits]
+                + [_mask(results, m, rule) for m in profile.masks] + [_hum(results, h, rule) for h in profile.hum])
+    overall: Verdict = ("FAIL" if any(v.verdict == "FAIL" for v in verdicts) else
+                        "MARGINAL" if any(v.verdict == "MARGINAL" for v in verdicts) else "PASS")
     r = results
     cond = CheckConditions(r.rs_ohm, r.temperature_k, r.band_hz, r.weighting, r.detector, r.floor_corrected,
                            r.sample_rate_hz)
-    return CheckResult(unit, profile.name, overall, cond, tuple(verdicts))
+    return CheckResult(unit, profile.name, overall, cond, tuple(verdicts), rule, diagnose(verdicts, r.spurs))
 
 
 def _in_unit_of(limit: float, measured: float | None, unit: str) -> str:

@@ -18,10 +18,11 @@ from typing import Any
 import numpy as np
 
 from ..errors import ParameterError
-from ..measure.results import SCALAR_FIGURES, AnalysisResult
+from ..measure.results import SCALAR_FIGURES
+from .decision import check_rule
 
-__all__ = ["PROFILE_SCHEMA", "ScalarLimit", "Mask", "HumLimit", "Profile", "load_profile", "profile_from_results",
-           "SCALAR_KEYS", "MASK_QUANTITIES"]
+__all__ = ["PROFILE_SCHEMA", "ScalarLimit", "Mask", "HumLimit", "Profile", "ProfileOrigin", "load_profile",
+           "profile_from_data", "SCALAR_KEYS", "MASK_QUANTITIES"]
 
 PROFILE_SCHEMA = "benchnf.profile/1"
 
@@ -115,8 +116,40 @@ class HumLimit:
 
 
 @dataclass(frozen=True)
+class ProfileOrigin:
+    """How a profile was made from known-good units: how many, which, the tolerance interval's coverage and
+    confidence and its factors, the extra margin, and the figures left without a limit (and why)."""
+
+    units: int
+    serials: tuple[str, ...]
+    coverage: float
+    confidence: float
+    k1: float
+    k2: float
+    margin_db: float = 0.0
+    not_limited: tuple[str, ...] = ()
+
+    def describe(self) -> str:
+        text = (f"made from {self.units} known-good units ({', '.join(self.serials)}): normal tolerance limits "
+                f"(ISO 16269-6) containing {100 * self.coverage:g} % of good units with {100 * self.confidence:g} % "
+                f"confidence (k1 = {self.k1:.3f} one-sided, k2 = {self.k2:.3f} two-sided), each moved out by "
+                f"the figure's largest U (k=2)" + (f" and a margin of {self.margin_db:g} dB" if self.margin_db else ""))
+        if self.not_limited:
+            text += f"; no limit on {', '.join(self.not_limited)}"
+        return text
+
+    def to_data(self) -> dict[str, Any]:
+        data: dict[str, Any] = {"units": self.units, "serials": list(self.serials), "coverage": self.coverage,
+                                "confidence": self.confidence, "k1": self.k1, "k2": self.k2,
+                                "margin_db": self.margin_db}
+        if self.not_limited:
+            data["not_limited"] = list(self.not_limited)
+        return data
+
+
+@dataclass(frozen=True)
 class Profile:
-    """The conditions and limits of a known-good unit."""
+    """The conditions and limits of known-good units, how they were made and the decision rule to apply."""
 
     name: str
     conditions: dict[str, Any]
@@ -125,6 +158,8 @@ class Profile:
     hum: tuple[HumLimit, ...] = ()
     notes: str = ""
     source: str = field(default="", compare=False)
+    origin: ProfileOrigin | None = None
+    decision_rule: str = "zones"
 
     def to_toml(self) -> str:
         """The profile as TOML, written by a TOML writer (tomli-w), so any name or note round-trips through
@@ -133,11 +168,15 @@ class Profile:
         data: dict[str, Any] = {"schema": PROFILE_SCHEMA, "name": self.name}
         if self.notes:
             data["notes"] = self.notes
+        data["decision_rule"] = self.decision_rule
+        if self.origin is not None:
+            data["made_from"] = self.origin.to_data()
         data["conditions"] = {k: (list(v) if isinstance(v, tuple) else v) for k, v in sorted(self.conditions.items())}
         data["limit"] = [lim.to_data() for lim in self.limits]
-        data["mask"] = [{"quantity": m.quantity, "points": [[f, v] for f, v in zip(m.frequency_hz, m.limit)]}
-                        for m in self.masks]
-        data["hum"] = [{"family": h.family, "max_output_vrms": h.max_output_vrms} for h in self.hum]
+        data["mask"] = [{"quantity": m.quantity, "points": [[f, v] for f, v in zip(m.frequency_hz, m.limit)],
+                         **({"note": m.note} if m.note else {})} for m in self.masks]
+        data["hum"] = [{"family": h.family, "max_output_vrms": h.max_output_vrms, **({"note": h.note} if h.note else {})}
+                       for h in self.hum]
         return tomli_w.dumps({k: v for k, v in data.items() if v != []})
 
 
@@ -183,12 +222,26 @@ class _Conditions:
 
 
 @dataclass(frozen=True)
+class _MadeFrom:
+    units: int
+    serials: tuple[str, ...]
+    coverage: float
+    confidence: float
+    k1: float
+    k2: float
+    margin_db: float = 0.0
+    not_limited: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
 class ProfileFile:
     """The shape of a profile file (TOML): every key, its kind (the profile's JSON Schema is made from it)."""
 
     schema: str
     name: str | None = None
     notes: str = ""
+    decision_rule: str = "zones"
+    made_from: _MadeFrom | None = None
     conditions: _Conditions = _Conditions()
     limit: tuple[_LimitTable, ...] = ()
     mask: tuple[_MaskTable, ...] = ()
@@ -220,6 +273,8 @@ def profile_from_data(data: dict[str, Any], *, where: str | Path) -> Profile:
         raise ParameterError(f"profile {path}: band_hz must be [low, high] with 0 <= low < high")
     if c.rs_ohm is not None and not _finite(c.rs_ohm, "rs_ohm") > 0:
         raise ParameterError(f"profile {path}: rs_ohm must be > 0")
+    if c.temperature_k is not None and not _finite(c.temperature_k, "temperature_k") > 0:
+        raise ParameterError(f"profile {path}: temperature_k must be above 0 K")
     try:
         limits = [_limit(lim, f"profile {path} limit {i}") for i, lim in enumerate(shape.limit, 1)]
         masks = [Mask(m.quantity, tuple(_finite(f, "mask frequency") for f, _ in m.points),
@@ -231,107 +286,55 @@ def profile_from_data(data: dict[str, Any], *, where: str | Path) -> Profile:
     if not (limits or masks or hum):
         raise ParameterError(f"profile {path} holds no limits")
     cond = {k: (list(v) if isinstance(v, tuple) else v) for k, v in c.__dict__.items() if v is not None}
+    try:
+        check_rule(shape.decision_rule)
+        _check_satisfiable(limits, masks, cond)
+    except ParameterError as err:
+        raise ParameterError(f"profile {path}: {err}") from None
+    m = shape.made_from
+    origin = ProfileOrigin(m.units, m.serials, m.coverage, m.confidence, m.k1, m.k2, m.margin_db,
+                           m.not_limited) if m is not None else None
     return Profile(shape.name if shape.name is not None else Path(path).stem, cond, tuple(limits), tuple(masks),
-                   tuple(hum), shape.notes, str(path))
+                   tuple(hum), shape.notes, str(path), origin, shape.decision_rule)
 
 
-#: A mask point needs a one-third-octave band this many spectrum bins wide: over fewer, a spot value's own
-#: scatter (relative std about sqrt(2 / (nu * bins))) makes good units read MARGINAL at random.
-MIN_MASK_BINS = 10
-_THIRD_OCTAVE_WIDTH = 10 ** (1 / 20) - 10 ** (-1 / 20)  # band width over centre frequency, 0.2316
+def _check_satisfiable(limits: list[ScalarLimit], masks: list[Mask], cond: dict[str, Any]) -> None:
+    """Refuse limits no unit can meet: several limits on one figure that exclude each other, a noise figure
+    limited below 0 dB, an EIN or density limited below the source resistor's own thermal noise."""
+    lows: dict[str, float] = {}
+    highs: dict[str, float] = {}
+    for lim in limits:
+        if lim.min is not None:
+            lows[lim.key] = max(lows.get(lim.key, -math.inf), lim.min)
+        if lim.max is not None:
+            highs[lim.key] = min(highs.get(lim.key, math.inf), lim.max)
+        lo, hi = lows.get(lim.key, -math.inf), highs.get(lim.key, math.inf)
+        if lo > hi:
+            raise ParameterError(f"the limits on {lim.key} ask for at least {lo:g} and at most {hi:g}: no unit can "
+                                 f"pass them; correct the profile")
+    for key in ("noise_figure_db", "nf_at_1khz_db"):
+        if highs.get(key, math.inf) < 0:
+            raise ParameterError(f"the limit on {key} is below 0 dB ({highs[key]:g}), which no amplifier reaches")
+    for m in masks:
+        if m.quantity == "noise_figure_db" and min(m.limit) < 0:
+            raise ParameterError("the noise figure mask goes below 0 dB, which no amplifier reaches")
+    _check_thermal(highs, masks, cond)
 
 
-def _lowest_mask_hz(results: list[AnalysisResult]) -> float:
-    """The lowest spot frequency whose band holds MIN_MASK_BINS bins in every good unit's spectrum."""
-    widths = [r.sample_rate_hz / r.segment_length for r in results]
-    return MIN_MASK_BINS * max(widths) / _THIRD_OCTAVE_WIDTH if widths else 0.0
-
-
-# The figures a profile sets limits on; a result that carries one must carry a number.
-_PROFILED = ("gain_db", "ein_dbu", "noise_figure_db", "nf_at_1khz_db")
-
-
-def _conditions_of(results: list[AnalysisResult]) -> dict[str, Any]:
-    """The good units' shared conditions (refused where they differ)."""
-    def of(r: AnalysisResult) -> dict[str, Any]:
-        return {"rs_ohm": r.rs_ohm, "band_hz": list(r.band_hz), "weighting": r.weighting,
-                "sample_rate_hz": r.sample_rate_hz, "floor_corrected": r.floor_corrected}
-    cond = of(results[0])
-    for r in results[1:]:
-        for k, v in of(r).items():
-            if v != cond[k]:
-                raise ParameterError(f"the known-good units were measured under different conditions "
-                                     f"({k}: {cond[k]!r} and {v!r}): make one profile per condition")
-    temps = [r.temperature_k for r in results]
-    if max(temps) - min(temps) > 5.0:  # checks allow 5 K either side (check/limits.py)
-        raise ParameterError(f"the known-good units were measured at {min(temps):g} to {max(temps):g} K: "
-                             f"more than 5 K apart; make one profile per temperature")
-    cond["temperature_k"] = round(sum(temps) / len(temps), 2)
-    return cond
-
-
-def profile_from_results(results: list[AnalysisResult], *, margin_db: float = 1.0, name: str = "known good",
-                         spread_k: float = 3.0) -> Profile:
-    """Make a profile from the results of one or more known-good units.
-
-    Each limit is the worst good value moved out by `margin_db` (and, where
-    several units are given, by `spread_k` standard deviations of their
-    spread): gain as target +/- tolerance, EIN and noise figures as maxima,
-    an upper mask on the input-referred spot density, hum per family, and the
-    1/f corner as a maximum.  The conditions are the units' own and must agree.
-    """
-    if not results:
-        raise ParameterError("give at least one known-good results JSON")
-    if not (math.isfinite(margin_db) and margin_db >= 0):
-        raise ParameterError(f"--margin-db {margin_db!r} must be >= 0")
-    cond = _conditions_of(results)
-    for i, r in enumerate(results, 1):
-        for key in _PROFILED:
-            if r.figure(key) is None and not (key == "nf_at_1khz_db" and getattr(r, key) is None):
-                raise ParameterError(f"results {i}: {key} is not a number, so the profile would lack "
-                                     f"its limit: measure that unit again")
-
-    def values(key):
-        return np.array([v for r in results if (v := r.figure(key)) is not None], dtype=float)
-
-    def spread(v):
-        return spread_k * float(np.std(v, ddof=1)) if v.size > 1 else 0.0
-
-    limits = []
-    g = values("gain_db")
-    if g.size:
-        tol = margin_db + spread(g)
-        limits.append(ScalarLimit("gain_db", float(g.mean()) - tol, float(g.mean()) + tol,
-                                  "known-good mean +/- margin"))
-    for key in ("ein_dbu", "noise_figure_db", "nf_at_1khz_db"):
-        v = values(key)
-        if v.size:
-            limits.append(ScalarLimit(key, None, float(v.max()) + margin_db + spread(v), "worst good + margin"))
-    v = values("flicker_corner_hz")
-    if v.size:
-        limits.append(ScalarLimit("flicker_corner_hz", None, float(v.max()) * 10 ** (margin_db / 10) * 1.5,
-                                  "worst good corner x 1.5 x margin"))
-    masks = []
-    # Each good spot value moved up by its own expanded uncertainty (the good unit's value is itself a
-    # measurement), then by the margin.
-    spots = [{s.freq_hz: (s.input_density_v_per_rthz * 10 ** ((s.input_density_expanded_db or 0.0) / 20)
-                          if s.input_density_v_per_rthz else None) for s in r.spot} for r in results]
-    freqs = sorted(set.intersection(*(set(k for k, v in s.items() if v) for s in spots))) if spots else []
-    freqs = [f for f in freqs if f >= _lowest_mask_hz(results)]
-    if len(freqs) >= 2:
-        worst = [max(v for s in spots if (v := s[f]) is not None) * 10 ** (margin_db / 20) for f in freqs]
-        masks.append(Mask("input_density_v_per_rthz", tuple(float(f) for f in freqs), tuple(worst),
-                          "worst good spot density + its uncertainty + margin"))
-    hum = []
-    noise = values("output_noise_vrms")
-    for family in ("mains", "ripple"):
-        levels = [math.sqrt(sum(sp.output_vrms ** 2 for sp in r.spurs if sp.family == family)) for r in results]
-        top = max(levels) if levels else 0.0
-        if top > 0:
-            hum.append(HumLimit(family, top * 2 * 10 ** (margin_db / 20), "worst good x 2 + margin"))
-        elif noise.size:
-            # No such lines on the good units: allow none stronger than 20 dB below the broadband noise.
-            hum.append(HumLimit(family, float(noise.min()) * 0.1 * 10 ** (margin_db / 20),
-                                "good units had none: 20 dB below the output noise + margin"))
-    return Profile(name, cond, tuple(limits), tuple(masks), tuple(hum),
-                   f"made from {len(results)} known-good unit(s) with {margin_db:g} dB margin")
+def _check_thermal(highs: dict[str, float], masks: list[Mask], cond: dict[str, Any]) -> None:
+    """Limits below the source's own thermal noise (given the profile's Rs, band and temperature)."""
+    from ..units import BOLTZMANN_J_PER_K, T0_K
+    rs = cond.get("rs_ohm")
+    if rs is None:
+        return
+    density = math.sqrt(4 * BOLTZMANN_J_PER_K * float(cond.get("temperature_k", T0_K)) * float(rs))
+    for m in masks:
+        if m.quantity == "input_density_v_per_rthz" and min(m.limit) < density:
+            raise ParameterError(f"the input density mask goes below {min(m.limit):.3g} V/rtHz, under the "
+                                 f"{rs:g} ohm source's own thermal noise ({density:.3g} V/rtHz)")
+    band = cond.get("band_hz")
+    if "ein_dbu" in highs and band is not None and cond.get("weighting", "none") == "none":
+        thermal_dbu = 20 * math.log10(density * math.sqrt(band[1] - band[0]) / math.sqrt(0.6))
+        if highs["ein_dbu"] < thermal_dbu:
+            raise ParameterError(f"the EIN limit {highs['ein_dbu']:.2f} dBu is below the {rs:g} ohm source's own "
+                                 f"thermal noise in the band ({thermal_dbu:.2f} dBu)")

@@ -82,6 +82,13 @@ def say_rate_note(device: str | None, host_api: str | None, rate: float, *, warn
         print(f"benchnf: warning: {note}", file=sys.stderr)
 
 
+def decision_rule_option(p: Any) -> None:
+    from ..check.decision import DECISION_RULES
+    p.add_argument("--decision-rule", choices=list(DECISION_RULES), metavar="RULE",
+                   help="how U enters a verdict: simple (guard band 0), guarded (guard band U) or zones "
+                        "(PASS/MARGINAL/FAIL, ISO 14253-1); default: the profile's (docs/check.md)")
+
+
 def common_options(p: Any) -> None:
     p.add_argument("--quiet", action="store_true", help="no progress bar")
     p.add_argument("--overwrite", action="store_true",

@@ -87,12 +87,53 @@ def gain_db(text: str) -> float:
     return _number(text, "a voltage gain from -100 to 200 dB", lambda v: -100 <= v <= 200)
 
 
+def positive_number(text: str) -> float:
+    return _number(text, "a number > 0", lambda v: v > 0)
+
+
 def positive_db(text: str) -> float:
     return _number(text, "a number of dB > 0 and at most 100", lambda v: 0 < v <= 100)
 
 
 def fraction(text: str) -> float:
     return _number(text, "a fraction from 0 to 0.45", lambda v: 0 <= v <= 0.45)
+
+
+def probability(text: str) -> float:
+    return _number(text, "a probability from 0.5 up to (not including) 1, e.g. 0.95", lambda v: 0.5 <= v < 1)
+
+
+def iso_time(text: str) -> str:
+    """An ISO 8601 date or date and time (``2026-12-01``, ``2026-12-01T08:00``, ``...+01:00``), as the UTC text
+    the records keep (a time without an offset is taken as UTC); anything else refused."""
+    import datetime as dt
+    import re
+    s = text.strip()
+    if not re.fullmatch(r"\d{4}-\d{2}-\d{2}([T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?(Z|[+-]\d{2}:\d{2})?)?", s):
+        raise argparse.ArgumentTypeError(f"{text!r} is not an ISO 8601 date or time: write e.g. 2026-12-01 or "
+                                         f"2026-12-01T08:00 (UTC unless an offset such as +01:00 follows)")
+    try:
+        when = dt.datetime.fromisoformat(s.replace("Z", "+00:00"))
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a date that exists") from None
+    if len(s) == 10:
+        return s
+    if when.tzinfo is None:
+        when = when.replace(tzinfo=dt.timezone.utc)
+    return when.astimezone(dt.timezone.utc).isoformat(timespec="seconds")
+
+
+#: The formats a records export is written in, by the output file's suffix.
+EXPORT_SUFFIXES = (".csv", ".parquet")
+
+
+def export_file(text: str) -> Path:
+    """An export file whose suffix names its format (.csv or .parquet); any other refused."""
+    path = Path(text)
+    if path.suffix.lower() not in EXPORT_SUFFIXES:
+        raise argparse.ArgumentTypeError(f"{text}: the suffix names the format, one of {', '.join(EXPORT_SUFFIXES)} "
+                                         f"(a spreadsheet opens the .csv)")
+    return path
 
 
 def existing_folder(text: str) -> Path:

@@ -11,6 +11,7 @@ from ..write import Writer
 from ._common import (
     calibration_options,
     common_options,
+    decision_rule_option,
     progress,
     records_options,
     relative_to_option,
@@ -42,6 +43,7 @@ def add_parser(sub: Any) -> None:
     p.add_argument("--weighting", choices=["none", "A", "C", "468", "468-2k"],
                    help="weighting (must agree with the profile)")
     p.add_argument("--history", type=Path, metavar="FILE", help="history CSV to append to (default DIR/history.csv)")
+    decision_rule_option(p)
     p.add_argument("--workers", type=whole_count, metavar="N", help="parallel processes (default: the cores)")
     calibration_options(p)
     relative_to_option(p)
@@ -76,7 +78,7 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
         calibration=args.calibration, volts_per_fs=args.volts_per_fs, floor=args.floor,
         tone_input_vrms=args.tone_input_vrms, rs_ohm=args.rs, temperature_k=args.temperature_k,
         band_hz=tuple(args.band) if args.band else None, weighting=args.weighting, station=args.station,
-        operator=args.operator, relative_to=args.relative_to)
+        operator=args.operator, relative_to=args.relative_to, decision_rule=args.decision_rule)
     with progress(len(units), quiet=args.quiet, label="checking") as tick:
         outcomes = check_batch(Path(args.units), str(args.profile), settings=settings, workers=args.workers,
                                progress=tick)

@@ -7,19 +7,20 @@ from pathlib import Path
 from typing import Any
 
 from ..write import Writer
-from ._common import common_options, records_options, relative_to_option, settle_station
+from ._common import common_options, decision_rule_option, records_options, relative_to_option, settle_station
 from .status import ExitStatus
 
 
 def add_parser(sub: Any) -> None:
     p = sub.add_parser("check", help="check one unit's results against a profile (exit 0 pass, 1 fail)",
-                       description="Each limit PASS, MARGINAL (inside it by less than the uncertainty) or FAIL, "
-                                   "with the margin and a suggestion; exit status 0 pass, 1 fail, 2 bad input.")
+                       description="Each limit PASS, MARGINAL or FAIL by the decision rule (stated with the verdict), "
+                                   "with the margin, U and a suggestion; exit status 0 pass, 1 fail, 2 bad input.")
     p.add_argument("--profile", type=Path, required=True, metavar="PROFILE.toml")
     p.add_argument("results", type=Path, metavar="RESULTS.json", help="results of 'benchnf analyze --json'")
     p.add_argument("--unit", metavar="SERIAL", help="the unit's name (default: the file name)")
     p.add_argument("--report", type=Path, metavar="DIR", help="write an HTML report and a PNG summary")
     p.add_argument("--json", type=Path, metavar="OUT.json")
+    decision_rule_option(p)
     relative_to_option(p)
     records_options(p)
     common_options(p)
@@ -41,7 +42,7 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     if url:
         from ..records import connect
         store = connect(url)  # refused now, before the check, if it cannot be opened
-    res = check_results(results, profile, unit=unit)
+    res = check_results(results, profile, unit=unit, decision_rule=args.decision_rule)
     print(render_text(present(res)), end="")
     if args.json:
         from ..measure.provenance import provenance

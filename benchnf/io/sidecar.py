@@ -4,7 +4,9 @@ For ``bench/floor.flac`` the sidecar is ``bench/floor.json`` (the name
 without its extension) or ``bench/floor.flac.json``; having both is an error.
 Known keys (all optional): ``condition``, ``volts_per_fs``, ``rs_ohm``,
 ``temperature_k``, ``channel``, ``device``, ``host_api``, ``recorded_at``,
-``notes``.  Other keys are kept and passed through.
+``gain_setting`` (the interface's input gain as its control reads), ``input_gain_db`` (the same in dB),
+``calibration``, ``notes``.  Other keys are kept and passed through. The captures of one measurement are
+compared on their setting (:mod:`benchnf.measure.together`).
 """
 
 from __future__ import annotations
@@ -23,7 +25,7 @@ __all__ = ["sidecar_candidates", "find_sidecar", "read_sidecar", "write_sidecar"
 _RANGES: dict[str, tuple[float, float, bool]] = {
     "volts_per_fs": (0.0, 1e4, False), "rs_ohm": (0.0, 1e9, True), "temperature_k": (0.0, 1000.0, False),
     "tone_input_vrms": (0.0, 1e3, False), "tone_hz": (0.0, 1e9, False), "meter_vrms": (0.0, 1e3, False),
-    "sample_rate_hz": (0.0, 1e9, False),
+    "sample_rate_hz": (0.0, 1e9, False), "input_gain_db": (-200.0, 200.0, True),
 }
 
 

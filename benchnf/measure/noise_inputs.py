@@ -85,6 +85,10 @@ def with_vpfs(cap: NoiseInput | None, vpfs: float | None, role: str, label: str)
         return cap
     if cap.volts_per_fs is None:
         return cap.replace(volts_per_fs=vpfs) if vpfs is not None else cap
+    step = cap.metadata.get("input_gain_step_db")  # corrected by a stated step (.together): its own on purpose
+    if step is not None and vpfs is not None and math.isclose(cap.volts_per_fs, vpfs * 10 ** (-step / 20),
+                                                              rel_tol=1e-12):
+        return cap
     if vpfs is not None and cap.volts_per_fs != vpfs:
         raise CaptureError(f"the {role} capture has a different calibration ({cap.volts_per_fs:g} "
                            f"V/FS) from {label} ({vpfs:g} V/FS): all noise captures must come from "

@@ -9,7 +9,7 @@ so they resolve files, sidecars, calibration and profile conditions by the same 
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
@@ -89,6 +89,7 @@ def resolve_gain_method(req: GainMethodRequest) -> dict[str, Any]:
     from ..dsp.weighting import Band
     from ..noise.uncertainty import StatedUncertainty
     from .gain import GainSetup
+    from .together import captures_together
     if not req.terminated:
         raise ParameterError("give at least one terminated capture")
     distinct_files(list(req.terminated), "terminated repeats")
@@ -129,7 +130,13 @@ def resolve_gain_method(req: GainMethodRequest) -> dict[str, Any]:
     if req.flicker_range_hz is not None and req.flicker_range_hz[0] >= req.flicker_range_hz[1]:
         raise ParameterError(f"--flicker-range {req.flicker_range_hz[0]:g} {req.flicker_range_hz[1]:g}: the low "
                              f"edge must be below the high edge")
-    return dict(terminated=runs, floor=open_one(req.floor, "floor"), shorted=open_one(req.shorted, "shorted"),
+    alike, steps = captures_together({"terminated": runs[0], **{f"repeat {i}": r for i, r in enumerate(runs[1:], 2)},
+                                      "floor": open_one(req.floor, "floor"), "shorted": open_one(req.shorted, "shorted"),
+                                      "tone": tone})
+    runs = [alike["terminated"], *(alike[f"repeat {i}"] for i in range(2, len(runs) + 1))]
+    gain = replace(gain, tone=alike["tone"])
+    assumptions += steps
+    return dict(terminated=runs, floor=alike["floor"], shorted=alike["shorted"],
                 gain=gain, rs_ohm=float(rs), temperature_k=float(temperature), band=Band(*band), weighting=weighting,
                 detector=req.detector, segment_length=req.segment_length, mains_hz=req.mains_hz,
                 flicker_range_hz=req.flicker_range_hz, flicker_free_slope=req.flicker_free_slope, stated=stated,

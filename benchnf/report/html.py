@@ -124,6 +124,7 @@ def unit_report_html(*, serial: str, verdict: str, check: CheckResult | None, re
                      profile: Any = None, error: str | None = None) -> str:
     """One unit's report as a single self-contained page: verdict, limits, figures, conditions, record."""
     from .present_analysis import present as present_analysis
+    from ..check.decision import rule_text
     from .present_check import MARGINAL_WORDS, limit_rows
     tone = _TONE.get(verdict, "#55606a")
     rows = "".join(f"<tr class='{_e(str(row[5]).lower())}'>" + "".join(f"<td>{_e(Table.cell('', c))}</td>" for c in row)
@@ -142,16 +143,24 @@ def unit_report_html(*, serial: str, verdict: str, check: CheckResult | None, re
     marginal = (f"<p>{_e(MARGINAL_WORDS)}</p>" if check and any(v.verdict == "MARGINAL" for v in check.limits) else "")
     body = f"""<h1>Unit {_e(serial)}</h1>
 <p><span class="verdict">{_e(verdict)}</span> against profile <i>{_e(check.profile if check else '-')}</i></p>
+{f"<p>Decision rule: {_e(rule_text(check.decision_rule))}.</p>" if check else ""}
 {floor_note}{f"<p class='err'>{_e(error)}</p>" if error else ""}
 <h2>Limits</h2>
 <table><tr><th>limit</th><th>measured</th><th>limit</th><th>margin</th><th>U (k=2)</th><th>verdict</th>
 <th>suggestion</th></tr>{rows}</table>
 {marginal}
+{_findings_html(check)}
 <h2>Figures</h2>{figures}
 <h2>Measurement conditions</h2><table>{cond_rows}</table>
 {_provenance_html(results.provenance if results is not None else None)}
 <footer>benchnf check report. Suggestions are general trade knowledge, not a diagnosis. {_e(_CAUTION)}</footer>"""
     return page_html(f"benchnf check: {serial}", body, accent=tone)
+
+
+def _findings_html(check: CheckResult | None) -> str:
+    if check is None or not check.diagnosis:
+        return ""
+    return "<h2>Findings, in the order to act on them</h2><ol>" + "".join(f"<li>{_e(f)}</li>" for f in check.diagnosis) + "</ol>"
 
 
 def page_html(title: str, body: str, *, accent: str = "#55606a") -> str:

@@ -3,6 +3,7 @@ the limit in the same unit and digits, the margin, U and the suggestion, and the
 
 from __future__ import annotations
 
+from ..check.decision import rule_text
 from ..check.limits import CheckResult
 from ..quantity import Quantity
 from .labels import condition_rows, limit_label
@@ -27,10 +28,12 @@ def present(check: CheckResult) -> View:
     """The view of one unit's check."""
     table = Table("Limits (U: expanded, k=2)", ("limit", "measured", "limit", "margin", "U", "verdict", "suggestion"),
                   limit_rows(check))
-    conditions = tuple(condition_rows(check.conditions))
+    conditions = (*condition_rows(check.conditions), ("decision rule", rule_text(check.decision_rule)))
     floor_note = ("" if check.conditions.floor_corrected is not False
                   else "the analyzer floor was NOT subtracted: the figures include the analyzer's own noise")
     notes = tuple(n for n in (floor_note, MARGINAL_WORDS if any(v.verdict == "MARGINAL" for v in check.limits) else "")
                   if n)
-    return View("check", f"{check.unit} against profile {check.profile!r}: {check.verdict}", conditions, (), (table,),
-                (), notes, (), (), f"{check.verdict}")
+    findings = Table("Findings, in the order to act on them", ("finding",), tuple((f,) for f in check.diagnosis))
+    return View("check", f"{check.unit} against profile {check.profile!r}: {check.verdict} "
+                f"(decision rule: {check.decision_rule})", conditions, (), (table, findings), (), notes, (), (),
+                f"{check.verdict} ({check.decision_rule})")

@@ -37,6 +37,9 @@ def make_base(folder: Path) -> None:
     assert main(["analyze", "--terminated", str(folder / "terminated.wav"), "--floor", str(folder / "floor.wav"),
                  "--tone", str(folder / "tone.wav"), "--calibration", str(folder / "cal.json"), "--quiet",
                  "--json", str(folder / "results.json")]) == 0
+    data = json.loads((folder / "results.json").read_text())
+    for i, name in enumerate(("good2.json", "good3.json"), 1):  # two more good units for a profile (INVENTED)
+        (folder / name).write_text(json.dumps({**data, "gain_db": data["gain_db"] + 0.02 * i}))
     for name in ("head_amp_chain.toml", "known_good_profile.toml", "noise_source_enr.toml"):
         shutil.copy(DEMO / name, folder / name)
     for stem in ("vhf_hot", "vhf_cold"):

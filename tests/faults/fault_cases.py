@@ -27,6 +27,7 @@ ENI = ["eni", "{d}/shorted.wav@0", "{d}/terminated.wav@200", "--tone", "{d}/tone
        "--quiet"]
 BUDGET = ["budget", "{d}/head_amp_chain.toml", "--tap", "{d}/terminated.wav", "{d}/tone.wav", "--rs", "200",
           "--volts-per-fs", "2", "--quiet"]
+GOODS = ["{d}/results.json", "{d}/good2.json", "{d}/good3.json"]  # three known-good units for a profile
 CHECK = ["check", "--profile", "{d}/known_good_profile.toml", "{d}/results.json"]
 BATCH = ["batch", "{d}/units", "--profile", "{d}/known_good_profile.toml", "--volts-per-fs", "2", "--quiet",
          "--workers", "1", "-o", "{d}/out/batch"]
@@ -190,7 +191,7 @@ def _absurd_numbers() -> list[Case]:
         ("cascade --what-if bad value", nothing, ["cascade", "{d}/head_amp_chain.toml", "--what-if", "1",
                                                    "nf_db=low"], 2),
         ("batch --workers 0", nothing, [*BATCH, "--workers", "0"], 2),
-        ("profile --margin-db -1", nothing, ["profile", "{d}/results.json", "--margin-db", "-1", "-o",
+        ("profile --margin-db -1", nothing, ["profile", *GOODS, "--margin-db", "-1", "-o",
                                              "{d}/out/p.toml"], 2),
         ("eni FILE@-5", nothing, ["eni", "{d}/shorted.wav@-5", "--gain-db", "40"], 2),
         ("eni FILE@abc", nothing, ["eni", "{d}/shorted.wav@abc", "--gain-db", "40"], 2),
@@ -229,8 +230,8 @@ def _outputs() -> list[Case]:
         ("eni --json onto a sidecar", nothing, [*ENI, *j, "{d}/tone.json"], 2),
         ("cascade --json onto the chain", nothing, ["cascade", "{d}/head_amp_chain.toml", *j,
                                                      "{d}/head_amp_chain.toml"], 2),
-        ("profile -o onto its results", nothing, ["profile", "{d}/results.json", "-o", "{d}/results.json"], 2),
-        ("profile -o over a profile", nothing, ["profile", "{d}/results.json", "-o", "{d}/known_good_profile.toml"],
+        ("profile -o onto its results", nothing, ["profile", *GOODS, "-o", "{d}/results.json"], 2),
+        ("profile -o over a profile", nothing, ["profile", *GOODS, "-o", "{d}/known_good_profile.toml"],
          2),
         ("check --json onto the profile", nothing, [*CHECK, *j, "{d}/known_good_profile.toml"], 2),
         ("check --json onto the results", nothing, [*CHECK, *j, "{d}/results.json"], 2),
@@ -270,10 +271,8 @@ def _own_formats() -> list[Case]:
         ("results: spurs not a list", json_edit("results.json", spurs=3), CHECK, 2),
         ("results: rs a string", json_edit("results.json", rs_ohm="20R"), CHECK, 2),
         ("results: band a string", json_edit("results.json", band_hz="audio"), CHECK, 2),
-        ("results for profile: figure null", json_edit("results.json", noise_figure_db=None),
-         ["profile", "{d}/results.json", "-o", "{d}/out/p.toml"], 2),
         ("results for profile: a string", json_edit("results.json", ein_dbu="low"),
-         ["profile", "{d}/results.json", "-o", "{d}/out/p.toml"], 2),
+         ["profile", *GOODS, "-o", "{d}/out/p.toml"], 2),
         ("profile: not TOML", write(prof, "limit = ["), CHECK, 2),
         ("profile: empty", write(prof, ""), CHECK, 2),
         ("profile: limit max a string", write(prof, 'schema = "benchnf.profile/1"\nname = "p"\n[[limit]]\n'
@@ -435,7 +434,7 @@ def _records_with_a_string(d: Path) -> None:
     import contextlib
     import io
     with contextlib.redirect_stdout(io.StringIO()):
-        main(["profile", str(d / "results.json"), "-o", str(d / "own.toml")])
+        main(["profile", *(str(d / n) for n in ("results.json", "good2.json", "good3.json")), "-o", str(d / "own.toml")])
         main(["check", "--profile", str(d / "own.toml"), str(d / "results.json"), "--records", str(d / "r.sqlite")])
     with sqlite3.connect(d / "r.sqlite") as db:
         db.execute("UPDATE limits SET measured = 'low' WHERE name = 'gain_db'")
