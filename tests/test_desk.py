@@ -42,7 +42,8 @@ def test_state_and_listing(desk, bench):
     _, profiles = call(desk, "/api/files?kind=profiles")
     assert profiles["files"] == ["known_good_profile.toml"]
     _, units = call(desk, "/api/files?kind=units")
-    assert units["files"] == ["units/HA-0001", "units/HA-0002", "units/HA-0003"]
+    assert units["files"] == [*(f"known_good/KG-0{i}" for i in range(1, 5)), "units/HA-0001", "units/HA-0002",
+                              "units/HA-0003"]
 
 
 def test_result_view_shows_the_results_figures(desk, bench):
@@ -429,6 +430,10 @@ def test_the_desk_checks_each_demo_unit_as_batch_does(desk, bench, tmp_path, flo
         body = {"serial": unit, "source": f"units/{unit}", "profile": "known_good_profile.toml",
                 "calibration": "results/calibration.json", **({"floor": floor} if floor else {})}
         status, out = call(desk, "/api/check", body)
+        if floor is None:  # the profile's units had their floor subtracted: both refuse a unit without one
+            assert status == 400 and "without the analyzer floor subtracted" in out["error"], out
+            assert rows[unit][1] == "ERROR"
+            continue
         assert status == 200, out
         assert out["verdict"] == rows[unit][1], (unit, out["verdict"], rows[unit])
         assert out["floor_corrected"] is (floor is not None)

@@ -200,3 +200,26 @@ def test_unit_check_shows_the_verdict_and_earlier_checks(browser, bench):
     assert verdict.text.splitlines()[0] == expected and big >= 48
     assert detail.count(expected) >= 3  # limits and the two records of this serial
     assert "Checks of SN-0042 in the records" in detail
+
+
+def test_the_station_study_page_shows_the_study(browser, tmp_path):
+    from test_grr import _study_records
+    db = str(tmp_path / "r.db")
+    _study_records(db)
+    (tmp_path / "folder").mkdir()
+    with running_desk(tmp_path / "folder", "--records", db) as (_proc, url):
+        _open(browser, url)
+        browser.find_element(By.CSS_SELECTOR, "[data-view=gauge]").click()
+        _wait(browser, lambda d: d.find_elements(By.CSS_SELECTOR, "#gauge-figure option[value='ein_dbu']"))
+        browser.find_element(By.ID, "gauge-run").click()
+        _wait(browser, lambda d: d.find_element(By.ID, "gauge-detail").get_attribute("data-ready") == "ein_dbu")
+        text = browser.find_element(By.ID, "gauge-detail").text
+        png = browser.get_screenshot_as_png()
+        if os.environ.get("BENCHNF_SCREENSHOTS"):
+            (tmp_path / "gauge.png").write_bytes(png)
+            print("screenshot:", tmp_path / "gauge.png")
+        plots = browser.find_elements(By.CSS_SELECTOR, "#gauge-detail .js-plotly-plot")
+    assert "gauge R&R" in text and "number of distinct categories" in text and "repeatability" in text
+    assert len(plots) == 2
+    colours, off = _not_blank(png)
+    assert colours > 20 and off > 0.05

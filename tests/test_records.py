@@ -108,6 +108,28 @@ def test_eight_concurrent_writers_lose_nothing_and_duplicate_nothing(url):
     assert all(len(v) == 3 for v in limits.values())
 
 
+def _first_writer(url, worker, go):
+    go.wait(60)
+    store = connect(url)  # a new database: every process makes the tables at the same moment
+    store.add(_record(f"N{worker}", 1.0))
+    store.close()
+
+
+def test_sixteen_stations_starting_a_new_store_at_once_keep_sixteen_checks(url):
+    ctx = mp.get_context("spawn")
+    go = ctx.Event()
+    procs = [ctx.Process(target=_first_writer, args=(url, w, go)) for w in range(16)]
+    for p in procs:
+        p.start()
+    time.sleep(2.0)  # let every process import and wait at the start line
+    go.set()
+    for p in procs:
+        p.join(120)
+    assert [p.exitcode for p in procs] == [0] * 16
+    rows = connect(url).checks()
+    assert sorted(r["serial"] for r in rows) == sorted(f"N{w}" for w in range(16))
+
+
 def test_a_killed_writer_leaves_no_half_record(url, tmp_path):
     connect(url).close()
     code = ("import sys\nsys.path.insert(0, %r)\nfrom test_records import _record\nfrom benchnf.records import connect\n"
@@ -139,10 +161,23 @@ def test_capability_against_a_hand_computed_example():
 
 
 def test_bad_records_urls_and_a_newer_schema_are_refused_in_one_line(tmp_path, capsys):
-    for url in ("postgresql://nobody@/nodb?host=/nonexistent", "mysql+nothing://x/y", str(tmp_path / "no" / "r.db")):
+    for url in ("postgresql://nobody@/nodb?host=/nonexistent", str(tmp_path / "no" / "r.db"), "sqlite:///",
+                "sqlite://", "sqlite:///:memory:", ":memory:"):
         rc = main(["records", "--records", url, "list"])
         err = capsys.readouterr().err.strip().splitlines()
         assert rc == ExitStatus.BAD_INPUT and len(err) == 1 and err[0].startswith("benchnf: error:"), (url, err)
+        assert "in-memory" in err[0] or "://" not in url[:9] or "postgresql" in url
+    for url in ("mysql://u@h/db", "mysql+nothing://x/y", "oracle://x"):  # not supported: like a missing part, 3
+        rc = main(["records", "--records", url, "list"])
+        err = capsys.readouterr().err.strip().splitlines()
+        assert rc == ExitStatus.MISSING_DEPENDENCY and len(err) == 1 and "SQLite" in err[0], (url, err)
+    good = str(tmp_path / "good.db")
+    for args, words in ((["list", "--since", "last tuesday"], "not an ISO 8601 date"),
+                        (["list", "--until", "2026-02-30"], "not a date that exists"),
+                        (["export", "-o", str(tmp_path / "e.xlsx")], "the suffix names the format")):
+        assert main(["records", "--records", good, *args]) == ExitStatus.BAD_INPUT
+        assert words in capsys.readouterr().err
+    assert not (tmp_path / "e.xlsx").exists()
     db = tmp_path / "r.db"
     store = connect(db)
     with store.engine.begin() as conn:

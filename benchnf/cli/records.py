@@ -10,7 +10,7 @@ from typing import Any
 from ..errors import BenchError
 from ..write import Writer
 from ._common import records_url_of, station_file_option
-from ._types import whole_count
+from ._types import export_file, iso_time, positive_number, whole_count
 from .status import ExitStatus
 
 
@@ -27,15 +27,16 @@ def add_parser(sub: Any) -> None:
     a.add_argument("--serial", metavar="SERIAL")
     a.add_argument("--station", metavar="NAME")
     a.add_argument("--verdict", choices=["PASS", "MARGINAL", "FAIL", "ERROR", "MEASURED"])
-    a.add_argument("--since", metavar="ISO-TIME", help="e.g. 2026-12-01 or 2026-12-01T08:00")
-    a.add_argument("--until", metavar="ISO-TIME")
+    a.add_argument("--since", type=iso_time, metavar="ISO-TIME",
+                   help="ISO 8601, e.g. 2026-12-01 or 2026-12-01T08:00 (UTC unless an offset follows)")
+    a.add_argument("--until", type=iso_time, metavar="ISO-TIME", help="ISO 8601, as --since")
     a = acts.add_parser("show", help="one unit's history: every check and what changed between them")
     a.add_argument("serial", metavar="SERIAL")
     a.add_argument("--results", action="store_true",
                    help="also show the result kept with each record, as the command that made it shows it")
     a = acts.add_parser("export", help="one row per check, one column per limit (CSV, or Parquet for "
                                        "FILE.parquet where pyarrow is installed)")
-    a.add_argument("-o", "--output", type=Path, required=True, metavar="FILE.csv|FILE.parquet")
+    a.add_argument("-o", "--output", type=export_file, required=True, metavar="FILE.csv|FILE.parquet")
     a.add_argument("--overwrite", action="store_true", help="replace the file if it exists")
     a = acts.add_parser("chart", help="individuals and moving-range control chart of one figure, as PNG")
     a.add_argument("--figure", required=True, metavar="KEY", help="a limit's name, e.g. ein_dbu")
@@ -46,6 +47,16 @@ def add_parser(sub: Any) -> None:
     a = acts.add_parser("capability", help="per limit: n, mean, s, Cp, Cpk, Pp, Ppk, lower 95 %% bound of Cpk")
     a.add_argument("--min-units", type=whole_count, default=10, metavar="N",
                    help="fewest units for a capability figure (default 10)")
+    a = acts.add_parser("grr", help="gauge R&R of one figure: the same units measured repeatedly by several "
+                                    "stations (or operators), by the ANOVA method")
+    a.add_argument("--figure", required=True, metavar="KEY", help="a limit's name, e.g. ein_dbu")
+    a.add_argument("--by", choices=["station", "operator"], default="station",
+                   help="what the appraisers are (default station)")
+    a.add_argument("--tolerance", type=positive_number, metavar="WIDTH",
+                   help="the tolerance's width (upper minus lower limit), for GRR as a percentage of it")
+    a.add_argument("-o", "--output", type=Path, metavar="DIR", help="write the charts (PNG) here")
+    a.add_argument("--json", type=Path, metavar="OUT.json", help="write the study as JSON")
+    a.add_argument("--overwrite", action="store_true", help="replace files that exist")
     p.set_defaults(run=run)
 
 
@@ -57,7 +68,7 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
                          "station file)")
     store = connect(url, create=args.action == "import-history")
     action = {"list": _list, "show": _show, "export": _export, "capability": _capability, "chart": _chart,
-              "import-history": _import_history}[args.action]
+              "import-history": _import_history, "grr": _grr}[args.action]
     try:
         return action(store, args, writer)
     finally:
@@ -120,7 +131,7 @@ def _export(store: Any, args: argparse.Namespace, writer: Writer) -> int:
     columns: list[str] = []
     for r in rows:
         columns += [k for k in r if k not in columns]
-    if Path(args.output).suffix.lower() == ".parquet":
+    if Path(args.output).suffix.lower() == ".parquet":  # the suffix was checked when parsed (export_file)
         from ..records.export import parquet_bytes
         writer.bytes(args.output, parquet_bytes(rows, columns))
     else:
@@ -158,6 +169,29 @@ def _capability(store: Any, args: argparse.Namespace, writer: Writer) -> int:
         raise BenchError(f"no limit has records of {args.min_units} or more units (--min-units): the lines above "
                          f"say how many each has")
     print("\n  Cp, Cpk from the moving range (within); Pp, Ppk from the overall s; Cpk>= is its lower 95 % bound")
+    return ExitStatus.OK
+
+
+def _grr(store: Any, args: argparse.Namespace, writer: Writer) -> int:
+    from ..records.grr import gauge_rr, unit_means
+    from ..report.render_text import render_text
+    rows = store.measured_values(args.figure, latest_per_serial=False)
+    if not rows:
+        raise BenchError(f"no recorded values of {args.figure!r}: the limits recorded are "
+                         f"{', '.join(store.limit_names()) or 'none'}")
+    data = [(r["serial"], r[args.by] or "-", r["measured"]) for r in rows]
+    study = gauge_rr(data, figure_name=args.figure, by=args.by, tolerance_width=args.tolerance)
+    from ..report.present_grr import present_grr
+    view = present_grr(study, unit_means(data, study))
+    print(render_text(view), end="")
+    if args.json:
+        writer.json(args.json, study.to_dict())
+        print(f"JSON written to {args.json}")
+    if args.output:
+        from ..report.render_png import figures
+        folder = writer.folder(args.output)
+        for name, fig in figures(view):
+            print(f"chart written to {writer.figure(writer.child(folder, name), fig)}")
     return ExitStatus.OK
 
 

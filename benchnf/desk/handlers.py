@@ -284,6 +284,16 @@ class Checks(DeskHandler):
         self.reply(earlier_checks(self.state.records_url, self.get_query_argument("serial", "")))
 
 
+class Gauge(DeskHandler):
+    def get(self) -> None:
+        from .unitcheck import gauge_study, recorded_figures
+        figure = self.get_query_argument("figure", "")
+        if not figure:
+            self.reply({"figures": recorded_figures(self.state.records_url)})
+            return
+        self.reply(gauge_study(self.state.records_url, figure, self.get_query_argument("by", "station")))
+
+
 @tornado.web.stream_request_body
 class Upload(DeskHandler):
     """A file from the browser into ``uploads/`` of the folder: size-limited, never over an existing file."""
@@ -313,7 +323,7 @@ API = {"state": State, "files": Files, "result": Result, "download": Download, "
        "analyse": Analyse, "devices": Devices,
        "live/start": LiveStart, "live/stop": LiveStop, "live/reset": LiveReset, "live/reference": LiveReference,
        "live/save": LiveSave, "plan/open": PlanOpen, "plan/record": PlanRecord, "plan/state": PlanState,
-       "plan/finish": PlanFinish, "check": Check, "checks": Checks, "upload": Upload}
+       "plan/finish": PlanFinish, "check": Check, "checks": Checks, "grr": Gauge, "upload": Upload}
 
 
 def push_live(state: Any) -> None:

@@ -61,14 +61,42 @@ class CheckRecord:
     record_uid: str = field(default_factory=lambda: str(uuid.uuid4()))
 
 
+#: The database kinds a records store may live in (a URL's scheme before any "+driver").
+SUPPORTED = ("sqlite", "postgresql")
+
+
 def records_url(text: str | Path) -> str:
-    """A SQLAlchemy URL from what a user gives: a file path, ``sqlite:///...`` or ``postgresql://...``."""
+    """A SQLAlchemy URL from what a user gives: a file path, ``sqlite:///...`` or ``postgresql://...``.
+
+    Raises
+    ------
+    RecordsError
+        An in-memory database (it would keep nothing).
+    MissingDependencyError
+        Another kind of database than SQLite or PostgreSQL (exit status 3).
+    """
     s = str(text)
     if s.startswith(("postgresql://", "postgres://")):
         return "postgresql+psycopg://" + s.split("://", 1)[1]
     if "://" in s:
+        scheme = s.split("://", 1)[0].split("+", 1)[0].lower()
+        if scheme not in SUPPORTED:
+            from ..errors import MissingDependencyError
+            raise MissingDependencyError(f"a records store lives in SQLite (a file path) or PostgreSQL "
+                                         f"(postgresql://USER@HOST/DB), not {scheme}: give one of those")
+        if scheme == "sqlite" and _in_memory(s.split("://", 1)[1]):
+            raise RecordsError(f"{s} is an in-memory database, which keeps nothing once the command ends: give "
+                               f"a file (a path, or sqlite:///FILE)")
         return s
+    if _in_memory(s):
+        raise RecordsError(f"{s} is an in-memory database, which keeps nothing: give a file path")
     return "sqlite:///" + str(Path(s).expanduser().resolve())
+
+
+def _in_memory(rest: str) -> bool:
+    """Whether the part of an SQLite URL after ``sqlite://`` (or a bare name) is an in-memory database."""
+    path = rest[1:] if rest.startswith("/") else rest
+    return path.split("?", 1)[0] in ("", ":memory:", "file::memory:") or "mode=memory" in path
 
 
 def _tables(sa: Any) -> tuple[Any, ...]:
@@ -156,7 +184,8 @@ class Store:
     def measured_values(self, name: str, *, latest_per_serial: bool = True) -> list[dict[str, Any]]:
         """A limit's measured values with their bounds, in time order (by default each serial's latest check)."""
         lim, chk = self._limits.c, self._checks.c
-        q = (self._sa.select(chk.serial, chk.checked_at, chk.profile_sha256, lim.measured, lim.lower, lim.upper)
+        q = (self._sa.select(chk.serial, chk.checked_at, chk.station, chk.operator, chk.profile_sha256, lim.measured,
+                             lim.lower, lim.upper)
              .join_from(self._limits, self._checks, lim.check_id == chk.id)
              .where(lim.name == name, lim.measured.is_not(None)).order_by(chk.checked_at, chk.id))
         rows = self._rows(q)
@@ -237,9 +266,9 @@ def _sqlite_pragmas(engine: Any, *, read_only: bool) -> None:
     @event.listens_for(engine, "connect")
     def _on_connect(dbapi_conn: Any, _record: Any) -> None:
         cur = dbapi_conn.cursor()
+        cur.execute("PRAGMA busy_timeout=30000")  # first: switching to WAL takes a lock others may hold
         if not read_only:
             cur.execute("PRAGMA journal_mode=WAL")
-        cur.execute("PRAGMA busy_timeout=30000")
         cur.execute("PRAGMA foreign_keys=ON")
         cur.close()
 
@@ -297,10 +326,38 @@ def connect(url_or_path: str | Path, *, create: bool = True) -> Store:
     return store
 
 
+#: Tries at making a new store's tables while other processes make them too (each waits its turn).
+_CREATE_TRIES = 40
+
+
 def _prepare(store: Store, *, create: bool) -> None:
+    """Make (or check) the store's tables. Many processes may start on a new database at once: on
+    PostgreSQL a transaction-scoped advisory lock lets one make the tables while the others wait; on SQLite
+    the loser of the race sees "already exists" or "locked" and tries again once the winner has committed."""
+    import random
+    import time
+    sa = store._sa
+    for attempt in range(_CREATE_TRIES):
+        try:
+            return _prepare_once(store, create=create)
+        except (sa.exc.OperationalError, sa.exc.ProgrammingError, sa.exc.IntegrityError) as err:
+            if not create or attempt == _CREATE_TRIES - 1 or not _a_race(err):
+                raise RecordsError(f"cannot open the records database {shown_url(store.url)}: "
+                                   f"{_first_line(err)}") from err
+            time.sleep(0.02 + 0.08 * random.random())
+
+
+def _a_race(err: Exception) -> bool:
+    text = str(err).lower()
+    return any(w in text for w in ("already exists", "locked", "busy", "duplicate", "unique"))
+
+
+def _prepare_once(store: Store, *, create: bool) -> None:
     sa = store._sa
     try:
         with store.engine.begin() as conn:
+            if create and store.engine.dialect.name == "postgresql":
+                conn.execute(sa.text("SELECT pg_advisory_xact_lock(7415020261)"))  # benchnf's own key
             if create:
                 store._md.create_all(conn, checkfirst=True)
             row = conn.execute(sa.select(store._info.c.value).where(store._info.c.key == "schema_version")).first()
@@ -310,8 +367,8 @@ def _prepare(store: Store, *, create: bool) -> None:
             elif int(row[0]) > SCHEMA_VERSION:
                 raise RecordsError(f"the records database {shown_url(store.url)} has schema version {row[0]}, newer than "
                                    f"this benchnf's {SCHEMA_VERSION}: use the benchnf that made it, or upgrade")
-    except sa.exc.IntegrityError:
-        pass  # another process created it at the same moment
+    except (sa.exc.OperationalError, sa.exc.ProgrammingError, sa.exc.IntegrityError):
+        raise  # perhaps another process making the tables at the same moment: _prepare decides
     except sa.exc.SQLAlchemyError as err:
         raise RecordsError(f"cannot open the records database {shown_url(store.url)}: {_first_line(err)}") from err
 

@@ -78,7 +78,7 @@ def _draw_trace(ax: "Axes", t: Trace, colour: str, plot: Plot, index: int, count
     ax.plot(x, y, fmt, color=colour, lw=0.8 if t.style == "line" else 1.1, ms=4, label=t.name)
     if u is not None:
         ax.errorbar(x, y, yerr=u, fmt="none", ecolor=colour, elinewidth=0.8, capsize=2, alpha=0.7)
-    if t.labels:
+    if t.labels and not plot.categories:  # on a category axis the labels are the ticks
         for xi, yi, text in zip(x, y, t.labels):
             ax.annotate(text, (xi, yi), textcoords="offset points", xytext=(0, 5), fontsize=7, ha="center",
                         color=colour)
@@ -93,8 +93,9 @@ def draw_plot(ax: "Axes", plot: Plot) -> "Axes":
     bars = [t for t in plot.traces if t.style == "bar"]
     for i, t in enumerate(plot.traces):
         _draw_trace(ax, t, COLOURS[i % len(COLOURS)], plot, bars.index(t) if t in bars else 0, len(bars))
-    if plot.categories and bars and bars[0].labels:
-        ax.set_xticks(range(len(bars[0].labels)), list(bars[0].labels))
+    labelled = [t for t in plot.traces if t.labels]
+    if plot.categories and labelled:
+        ax.set_xticks(range(len(labelled[0].labels or ())), list(labelled[0].labels or ()))
     if plot.log_x and not plot.categories:
         ax.set_xscale("log")
     if plot.log_y:

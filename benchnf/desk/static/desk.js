@@ -41,7 +41,7 @@ function show(view) {
   for (const b of document.querySelectorAll(".rail button")) b.classList.toggle("chosen", b.dataset.view === view);
   for (const s of document.querySelectorAll(".view")) s.hidden = s.id !== "view-" + view;
   say("");
-  ({results: loadResultsList, live: prepareLive, plan: preparePlan, check: prepareCheck})[view]();
+  ({results: loadResultsList, live: prepareLive, plan: preparePlan, check: prepareCheck, gauge: prepareGauge})[view]();
   for (const p of document.querySelectorAll("#view-" + view + " .js-plotly-plot")) Plotly.Plots.resize(p);
 }
 
@@ -57,10 +57,11 @@ function drawTrace(t, i, spec) {
       {type: "scatter", mode: "lines", name: t.name, x: t.x, y: up, fill: "tonexty", line: {width: 0},
        fillcolor: colour + "33", hoverinfo: "skip"}];
   }
-  return {type: "scatter", mode: (MODES[t.style] || "lines") + (t.labels && t.style === "markers" ? "+text" : ""),
-    name: t.name, x: t.x, y: t.y,
+  const onCategories = spec.categories && t.labels;  // the labels are the category axis, not text by the points
+  return {type: "scatter", mode: (MODES[t.style] || "lines") + (t.labels && t.style === "markers" && !onCategories ? "+text" : ""),
+    name: t.name, x: onCategories ? t.labels : t.x, y: t.y,
     line: {color: colour, width: 1.4}, marker: {color: colour, size: 6},
-    text: t.labels || undefined, textposition: "top center",
+    text: onCategories ? undefined : (t.labels || undefined), textposition: "top center",
     hovertemplate: `%{x:.4g} ${spec.x_label.match(/\((.*)\)/)?.[1] || ""}<br>%{y:.4g} ${spec.y_label.match(/\((.*)\)/)?.[1] || ""}<extra>${t.name}</extra>`,
     ...(t.u ? {error_y: {type: "data", array: t.u, color: colour, thickness: 1}} : {})};
 }
@@ -313,11 +314,37 @@ async function runCheck(ev) {
     const earlier = await api("checks?serial=" + encodeURIComponent(r.serial));
     $("#check-detail").replaceChildren(el("table", {class: "grid", id: "limits"}, el("thead", {}, el("tr", {},
       ...r.limits.columns.map((c) => el("th", {}, c)))), el("tbody", {}, ...rows)),
+      el("p", {class: "hint", id: "decision-rule"}, "decision rule: " + r.decision_rule),
+      ...(r.findings.length ? [el("h3", {}, "Findings, in the order to act on them"),
+        el("ol", {class: "findings", id: "findings"}, ...r.findings.map((f) => el("li", {}, f)))] : []),
       ...(r.notes.length ? [el("ul", {class: "notes"}, ...r.notes.map((n) => el("li", {}, n)))] : []),
       el("p", {class: "downloads"}, el("a", {href: "/api/download?path=" + encodeURIComponent(r.report)}, "report " + r.report)),
       ...table(`Checks of ${r.serial} in the records`, ["when (UTC)", "verdict", "station", "operator", "profile"],
         earlier.map((e) => [e.checked_at, e.verdict, e.station || "", e.operator || "", e.profile])));
     $("#serial").select();
+  });
+}
+
+// ---- station study (gauge R&R) ----------------------------------------------------------------------------
+async function prepareGauge() {
+  await guarded(async () => {
+    const r = await api("grr");
+    $("#gauge-figure").replaceChildren(...r.figures.map((f) => el("option", {value: f}, f)));
+    if (!r.figures.length) say("the records hold no figures yet (start the desk with a records store, and check units)");
+  });
+}
+async function runGauge(ev) {
+  ev.preventDefault();
+  await guarded(async () => {
+    const data = Object.fromEntries(new FormData($("#gauge-form")).entries());
+    const v = await api(`grr?figure=${encodeURIComponent(data.figure)}&by=${data.by}`);
+    const plots = v.plots.map((p) => el("div", {class: "plot", id: "gauge-plot-" + p.id}));
+    $("#gauge-detail").replaceChildren(el("h2", {}, v.title), el("div", {class: "figures", id: "gauge-figures"},
+      ...v.headline.map(figureCard)), ...plots, ...table("Conditions", ["condition", "value"], v.conditions),
+      ...v.tables.flatMap((t) => table(t.title, t.columns, t.rows)),
+      el("ul", {class: "notes"}, ...v.notes.map((n) => el("li", {}, n))));
+    for (let i = 0; i < v.plots.length; i++) await drawPlot(plots[i], v.plots[i]);
+    $("#gauge-detail").dataset.ready = data.figure;
   });
 }
 
@@ -343,6 +370,7 @@ window.addEventListener("DOMContentLoaded", async () => {
   $("#ref-file").addEventListener("change", liveReference);
   $("#plan-open").addEventListener("click", planOpen);
   $("#check-form").addEventListener("submit", runCheck);
+  $("#gauge-form").addEventListener("submit", runGauge);
   $("#analyse-form").addEventListener("submit", analyseFolder);
   const s = await refreshState();
   await loadResultsList(s && s.opened);
