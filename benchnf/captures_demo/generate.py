@@ -301,27 +301,37 @@ UNITS = {"HA-0001": {"en1_scale": 1.0, "hum_scale": 1.0, "fault": "none (a good 
          "HA-0003": {"en1_scale": 2.2, "hum_scale": 1.0, "fault": "noisy input stage (a degraded input device)"}}
 
 
-def write_units(force: bool) -> dict:
-    """Three repaired units, each with a terminated and a tone capture; the shared floor is floor.flac."""
-    import shutil
-    rng = np.random.default_rng(SEED + 2)
-    n, nt = int(5.0 * FS), int(2.0 * FS)
+def _unit_captures(rng: np.random.Generator, folder: str, serial: str, spec: dict, *, seconds: float,
+                   tone_seconds: float, force: bool) -> None:
+    """A unit's terminated and tone captures: its input stage's noise, its supply's hum and its gain as `spec`
+    says (``en1_scale``, ``hum_scale``, ``gain_scale``), seen through the shared sound card."""
+    n, nt = int(seconds * FS), int(tone_seconds * FS)
     t = np.arange(nt) / FS
     g = total_gain() * response(np.array([TONE_HZ]))[0]
-    root = HERE / "units"
+    kw = {"en1_scale": spec["en1_scale"], "hum_scale": spec["hum_scale"]}
+    k = spec.get("gain_scale", 1.0)
+    term = k * dut_output_noise(rng, n, RS_OHM, **kw) + coloured_noise(rng, n, card_density)
+    tone = k * (TONE_EMF_VRMS * math.sqrt(2) * abs(g) * np.sin(2 * np.pi * TONE_HZ * t + np.angle(g))
+                + dut_output_noise(rng, nt, RS_OHM, **kw)) + coloured_noise(rng, nt, card_density)
+    for name, x, meta in (("terminated", term, {"condition": "terminated", "rs_ohm": RS_OHM,
+                                                 "temperature_k": TEMPERATURE_K}),
+                          ("tone", tone, {"condition": "tone", "tone_input_vrms": TONE_EMF_VRMS})):
+        write(f"{folder}/{serial}/{name}", x, {**meta, "serial": serial}, force)
+
+
+def _fresh(folder: str, force: bool) -> None:
+    import shutil
+    root = HERE / folder
     if force and root.exists():
         shutil.rmtree(root)
+
+
+def write_units(force: bool) -> dict:
+    """Three repaired units, each with a terminated and a tone capture; the shared floor is floor.flac."""
+    rng = np.random.default_rng(SEED + 2)
+    _fresh("units", force)
     for serial, spec in UNITS.items():
-        folder = root / serial
-        folder.mkdir(parents=True, exist_ok=True)
-        kw = {"en1_scale": spec["en1_scale"], "hum_scale": spec["hum_scale"]}
-        term = dut_output_noise(rng, n, RS_OHM, **kw) + coloured_noise(rng, n, card_density)
-        tone = (TONE_EMF_VRMS * math.sqrt(2) * abs(g) * np.sin(2 * np.pi * TONE_HZ * t + np.angle(g))
-                + dut_output_noise(rng, nt, RS_OHM, **kw) + coloured_noise(rng, nt, card_density))
-        for name, x, meta in (("terminated", term, {"condition": "terminated", "rs_ohm": RS_OHM,
-                                                     "temperature_k": TEMPERATURE_K}),
-                              ("tone", tone, {"condition": "tone", "tone_input_vrms": TONE_EMF_VRMS})):
-            write(f"units/{serial}/{name}", x, {**meta, "serial": serial}, force)
+        _unit_captures(rng, "units", serial, spec, seconds=5.0, tone_seconds=2.0, force=force)
     return {"note": "INVENTED DATA", **{k: v["fault"] for k, v in UNITS.items()}}
 
 
@@ -335,24 +345,10 @@ KNOWN_GOOD = {"KG-01": {"en1_scale": 0.97, "hum_scale": 0.8, "gain_scale": 1.010
 
 def write_known_good_units(force: bool) -> dict:
     """Terminated and tone captures of the known-good units (4 s and 1 s; the shared floor is floor.flac)."""
-    import shutil
     rng = np.random.default_rng(SEED + 3)
-    n, nt = int(4.0 * FS), int(1.0 * FS)
-    t = np.arange(nt) / FS
-    g = total_gain() * response(np.array([TONE_HZ]))[0]
-    root = HERE / "known_good"
-    if force and root.exists():
-        shutil.rmtree(root)
+    _fresh("known_good", force)
     for serial, spec in KNOWN_GOOD.items():
-        kw = {"en1_scale": spec["en1_scale"], "hum_scale": spec["hum_scale"]}
-        k = spec["gain_scale"]
-        term = k * dut_output_noise(rng, n, RS_OHM, **kw) + coloured_noise(rng, n, card_density)
-        tone = k * (TONE_EMF_VRMS * math.sqrt(2) * abs(g) * np.sin(2 * np.pi * TONE_HZ * t + np.angle(g))
-                    + dut_output_noise(rng, nt, RS_OHM, **kw)) + coloured_noise(rng, nt, card_density)
-        for name, x, meta in (("terminated", term, {"condition": "terminated", "rs_ohm": RS_OHM,
-                                                     "temperature_k": TEMPERATURE_K}),
-                              ("tone", tone, {"condition": "tone", "tone_input_vrms": TONE_EMF_VRMS})):
-            write(f"known_good/{serial}/{name}", x, {**meta, "serial": serial}, force)
+        _unit_captures(rng, "known_good", serial, spec, seconds=4.0, tone_seconds=1.0, force=force)
     return {"note": "INVENTED DATA", **{k: dict(v) for k, v in KNOWN_GOOD.items()}}
 
 

@@ -222,18 +222,6 @@ class _Conditions:
 
 
 @dataclass(frozen=True)
-class _MadeFrom:
-    units: int
-    serials: tuple[str, ...]
-    coverage: float
-    confidence: float
-    k1: float
-    k2: float
-    margin_db: float = 0.0
-    not_limited: tuple[str, ...] = ()
-
-
-@dataclass(frozen=True)
 class ProfileFile:
     """The shape of a profile file (TOML): every key, its kind (the profile's JSON Schema is made from it)."""
 
@@ -241,7 +229,7 @@ class ProfileFile:
     name: str | None = None
     notes: str = ""
     decision_rule: str = "zones"
-    made_from: _MadeFrom | None = None
+    made_from: ProfileOrigin | None = None
     conditions: _Conditions = _Conditions()
     limit: tuple[_LimitTable, ...] = ()
     mask: tuple[_MaskTable, ...] = ()
@@ -291,11 +279,8 @@ def profile_from_data(data: dict[str, Any], *, where: str | Path) -> Profile:
         _check_satisfiable(limits, masks, cond)
     except ParameterError as err:
         raise ParameterError(f"profile {path}: {err}") from None
-    m = shape.made_from
-    origin = ProfileOrigin(m.units, m.serials, m.coverage, m.confidence, m.k1, m.k2, m.margin_db,
-                           m.not_limited) if m is not None else None
     return Profile(shape.name if shape.name is not None else Path(path).stem, cond, tuple(limits), tuple(masks),
-                   tuple(hum), shape.notes, str(path), origin, shape.decision_rule)
+                   tuple(hum), shape.notes, str(path), shape.made_from, shape.decision_rule)
 
 
 def _check_satisfiable(limits: list[ScalarLimit], masks: list[Mask], cond: dict[str, Any]) -> None:
