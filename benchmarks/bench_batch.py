@@ -13,7 +13,7 @@ import tempfile
 import time
 from pathlib import Path
 
-from benchnf.check.batch import check_batch
+from benchnf.check.batch import UnitSettings, check_batch
 
 DEMO = Path(__file__).resolve().parents[1] / "benchnf" / "captures_demo"
 
@@ -29,7 +29,7 @@ def main() -> None:
             shutil.copytree(sources[i % len(sources)], root / f"SN-{i:04d}")
         t0 = time.perf_counter()
         out = check_batch(root, str(DEMO / "known_good_profile.toml"),
-                          settings={"volts_per_fs": 2.0, "floor": str(DEMO / "floor.flac")})
+                          settings=UnitSettings(volts_per_fs=2.0, floor=DEMO / "floor.flac"))
         dt = time.perf_counter() - t0
     counts = {v: sum(o.verdict == v for o in out) for v in ("PASS", "MARGINAL", "FAIL", "ERROR")}
     print(f"{args.units} units (5 s terminated + 2 s tone each, 48 kHz) checked in {dt:.1f} s on "
