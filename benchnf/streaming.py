@@ -15,11 +15,15 @@ from __future__ import annotations
 import os
 import threading
 from collections.abc import Callable
+from typing import TYPE_CHECKING
 
 from .capture import Capture, SampleStats
 from .dsp.spectrum import WelchAccumulator
 
-__all__ = ["stream_spectrum", "PARALLEL_MIN_SEGMENTS"]
+if TYPE_CHECKING:
+    from .dsp.cross import CrossAccumulator
+
+__all__ = ["stream_spectrum", "stream_cross", "PARALLEL_MIN_SEGMENTS"]
 
 #: Segments below which a capture is read in one part (the split would cost more than it saves).
 PARALLEL_MIN_SEGMENTS = 512
@@ -28,16 +32,37 @@ PARALLEL_MIN_SEGMENTS = 512
 def _parts(capture: Capture, segment_length: int, hop: int) -> list[tuple[int, int, int]]:
     """(first frame, last frame read, last frame counted) of each part: whole segments, the parts' counted
     frames adjoining and covering the capture."""
-    n_seg = (capture.n_frames - segment_length) // hop + 1 if capture.n_frames >= segment_length else 0
-    workers = min(os.cpu_count() or 1, 2) if n_seg >= PARALLEL_MIN_SEGMENTS and capture.n_frames else 1
+    n_frames = capture.n_frames
+    n_seg = (n_frames - segment_length) // hop + 1 if n_frames >= segment_length else 0
+    workers = min(os.cpu_count() or 1, 2) if n_seg >= PARALLEL_MIN_SEGMENTS and n_frames else 1
     edges = [round(k * n_seg / workers) for k in range(workers + 1)]
     parts = []
     for k in range(workers):
         first = edges[k] * hop
-        last = edges[k + 1] * hop if k < workers - 1 else capture.n_frames
-        read_to = (edges[k + 1] - 1) * hop + segment_length if k < workers - 1 else capture.n_frames
+        last = edges[k + 1] * hop if k < workers - 1 else n_frames
+        read_to = (edges[k + 1] - 1) * hop + segment_length if k < workers - 1 else n_frames
         parts.append((first, read_to, last))
     return parts
+
+
+def _in_parallel(run: Callable[[int], None], n_parts: int) -> None:
+    """Run ``run(k)`` for every part, part 0 in this thread, the others in their own; re-raise the first
+    error in this thread."""
+    errors: list[BaseException] = []
+
+    def guarded(k: int) -> None:
+        try:
+            run(k)
+        except BaseException as err:  # handed to the caller's thread below
+            errors.append(err)
+    threads = [threading.Thread(target=guarded, args=(k,), name=f"benchnf-part-{k}") for k in range(1, n_parts)]
+    for t in threads:
+        t.start()
+    guarded(0)
+    for t in threads:
+        t.join()
+    if errors:
+        raise errors[0]
 
 
 def _one_part(capture: Capture, acc: WelchAccumulator, stats: SampleStats, first: int, read_to: int,
@@ -77,22 +102,50 @@ def stream_spectrum(capture: Capture, *, segment_length: int, window: str = "han
             with lock:
                 progress(n)
     workers = [fresh() for _ in parts]
-    errors: list[BaseException] = []
-
-    def run(k: int) -> None:
-        try:
-            _one_part(capture, *workers[k], *parts[k], tick)
-        except BaseException as err:  # handed to the caller's thread below
-            errors.append(err)
-    threads = [threading.Thread(target=run, args=(k,), name=f"benchnf-part-{k}") for k in range(1, len(parts))]
-    for t in threads:
-        t.start()
-    run(0)
-    for t in threads:
-        t.join()
-    if errors:
-        raise errors[0]
+    _in_parallel(lambda k: _one_part(capture, *workers[k], *parts[k], tick), len(parts))
     for part_acc, part_stats in workers:
         acc.merge(part_acc)
         stats.merge(part_stats)
     return acc, stats
+
+
+def stream_cross(x: Capture, y: Capture, *, segment_length: int,
+                 progress: Callable[[int], None] | None = None) -> tuple["CrossAccumulator", SampleStats, SampleStats]:
+    """The cross-spectrum accumulator of two channels of one recording (equally long, one sample rate),
+    with each channel's sample statistics, filled in one pass (in parts on two cores for a long capture)."""
+    from .dsp.cross import CrossAccumulator
+    if x.n_frames != y.n_frames or x.sample_rate_hz != y.sample_rate_hz:
+        from .errors import CaptureError
+        raise CaptureError(f"the two channels differ in length or sample rate ({x.label}: {x.n_frames} frames at "
+                           f"{x.sample_rate_hz:g} Hz, {y.label}: {y.n_frames} at {y.sample_rate_hz:g} Hz): take "
+                           f"both from one recording")
+
+    def fresh() -> tuple[CrossAccumulator, SampleStats, SampleStats]:
+        return (CrossAccumulator(sample_rate_hz=x.sample_rate_hz, segment_length=segment_length),
+                SampleStats(label=f"{x.label} channel {x.channel}", energy=False),
+                SampleStats(label=f"{y.label} channel {y.channel}", energy=False))
+    first = fresh()
+    parts = _parts(x, segment_length, first[0].hop)
+    workers = [first] + [fresh() for _ in parts[1:]]
+    lock = threading.Lock()
+
+    def one(k: int) -> None:
+        acc, sx, sy = workers[k]
+        start, read_to, counted_to = parts[k]
+        at = start
+        for bx, by in zip(x.blocks(start=start, stop=read_to), y.blocks(start=start, stop=read_to)):
+            keep = max(0, counted_to - at)
+            sx.update(bx[:keep])
+            sy.update(by[:keep])
+            acc.update(bx, by)
+            at += bx.size
+            if progress is not None:
+                with lock:
+                    progress(min(keep, bx.size))
+    _in_parallel(one, len(parts))
+    acc, sx, sy = workers[0]
+    for part_acc, part_x, part_y in workers[1:]:
+        acc.merge(part_acc)
+        sx.merge(part_x)
+        sy.merge(part_y)
+    return acc, sx, sy

@@ -19,7 +19,8 @@ from numpy.typing import ArrayLike, NDArray
 from ..errors import MeasurementError, ParameterError
 from .psd import WINDOWS, Psd, default_segment_length, make_window, welch_dof, window_enbw_bins
 
-__all__ = ["Psd", "WelchAccumulator", "welch_psd", "welch_dof", "window_enbw_bins", "pool_psds",
+__all__ = ["Psd", "WelchAccumulator", "segment_means", "BatchRfft", "WINDOW_SUPPORT_RTOL", "welch_psd", "welch_dof",
+           "window_enbw_bins", "pool_psds",
            "make_window", "default_segment_length", "WINDOWS", "welch_iq_psd"]
 
 #: Segments per FFT call: many, to spread Python's per-call cost.  Measured here on a whole
@@ -27,12 +28,12 @@ __all__ = ["Psd", "WelchAccumulator", "welch_psd", "welch_dof", "window_enbw_bin
 _SEGMENTS_PER_BATCH = 8
 #: Bins where the window's transform is below this fraction of its peak are rounding noise
 #: (a cosine-sum window's transform is exactly zero beyond its few terms).
-_WINDOW_SUPPORT_RTOL = 1e-12
+WINDOW_SUPPORT_RTOL = 1e-12
 #: Segments a stream transforms with numpy before it moves to FFTW (where pyFFTW is installed).
 FFTW_AFTER_SEGMENTS = 2048
 
 
-class _BatchRfft:
+class BatchRfft:
     """Real FFTs of batches of segments, writing into reused buffers.
 
     FFTW (through pyFFTW, the ``fast`` extra) runs about 1.7 times faster than numpy's pocketfft on this
@@ -89,6 +90,23 @@ class _BatchRfft:
         return self._plans[m]()
 
 
+def segment_means(buf: NDArray[np.float64], n_seg: int, n: int, hop: int) -> NDArray[np.float64]:
+    """Mean of each of the `n_seg` segments of `n` samples that start every `hop` samples from ``buf[0]``.
+
+    When the hop divides N (50 % overlap and the like) the segments are made of whole hop-blocks: each block
+    is summed once and the sums added up, instead of summing every sample once per segment it belongs to.
+    """
+    if n % hop:
+        step = buf.itemsize
+        return np.lib.stride_tricks.as_strided(buf, shape=(n_seg, n), strides=(hop * step, step)).mean(axis=-1)
+    r = n // hop
+    block_sums = buf[:(n_seg + r - 1) * hop].reshape(-1, hop).sum(axis=1)
+    sums = block_sums[:n_seg].copy()
+    for j in range(1, r):
+        sums += block_sums[j:j + n_seg]
+    return sums / n
+
+
 class WelchAccumulator:
     """Accumulates a Welch PSD from blocks of samples of any size.
 
@@ -136,7 +154,7 @@ class WelchAccumulator:
         self.hop = max(1, n - int(round(overlap * n)))
         window_fft = np.fft.rfft(self.window)
         w_mag = np.abs(window_fft)
-        self._support = np.flatnonzero(w_mag > _WINDOW_SUPPORT_RTOL * w_mag.max())
+        self._support = np.flatnonzero(w_mag > WINDOW_SUPPORT_RTOL * w_mag.max())
         self._window_fft_support = window_fft[self._support]
         # Running sums over segments: |X|^2 in every bin (as re, im pairs), and |X - mu W|^2
         # in the bins where W is not zero (see Notes).
@@ -146,7 +164,7 @@ class WelchAccumulator:
         self._buffer = np.empty(0)  # the unconsumed tail, then the new samples
         self._n_tail = 0
         self._reserved = 0
-        self._fft = _BatchRfft(n)
+        self._fft = BatchRfft(n)
         self._batch = _SEGMENTS_PER_BATCH
 
     @property
@@ -222,23 +240,7 @@ class WelchAccumulator:
         self._count += m
 
     def _segment_means(self, buf: NDArray[np.float64], n_seg: int) -> NDArray[np.float64]:
-        """Mean of each of the `n_seg` segments that start every hop samples from ``buf[0]``.
-
-        When the hop divides N (50 % overlap and the like) the segments are made of whole
-        hop-blocks: each block is summed once and the sums added up, instead of summing every
-        sample once per segment it belongs to.
-        """
-        n, hop = self.segment_length, self.hop
-        if n % hop:
-            step = buf.itemsize
-            return np.lib.stride_tricks.as_strided(buf, shape=(n_seg, n), strides=(hop * step, step)
-                                                   ).mean(axis=-1)
-        r = n // hop
-        block_sums = buf[:(n_seg + r - 1) * hop].reshape(-1, hop).sum(axis=1)
-        sums = block_sums[:n_seg].copy()
-        for j in range(1, r):
-            sums += block_sums[j:j + n_seg]
-        return sums / n
+        return segment_means(buf, n_seg, self.segment_length, self.hop)
 
     def _detrended_power_sum(self) -> NDArray[np.float64]:
         """Sum over segments of |X - mean W|^2, from the running sums (see Notes)."""
