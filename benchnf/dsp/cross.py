@@ -29,7 +29,6 @@ References
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -37,7 +36,7 @@ from numpy.typing import ArrayLike, NDArray
 
 from ..errors import MeasurementError, ParameterError
 from .psd import make_window, welch_dof, window_bin_correlation, window_enbw_bins
-from .spectrum import WINDOW_SUPPORT_RTOL, BatchRfft, segment_means
+from .spectrum import WINDOW_SUPPORT_RTOL, BatchRfft, check_segmenting, segment_means
 
 __all__ = ["CrossAccumulator", "CrossSpectra"]
 
@@ -102,10 +101,7 @@ class CrossAccumulator:
     """
 
     def __init__(self, *, sample_rate_hz: float, segment_length: int, overlap: float = 0.5) -> None:
-        if not (math.isfinite(sample_rate_hz) and sample_rate_hz > 0):
-            raise ParameterError(f"sample_rate_hz={sample_rate_hz!r} must be > 0")
-        if int(segment_length) != segment_length or segment_length < 16:
-            raise ParameterError(f"segment_length={segment_length!r} must be a whole number >= 16")
+        check_segmenting(sample_rate_hz, segment_length, overlap)
         self.sample_rate_hz = float(sample_rate_hz)
         self.segment_length = n = int(segment_length)
         self.hop = max(1, n - int(round(overlap * n)))

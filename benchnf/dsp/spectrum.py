@@ -19,7 +19,8 @@ from numpy.typing import ArrayLike, NDArray
 from ..errors import MeasurementError, ParameterError
 from .psd import WINDOWS, Psd, default_segment_length, make_window, welch_dof, window_enbw_bins
 
-__all__ = ["Psd", "WelchAccumulator", "segment_means", "BatchRfft", "WINDOW_SUPPORT_RTOL", "welch_psd", "welch_dof",
+__all__ = ["Psd", "WelchAccumulator", "check_segmenting", "segment_means", "BatchRfft", "WINDOW_SUPPORT_RTOL",
+           "welch_psd", "welch_dof",
            "window_enbw_bins", "pool_psds",
            "make_window", "default_segment_length", "WINDOWS", "welch_iq_psd"]
 
@@ -90,6 +91,16 @@ class BatchRfft:
         return self._plans[m]()
 
 
+def check_segmenting(sample_rate_hz: float, segment_length: int, overlap: float) -> None:
+    """Refuse a sample rate, segment length or overlap no Welch average can use."""
+    if not (math.isfinite(sample_rate_hz) and sample_rate_hz > 0):
+        raise ParameterError(f"sample_rate_hz={sample_rate_hz!r} must be > 0")
+    if int(segment_length) != segment_length or segment_length < 16:
+        raise ParameterError(f"segment_length={segment_length!r} must be a whole number >= 16")
+    if not 0.0 <= overlap < 1.0:
+        raise ParameterError(f"overlap={overlap!r} must satisfy 0 <= overlap < 1")
+
+
 def segment_means(buf: NDArray[np.float64], n_seg: int, n: int, hop: int) -> NDArray[np.float64]:
     """Mean of each of the `n_seg` segments of `n` samples that start every `hop` samples from ``buf[0]``.
 
@@ -141,12 +152,7 @@ class WelchAccumulator:
 
     def __init__(self, *, sample_rate_hz: float, segment_length: int, window: str = "hann",
                  overlap: float = 0.5) -> None:
-        if not (math.isfinite(sample_rate_hz) and sample_rate_hz > 0):
-            raise ParameterError(f"sample_rate_hz={sample_rate_hz!r} must be > 0")
-        if int(segment_length) != segment_length or segment_length < 16:
-            raise ParameterError(f"segment_length={segment_length!r} must be a whole number >= 16")
-        if not 0.0 <= overlap < 1.0:
-            raise ParameterError(f"overlap={overlap!r} must satisfy 0 <= overlap < 1")
+        check_segmenting(sample_rate_hz, segment_length, overlap)
         self.sample_rate_hz = float(sample_rate_hz)
         self.segment_length = n = int(segment_length)
         self.window_name = window
