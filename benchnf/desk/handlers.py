@@ -286,7 +286,7 @@ class Checks(DeskHandler):
 
 class Gauge(DeskHandler):
     def get(self) -> None:
-        from .unitcheck import gauge_study, recorded_figures
+        from .gauge import gauge_study, recorded_figures
         figure = self.get_query_argument("figure", "")
         if not figure:
             self.reply({"figures": recorded_figures(self.state.records_url)})

@@ -34,9 +34,9 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from ..errors import MeasurementError, ParameterError
+from ..errors import ParameterError
 from .psd import make_window, welch_dof, window_bin_correlation, window_enbw_bins
-from .spectrum import WINDOW_SUPPORT_RTOL, BatchRfft, check_segmenting, segment_means
+from .spectrum import WINDOW_SUPPORT_RTOL, BatchRfft, check_segmenting, require_segments, segment_means
 
 __all__ = ["CrossAccumulator", "CrossSpectra"]
 
@@ -189,9 +189,7 @@ class CrossAccumulator:
             Fewer samples than one segment were added.
         """
         self._flush()
-        if self._count == 0:
-            raise MeasurementError(f"the capture is shorter than one analysis segment ({self.segment_length} "
-                                   f"samples): record longer or choose a shorter --segment")
+        require_segments(self._count, self.segment_length, self.sample_rate_hz)
         n = self.segment_length
         norm = np.full(n // 2 + 1, 2.0 / (self._count * self.sample_rate_hz * float(np.dot(self.window, self.window))))
         norm[0] /= 2.0

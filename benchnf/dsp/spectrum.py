@@ -19,7 +19,7 @@ from numpy.typing import ArrayLike, NDArray
 from ..errors import MeasurementError, ParameterError
 from .psd import WINDOWS, Psd, default_segment_length, make_window, welch_dof, window_enbw_bins
 
-__all__ = ["Psd", "WelchAccumulator", "check_segmenting", "segment_means", "BatchRfft", "WINDOW_SUPPORT_RTOL",
+__all__ = ["Psd", "WelchAccumulator", "check_segmenting", "require_segments", "segment_means", "BatchRfft", "WINDOW_SUPPORT_RTOL",
            "welch_psd", "welch_dof",
            "window_enbw_bins", "pool_psds",
            "make_window", "default_segment_length", "WINDOWS", "welch_iq_psd"]
@@ -99,6 +99,13 @@ def check_segmenting(sample_rate_hz: float, segment_length: int, overlap: float)
         raise ParameterError(f"segment_length={segment_length!r} must be a whole number >= 16")
     if not 0.0 <= overlap < 1.0:
         raise ParameterError(f"overlap={overlap!r} must satisfy 0 <= overlap < 1")
+
+
+def require_segments(count: int, segment_length: int, sample_rate_hz: float) -> None:
+    """Refuse an average of no segment: the capture was shorter than one."""
+    if count == 0:
+        raise MeasurementError(f"the capture is shorter than one analysis segment ({segment_length} samples, "
+                               f"{segment_length / sample_rate_hz:.3g} s): record longer or choose a shorter --segment")
 
 
 def segment_means(buf: NDArray[np.float64], n_seg: int, n: int, hop: int) -> NDArray[np.float64]:
@@ -286,11 +293,7 @@ class WelchAccumulator:
             Fewer samples than one segment were added.
         """
         self._flush()
-        if self._count == 0:
-            raise MeasurementError(
-                f"the capture is shorter than one analysis segment ({self.segment_length} samples, "
-                f"{self.segment_length / self.sample_rate_hz:.3g} s): record longer or choose a "
-                f"shorter --segment")
+        require_segments(self._count, self.segment_length, self.sample_rate_hz)
         n = self.segment_length
         density = self._detrended_power_sum() / (self._count * self.sample_rate_hz * float(np.dot(self.window, self.window)))
         density[1: n // 2 + (n % 2)] *= 2.0  # not DC, nor Nyquist when N is even

@@ -363,18 +363,16 @@ def _budgets(spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g:
     dut_rel = dut_power_rel_std(measured=fl.m_band, measured_rel_std=fl.m_rel, floor=fl.f_band,
                                 floor_rel_std=fl.f_rel)
     corrected = spec.floor is not None
-    budgets = {
-        "ein_db": ein_budget(value_db=float(vrms_to_dbu(ein_reported)), dut_rel_std=dut_rel,
-                             floor_corrected=corrected, gain_kind=gain.kind, gain_rel_std=g.gain_rel_std,
-                             stated=stated, response_rel_std=g.response_rel_std),
-        "gain_db": gain_budget(value_db=g.gain_db, gain_kind=gain.kind, gain_rel_std=g.gain_rel_std, stated=stated),
-    }
-    _check_physics(bf, spots, budgets, rs_ohm=rs_ohm, temperature_k=temperature_k)
-    budgets["noise_figure_db"] = nf_budget(
+    ein_b = ein_budget(value_db=float(vrms_to_dbu(ein_reported)), dut_rel_std=dut_rel, floor_corrected=corrected,
+                       gain_kind=gain.kind, gain_rel_std=g.gain_rel_std, stated=stated,
+                       response_rel_std=g.response_rel_std)
+    gain_b = gain_budget(value_db=g.gain_db, gain_kind=gain.kind, gain_rel_std=g.gain_rel_std, stated=stated)
+    _check_physics(bf, spots, ein_u95_db=ein_b.expanded_db, gain_u95_db=gain_b.expanded_db, rs_ohm=rs_ohm,
+                   temperature_k=temperature_k)  # before the noise factor's logarithm
+    budgets = {"ein_db": ein_b, "noise_figure_db": nf_budget(
         quantity="noise_figure_db", noise_factor=bf.noise_factor, excess_over_n0=bf.ein_power / n0,
         dut_rel_std=dut_rel, floor_corrected=corrected, gain_kind=gain.kind, gain_rel_std=g.gain_rel_std,
-        stated=stated, response_rel_std=g.response_rel_std)
-    budgets = {k: budgets[k] for k in ("ein_db", "noise_figure_db", "gain_db")}  # the order of the report
+        stated=stated, response_rel_std=g.response_rel_std), "gain_db": gain_b}
     floor_clean = lines.floor.cleaned if lines.floor is not None else None
     if bf.out_noise > 0:
         budgets["output_noise_db"] = output_noise_budget(
@@ -394,14 +392,13 @@ def _budgets(spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g:
     return budgets
 
 
-def _check_physics(bf: _BandFigures, spots: list[SpotValue], budgets: dict[str, Budget], *, rs_ohm: float,
-                   temperature_k: float) -> None:
+def _check_physics(bf: _BandFigures, spots: list[SpotValue], *, ein_u95_db: float, gain_u95_db: float,
+                   rs_ohm: float, temperature_k: float) -> None:
     """No input noise below the source's own, in band (within the EIN's U) or at a spot (within its Welch U
     and the gain's, combined in quadrature): see :mod:`.physics`."""
-    gain_u = budgets["gain_db"].expanded_db
-    gain_u = gain_u if math.isfinite(gain_u) else 0.0
+    gain_u = gain_u95_db if math.isfinite(gain_u95_db) else 0.0
     check_physics(rs_ohm=rs_ohm, temperature_k=temperature_k, band_ratio=bf.ein_power / bf.thermal ** 2,
-                  band_u95_db=budgets["ein_db"].expanded_db,
+                  band_u95_db=ein_u95_db,
                   spots=[(s.freq_hz, s.input_density_v_per_rthz, math.hypot(s.input_density_expanded_db or 0.0, gain_u))
                          for s in spots])
 
