@@ -181,6 +181,13 @@ _builtin("cascade", "predict a chain's noise figure (Friis) and where to spend",
          run="benchnf.measure.cascade:run_cascade", present="benchnf.report.present_stages:present_cascade",
          cli="benchnf.cli.cascade")
 
+_builtin("bias", "the input device: predicted en, in and NF for a source, and its best current",
+         "en, in, spot and band NF and EIN of a bipolar or field-effect input device at its operating point for a "
+         "source resistance (through a transformer or with devices in parallel), the current of least NF, "
+         "candidate parts ranked, and a built stage's measured en and in explained by its device.",
+         result="benchnf.measure.bias_result:BiasResult", request="benchnf.measure.bias:BiasRequest",
+         run="benchnf.measure.bias:run_bias", present="benchnf.report.present_bias:present", cli="benchnf.cli.bias")
+
 #: The command name of a measurement whose results kind reads differently on the command line.
 COMMAND_NAMES: dict[str, str] = {"analysis": "analyze"}
 

@@ -25,6 +25,7 @@ __all__ = [
     "eng",
     "BOLTZMANN_J_PER_K",
     "T0_K",
+    "ELEMENTARY_CHARGE_C",
     "DBU_REF_VRMS",
     "power_db",
     "amplitude_db",
@@ -41,6 +42,8 @@ __all__ = [
 
 #: Boltzmann constant, exact in the 2019 SI (same value as scipy.constants.k).
 BOLTZMANN_J_PER_K = 1.380649e-23
+#: Elementary charge, exact in the 2019 SI (same value as scipy.constants.e).
+ELEMENTARY_CHARGE_C = 1.602176634e-19
 #: Standard noise temperature of IEEE Std 161.
 T0_K = 290.0
 #: 0 dBu: the voltage that dissipates 1 mW in 600 ohm, sqrt(0.6) V RMS.

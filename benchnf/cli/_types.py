@@ -185,3 +185,28 @@ def channel_count(text: str) -> int:
 def port_number(text: str) -> int:
     """A TCP port: 0 (any free one) to 65535."""
     return _integer(text, "a TCP port number", lambda n: 0 <= n <= 65535, " is not a TCP port (0 to 65535)")
+
+
+def device_amps(text: str) -> float:
+    """A transistor's quiescent current or leakage: above 0 A and at most 1 A."""
+    return _number(text, "a current above 0 A and at most 1 A", lambda v: 0 < v <= 1.0, ("A",))
+
+
+def non_negative_amps(text: str) -> float:
+    return _number(text, "a current from 0 A to 1 A", lambda v: 0 <= v <= 1.0, ("A",))
+
+
+def non_negative_ohm(text: str) -> float:
+    return _number(text, "a resistance from 0 ohm to 1 Gohm", lambda v: 0 <= v <= 1e9, _OHM)
+
+
+def finite_volts(text: str) -> float:
+    return _number(text, "a voltage from -1 kV to 1 kV", lambda v: -1e3 <= v <= 1e3, ("V",))
+
+
+def siemens(text: str) -> float:
+    return _number(text, "a transconductance above 0 S and at most 100 S", lambda v: 0 < v <= 100, ("S",))
+
+
+def non_negative_number(text: str) -> float:
+    return _number(text, "a number >= 0", lambda v: v >= 0)
