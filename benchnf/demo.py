@@ -91,6 +91,12 @@ def _bath_request(src: Path, cal: Any) -> Any:
                           t_hot_k=a["t_hot_k"], t_cold_k=a["t_cold_k"], rows=6)
 
 
+def _bias_request(src: Path, cal: Any) -> Any:
+    from .measure.bias import BiasRequest
+    pair = (("ic_a", 1.5e-3), ("beta", 300.0), ("rbb_ohm", 6.0), ("re_ohm", 1.0))
+    return BiasRequest("bjt", 20.0, pair, temperature_k=296.15, count=2, optimise=True, current_range_a=(1e-4, 3e-2))
+
+
 def _tell(what: str, model: Callable[[dict[str, Any]], str] | None = None) -> Callable[..., list[str]]:
     def tell(_result: Any, view: Any, truth: dict[str, Any]) -> list[str]:
         return [f"  {what}: {view.summary}" + (f"; model {model(truth)}" if model else "")]
@@ -123,6 +129,8 @@ SCENARIOS: dict[str, tuple[Scenario, ...]] = {
                 Scenario("yfactor_bath", "yfactor_bath.txt", _files("bath_hot.flac", "bath_cold.flac", "bath_floor.flac"),
                          _bath_request, _tell("audio preamp, 1 kohm at 100 C / 0 C",
                                               lambda t: f"NF {t['yfactor_audio']['dut_noise_figure_db']:.3f} dB"))),
+    "bias": (Scenario("bias", "bias.txt", _files(), _bias_request,
+                      _tell("the head amplifier's input pair (two transistors) for its 20 ohm source")),),
 }
 
 

@@ -55,7 +55,7 @@ def test_every_results_json_validates_and_reads_back_exactly(written):
         assert "provenance" in data, path  # every results JSON says where it came from
         assert result_from_dict(data, where=str(path)).to_dict() == data, path
         kinds.add(data["kind"])
-    assert kinds == {"analysis", "yfactor", "eni", "budget", "cascade", "check"}
+    assert kinds == {"analysis", "yfactor", "eni", "budget", "cascade", "bias", "check"}
 
 
 def test_calibrations_and_sidecars_validate(written):

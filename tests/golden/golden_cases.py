@@ -62,7 +62,39 @@ CASES: dict[str, tuple[list[str], list[str]]] = {
     "batch_units": (["batch", "{demo}/units", "--profile", "{demo}/known_good_profile.toml",
                      "--floor", "{demo}/floor.flac", "--volts-per-fs", "2.0", "--workers", "1",
                      "-o", "{tmp}/batch", "--quiet"], ["batch/summary.csv", "batch/junit.xml"]),
+    "bias_jfet_weighted": (["bias", "jfet", "--id", "2m", "--idss", "8m", "--vp", "-1.5", "--ig", "5p",
+                            "--corner-hz", "200", "--rs", "10k", "--weighting", "A", "--optimise",
+                            "--json", "{tmp}/out/jfet.json"], ["out/jfet.json"]),
+    "bias_parts": (["bias", "parts", "{tmp}/parts.toml", "--rs", "200", "--json", "{tmp}/out/parts.json"],
+                   ["out/parts.json"]),
+    "bias_from_eni": (["bias", "bjt", "--from", "{tmp}/eni.json", "--ic", "1m", "--rs", "20", "--re", "1",
+                       "--turns", "3", "--winding-ohm", "15"], []),
 }
+
+#: Candidate parts for the parts case (INVENTED DATA: made-up devices, no maker's part).
+PARTS_TOML = """
+[[part]]
+name = "low-rbb' NPN"
+kind = "bjt"
+beta = 250
+rbb_ohm = 4
+vaf_v = 80
+vce_v = 5
+
+[[part]]
+name = "general-purpose NPN"
+kind = "bjt"
+ic_a = 0.5e-3
+beta = 300
+rbb_ohm = 60
+
+[[part]]
+name = "audio JFET"
+kind = "jfet"
+idss_a = 10e-3
+vp_v = -0.8
+ig_a = 10e-12
+"""
 
 
 def make_inputs(tmp: Path) -> None:
@@ -91,6 +123,9 @@ def make_inputs(tmp: Path) -> None:
         main([*[a.format(demo=DEMO, tmp=tmp) for a in _ANALYZE], "--shorted", str(DEMO / "shorted.flac"),
               "--json", str(tmp / "unit.json")])
     json.loads((tmp / "unit.json").read_text())
+    with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
+        main([a.format(demo=DEMO, tmp=tmp) for a in CASES["eni_three_rs"][0][:-1]] + [str(tmp / "eni.json")])
+    (tmp / "parts.toml").write_text(PARTS_TOML)
     (tmp / "out").mkdir()
 
 
@@ -124,7 +159,7 @@ def run_case(name: str, tmp: Path) -> dict[str, str]:
     return {k: normalise(v, tmp) for k, v in texts.items()}
 
 
-DEMO_FILES = ["results.json", "summary.txt", "calibration.json", "budget.json", "eni.json",
+DEMO_FILES = ["results.json", "summary.txt", "calibration.json", "budget.json", "eni.json", "bias.json",
               "yfactor_vhf.json", "yfactor_bath.json", "yfactor_vhf.txt", "yfactor_bath.txt",
               "check/summary.csv", "check/junit.xml"]
 
