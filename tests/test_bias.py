@@ -198,3 +198,30 @@ def test_explaining_needs_an_eni_result(tmp_path, capsys):
     other.write_text('{"schema_version": "1", "kind": "cascade"}')
     assert main(["bias", "bjt", "--from", str(other), "--ic", "1m", "--rs", "200"]) == 2
     assert "eni" in capsys.readouterr().err
+
+
+def test_a_chain_stage_can_be_a_device_and_where_to_spend_names_its_parameters(tmp_path):
+    # The chain's first stage stated as a device gives the cascade the device's en and in at 1 kHz; the
+    # cascade's device levers are each the chain NF with that one parameter changed (checked here by
+    # building the changed chain by hand).
+    from benchnf.measure.cascade import CascadeRequest, run_cascade
+    from benchnf.noise.cascade import load_chain, predict
+    chain = tmp_path / "chain.toml"
+    text = ('name = "t"\nsource_ohm = 20.0\n\n[[stage]]\nname = "input pair"\nvoltage_gain_db = 20.0\n'
+            '[stage.device]\nkind = "bjt"\nic_a = 1.5e-3\nbeta = 300\nrbb_ohm = 6\nre_ohm = 1\ncount = 2\n\n'
+            '[[stage]]\nname = "second"\nvoltage_gain_db = 14\nen_v_per_rthz = 3e-9\n')
+    chain.write_text(text)
+    n = Bjt(1.5e-3, 300.0, 6.0, re_ohm=1.0, count=2).noise(1000.0)
+    stage = load_chain(chain).stages[0]
+    assert stage.en_v_per_rthz == pytest.approx(float(n.en[0]), rel=1e-12)
+    assert stage.in_a_per_rthz == pytest.approx(float(n.in_[0]), rel=1e-12)
+    r = run_cascade(CascadeRequest(chain))
+    levers = {x.stage: x.noise_figure_saving_db for x in r.device_levers}
+    halved = tmp_path / "halved.toml"
+    halved.write_text(text.replace("rbb_ohm = 6", "rbb_ohm = 3"))
+    assert levers["input pair: rbb' 3 ohm instead of 6 ohm"] == pytest.approx(
+        r.noise_figure_db - predict(load_chain(halved)).noise_figure_db, abs=1e-9)
+    assert list(levers.values()) == sorted(levers.values(), reverse=True)
+    chain.write_text(text.replace('[stage.device]', 'en_v_per_rthz = 1e-9\n[stage.device]'))
+    with pytest.raises(ParameterError, match="not both"):
+        load_chain(chain)

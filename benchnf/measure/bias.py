@@ -23,7 +23,7 @@ import numpy as np
 
 from ..errors import ParameterError
 from ..noise.devices import Bjt, Device, DeviceNoise, Fet, Source, best_current, device_current, input_density_v2, \
-    noise_factor
+    make_device, noise_factor
 from ..units import T0_K, vrms_to_dbu
 from .bias_result import BiasResult, Curve, DeviceStated, NoiseSpectrum, Optimum
 
@@ -54,26 +54,6 @@ class BiasRequest:
     current_range_a: tuple[float, float] = DEFAULT_CURRENT_RANGE_A
     from_eni: Path | None = None
     parts: Path | None = None
-
-
-def make_device(kind: str, parameters: dict[str, float], *, count: int = 1, temperature_k: float = T0_K) -> Device:
-    """A :class:`Bjt` or :class:`Fet` from stated parameters (one line naming what is missing otherwise)."""
-    cls = Bjt if kind == "bjt" else Fet
-    current = "ic_a" if kind == "bjt" else "id_a"
-    need = (current, "beta", "rbb_ohm") if kind == "bjt" else (current,)
-    missing = [k for k in need if k not in parameters]
-    if missing:
-        raise ParameterError(f"the {kind} model needs {', '.join(_option(k) for k in missing)}")
-    known = set(cls.__dataclass_fields__) - {"kind", "count", "temperature_k", "gm_at_a"}
-    unknown = sorted(set(parameters) - known)
-    if unknown:
-        raise ParameterError(f"{', '.join(unknown)} is not a parameter of the {kind} model "
-                             f"(its parameters: {', '.join(sorted(known))})")
-    return cls(**parameters, count=count, temperature_k=temperature_k)  # type: ignore[arg-type]
-
-
-def _option(key: str) -> str:
-    return {"ic_a": "--ic", "id_a": "--id", "beta": "--beta", "rbb_ohm": "--rbb"}.get(key, key)
 
 
 def source_of(req: BiasRequest, rs_ohm: float | None = None) -> Source:

@@ -3,13 +3,14 @@ catalogue of any maker's parts), each part at its best current for the source, r
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
-from typing import TYPE_CHECKING, Any, Literal
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from ..errors import ParameterError
+from ..noise.devices import DeviceTable, device_from_table
 from .bias_result import BiasResult, Curve, PartRow
 
 if TYPE_CHECKING:
@@ -19,26 +20,8 @@ __all__ = ["PartsFile", "load_parts", "rank_parts"]
 
 
 @dataclass(frozen=True)
-class _PartTable:
-    name: str
-    kind: Literal["bjt", "jfet"]
-    ic_a: float | None = None
-    id_a: float | None = None
-    beta: float | None = None
-    rbb_ohm: float | None = None
-    re_ohm: float | None = None
-    vaf_v: float | None = None
-    vce_v: float | None = None
-    is_a: float | None = None
-    gm_s: float | None = None
-    idss_a: float | None = None
-    vp_v: float | None = None
-    gamma: float | None = None
-    ig_a: float | None = None
-    rs_ohm: float | None = None
-    kf: float | None = None
-    af: float | None = None
-    corner_hz: float | None = None
+class _PartTable(DeviceTable):
+    name: str | None = None
     notes: str | None = None
 
 
@@ -54,20 +37,21 @@ def load_parts(path: Path, *, count: int, temperature_k: float) -> list[tuple[st
     """(name, device, current stated) per part; the device at a placeholder current where none is stated."""
     from ..codec import check_shape
     from ..io.toml_file import read_toml
-    from .bias import make_device
     where = f"parts file {path}"
     shape = check_shape(PartsFile, read_toml(path, "parts file"), where)
     if not shape.part:
         raise ParameterError(f"{where} has no [[part]] tables")
     out = []
     for i, table in enumerate(shape.part, 1):
-        values = {k: v for k, v in table.__dict__.items() if v is not None and k not in ("name", "kind", "notes")}
+        if not table.name:
+            raise ParameterError(f"{where}, part {i}: give it a name")
         current = "ic_a" if table.kind == "bjt" else "id_a"
-        given = current in values
+        given = getattr(table, current) is not None
         if not given:
-            values[current] = 1e-3 if table.kind == "bjt" or table.idss_a is None else table.idss_a / 4
+            placeholder = 1e-3 if table.kind == "bjt" or table.idss_a is None else table.idss_a / 4
+            table = replace(table, **{current: placeholder})
         try:
-            out.append((table.name, make_device(table.kind, values, count=count, temperature_k=temperature_k), given))
+            out.append((table.name, device_from_table(table, temperature_k=temperature_k, count=count), given))
         except ParameterError as err:
             raise ParameterError(f"{where}, part {i} ({table.name}): {err}") from None
     return out

@@ -12,7 +12,7 @@ from typing import Any
 
 from ..codec import ResultFile, figure, from_data, to_data
 from ..errors import BenchError
-from ..noise.cascade import CascadeResult, load_chain, predict, stage_with, what_if, where_to_spend
+from ..noise.cascade import CascadeResult, device_levers, load_chain, predict, stage_with, what_if, where_to_spend
 from .provenance import Provenance
 
 __all__ = ["CascadeRequest", "Saving", "WhatIf", "CascadePrediction", "run_cascade"]
@@ -70,6 +70,7 @@ class CascadePrediction(CascadeResult, ResultFile):
     where_to_spend: tuple[Saving, ...] = field(default=())
     improve_db: float = figure(default=1.0, exclusiveMinimum=0)
     what_if: WhatIf | None = figure(default=None, omit_if_none=True)
+    device_levers: tuple[Saving, ...] | None = figure(default=None, omit_if_none=True)  # the first stage's device
     warnings: tuple[str, ...] = ()  # one line each, also on stderr as "benchnf: warning: ..."
     provenance: Provenance | None = figure(default=None, omit_if_none=True)
 
@@ -89,8 +90,9 @@ def run_cascade(req: CascadeRequest, *, progress: Any = None) -> CascadePredicti
         changes = _changes(req.what_if_changes)
         _, other = what_if(chain, index, stage_with(chain.stages[index], changes))
         alternative = WhatIf(f"{names[index]} had " + ", ".join(_words(k, v) for k, v in changes.items()), other)
+    levers = tuple(Saving(text, v) for text, v in device_levers(chain)) or None
     return CascadePrediction(**{f: getattr(result, f) for f in result.__dataclass_fields__},
-                             where_to_spend=spend, improve_db=req.improve_db, what_if=alternative)
+                             where_to_spend=spend, improve_db=req.improve_db, what_if=alternative, device_levers=levers)
 
 
 _WORDS = {"gain_db": ("gain", "dB"), "nf_db": ("a noise figure of", "dB"), "te_k": ("a noise temperature of", "K"),

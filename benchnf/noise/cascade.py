@@ -41,9 +41,10 @@ from typing import Any, Literal
 
 from ..errors import ParameterError
 from ..units import BOLTZMANN_J_PER_K, T0_K
+from .devices import DeviceTable
 
 __all__ = ["Stage", "Chain", "CascadeResult", "StageShare", "load_chain", "friis", "voltage_cascade",
-           "where_to_spend", "what_if", "predict", "stage_with", "WHAT_IF_KEYS"]
+           "where_to_spend", "device_levers", "what_if", "predict", "stage_with", "WHAT_IF_KEYS"]
 
 
 
@@ -78,6 +79,7 @@ class Stage:
     in_a_per_rthz: float = 0.0
     output_ohm: float = 0.0
     source: str = "stated"
+    device: Any = field(default=None, compare=False, repr=False)  # a noise.devices Bjt/Fet the en and in come from
 
     def __post_init__(self) -> None:
         if self.loss_db is not None:
@@ -178,6 +180,7 @@ class _StageTable:
     output_ohm: float | None = None
     source: str | None = None
     notes: str | None = None
+    device: DeviceTable | None = None
 
 
 @dataclass(frozen=True)
@@ -200,7 +203,7 @@ def load_chain(path: str | Path) -> Chain:
     shape = check_shape(ChainFile, read_toml(path, "chain file"), where)
     if not shape.stage:
         raise ParameterError(f"chain file {path} has no [[stage]] tables")
-    stages = []
+    tables: list[dict[str, Any]] = []
     for i, table in enumerate(shape.stage, 1):
         st = {k: v for k, v in table.__dict__.items() if v is not None and k != "notes"}
         if "gain_linear" in st:
@@ -212,13 +215,36 @@ def load_chain(path: str | Path) -> Chain:
             st["gain_db"] = st.pop("voltage_gain_db")
         st.setdefault("name", f"stage {i}")
         _check_stage_numbers(st, f"{where}, stage {i}")
-        stages.append(Stage(**st))
+        tables.append(st)
     temperature = number(shape.temperature_k if shape.temperature_k is not None else T0_K, where=where,
                          key="temperature_k", low=0.0, high=1e4, low_open=True)
+    stages = [Stage(**_with_device(st, temperature, f"{where}, stage {i}")) for i, st in enumerate(tables, 1)]
     source = (number(shape.source_ohm, where=where, key="source_ohm", low=0.0, low_open=True)
               if shape.source_ohm is not None else None)
     return Chain(tuple(stages), source, temperature, shape.name if shape.name is not None else path.stem,
                  temperature_stated=shape.temperature_k is not None)
+
+
+#: The frequency at which a stage's device gives its en and in to the cascade.
+DEVICE_SPOT_HZ = 1000.0
+
+
+def _with_device(st: dict[str, Any], temperature_k: float, where: str) -> dict[str, Any]:
+    """A stage's values with a ``[stage.device]`` table turned into its en and in at 1 kHz (their small
+    correlation dropped, as the voltage cascade takes stages uncorrelated)."""
+    table = st.get("device")
+    if table is None:
+        return st
+    if st.get("en_v_per_rthz") is not None or st.get("in_a_per_rthz") is not None:
+        raise ParameterError(f"{where}: give en and in, or a [stage.device], not both")
+    from .devices import device_from_table
+    try:
+        device = device_from_table(table, temperature_k=temperature_k)
+    except ParameterError as err:
+        raise ParameterError(f"{where}, device: {err}") from None
+    noise = device.noise(DEVICE_SPOT_HZ)
+    return {**st, "device": device, "en_v_per_rthz": float(noise.en[0]), "in_a_per_rthz": float(noise.in_[0]),
+            "source": st.get("source", f"{table.kind} model")}
 
 
 @dataclass(frozen=True)
@@ -347,6 +373,46 @@ def where_to_spend(chain: Chain, *, improvement_db: float = 1.0) -> list[tuple[s
                           in_a_per_rthz=None if st.in_a_per_rthz is None else st.in_a_per_rthz * scale)
         out.append((st.name, base.noise_figure_db - _predict(chain.replace_stage(i, new)).noise_figure_db))
     return sorted(out, key=lambda x: x[1], reverse=True)
+
+
+def device_levers(chain: Chain) -> list[tuple[str, float]]:
+    """What the first stage's device would buy: the chain's NF saving (dB) if its rbb' were halved, its beta
+    doubled (bipolar) or its gm doubled (FET), twice as many devices were in parallel, or it ran at its best
+    current for the chain's source (searched from 10 uA to 30 mA). Empty when the first stage has no device.
+
+    Returns (what changes, saving in dB), largest saving first.
+    """
+    first = chain.stages[0]
+    device = first.device
+    if device is None or chain.source_ohm is None:
+        return []
+    from .devices import Bjt, Source, best_current, device_current, noise_factor
+    base = _predict(chain).noise_figure_db
+
+    def nf_with(d: Any) -> float:
+        n = d.noise(DEVICE_SPOT_HZ)
+        stage = replace(first, en_v_per_rthz=float(n.en[0]), in_a_per_rthz=float(n.in_[0]), device=d)
+        return _predict(chain.replace_stage(0, stage)).noise_figure_db
+
+    source = Source(chain.source_ohm)
+    best = best_current(device, lambda d: 10 * math.log10(float(noise_factor(d.noise(DEVICE_SPOT_HZ), source)[0])),
+                        current_range_a=(1e-5, 3e-2) if isinstance(device, Bjt) or device.idss_a is None
+                        else (1e-5, device.idss_a))
+    each = " each" if device.count > 1 else ""
+    options = [(f"{first.name}: at {best.current_a * 1e3:.3g} mA{each} instead of {device_current(device) * 1e3:.3g} mA",
+                device.at_current(best.current_a)),
+               (f"{first.name}: {2 * device.count} devices in parallel instead of {device.count}",
+                replace(device, count=2 * device.count))]
+    if isinstance(device, Bjt):
+        options += [(f"{first.name}: rbb' {device.rbb_ohm / 2:.3g} ohm instead of {device.rbb_ohm:.3g} ohm",
+                     replace(device, rbb_ohm=device.rbb_ohm / 2)),
+                    (f"{first.name}: beta {2 * device.beta:.3g} instead of {device.beta:.3g}",
+                     replace(device, beta=2 * device.beta))]
+    else:
+        gm = device.transconductance_s
+        options.append((f"{first.name}: gm {2 * gm * 1e3:.3g} mS instead of {gm * 1e3:.3g} mS",
+                        replace(device, gm_s=2 * gm, gm_at_a=device.id_a, idss_a=None, vp_v=None)))
+    return sorted(((text, base - nf_with(d)) for text, d in options), key=lambda x: x[1], reverse=True)
 
 
 #: What --what-if may change on a stage, by its key or a short name.

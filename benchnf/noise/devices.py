@@ -64,8 +64,8 @@ from numpy.typing import ArrayLike, NDArray
 from ..errors import ParameterError
 from ..units import BOLTZMANN_J_PER_K, ELEMENTARY_CHARGE_C, T0_K
 
-__all__ = ["Bjt", "Fet", "Device", "DeviceNoise", "Source", "noise_factor", "input_density_v2", "Optimum",
-           "best_current", "device_current", "ASSUMED_VBE_V"]
+__all__ = ["Bjt", "Fet", "Device", "DeviceNoise", "DeviceTable", "Source", "noise_factor", "input_density_v2",
+           "Optimum", "best_current", "device_current", "make_device", "device_from_table", "ASSUMED_VBE_V"]
 
 #: Base-emitter voltage assumed for the Early correction when IS is not stated (common practice for a small
 #: silicon transistor at around 1 mA).
@@ -348,3 +348,58 @@ def best_current(device: Device, figure_db: Callable[[Device], float], *,
     low, high = edge(grid[0]), edge(grid[-1])
     at_edge = bool(k in (0, grid.size - 1) or low == grid[0] or high == grid[-1])
     return Optimum(math.exp(x0), f0, (math.exp(low), math.exp(high)), within_db, at_edge)
+
+
+def make_device(kind: str, parameters: dict[str, float], *, count: int = 1, temperature_k: float = T0_K) -> Device:
+    """A :class:`Bjt` or :class:`Fet` from stated parameters (one line naming what is missing otherwise)."""
+    cls = Bjt if kind == "bjt" else Fet
+    current = "ic_a" if kind == "bjt" else "id_a"
+    need = (current, "beta", "rbb_ohm") if kind == "bjt" else (current,)
+    missing = [k for k in need if k not in parameters]
+    if missing:
+        raise ParameterError(f"the {kind} model needs {', '.join(_OPTIONS.get(k, k) for k in missing)}")
+    known = set(cls.__dataclass_fields__) - {"kind", "count", "temperature_k", "gm_at_a"}
+    unknown = sorted(set(parameters) - known)
+    if unknown:
+        raise ParameterError(f"{', '.join(unknown)} is not a parameter of the {kind} model "
+                             f"(its parameters: {', '.join(sorted(known))})")
+    return cls(**parameters, count=count, temperature_k=temperature_k)  # type: ignore[arg-type]
+
+
+_OPTIONS = {"ic_a": "--ic (ic_a)", "id_a": "--id (id_a)", "beta": "--beta (beta)", "rbb_ohm": "--rbb (rbb_ohm)"}
+
+
+@dataclass(frozen=True)
+class DeviceTable:
+    """A device as a hand-written TOML table states it (a candidate part, a chain file's stage device):
+    its kind and the model's values by their field names; `count` devices in parallel."""
+
+    kind: Literal["bjt", "jfet"]
+    ic_a: float | None = None
+    id_a: float | None = None
+    beta: float | None = None
+    rbb_ohm: float | None = None
+    re_ohm: float | None = None
+    vaf_v: float | None = None
+    vce_v: float | None = None
+    is_a: float | None = None
+    gm_s: float | None = None
+    idss_a: float | None = None
+    vp_v: float | None = None
+    gamma: float | None = None
+    ig_a: float | None = None
+    rs_ohm: float | None = None
+    kf: float | None = None
+    af: float | None = None
+    corner_hz: float | None = None
+    count: int | None = None
+
+    def values(self) -> dict[str, float]:
+        from dataclasses import fields
+        return {f.name: getattr(self, f.name) for f in fields(DeviceTable)
+                if getattr(self, f.name) is not None and f.name not in ("kind", "count")}
+
+
+def device_from_table(table: DeviceTable, *, temperature_k: float, count: int | None = None) -> Device:
+    """The device a table states (its own `count` unless one is given)."""
+    return make_device(table.kind, table.values(), count=count or table.count or 1, temperature_k=temperature_k)

@@ -144,11 +144,16 @@ def present_cascade(r: CascadePrediction) -> View:
                   f"or its en and in) fell by {r.improve_db:g} dB",
                   ("saving (dB)", "stage"), tuple((Quantity(x.noise_figure_saving_db, "dB", digits=3), x.stage)
                                                   for x in r.where_to_spend))
+    tables = [stages, spend]
+    if r.device_levers:
+        tables.append(Table("What the first stage's device would buy: the chain's noise figure saved",
+                            ("saving (dB)", "change"), tuple((Quantity(x.noise_figure_saving_db, "dB", digits=3), x.stage)
+                                                           for x in r.device_levers)))
     names = tuple(s.name for s in r.stages)
     plot = Plot("shares", "cascade_shares.png", "Each stage's share of the excess noise", "stage", "share (%)",
                 (Trace("share", tuple(float(i) for i in range(len(names))),
                        values(100 * s.share_of_excess for s in r.stages), "bar", labels=names),),
                 log_x=False, categories=True)
-    return View("cascade", "cascade prediction", (("form", form),), tuple(head), (stages, spend), (plot,),
+    return View("cascade", "cascade prediction", (("form", form),), tuple(head), tuple(tables), (plot,),
                 tuple(r.notes), tuple(r.warnings), (),
                 f"noise figure {r.noise_figure_db:.3f} dB, gain {r.gain_db:.2f} dB")
