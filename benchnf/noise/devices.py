@@ -103,8 +103,29 @@ class DeviceNoise:
             return np.where(self.en2 * self.in2 > 0, self.cross / np.sqrt(self.en2 * self.in2), 0.0)
 
 
+@dataclass(frozen=True, kw_only=True)
+class _Operating:
+    """What every device model states besides its own parameters: flicker noise (KF/AF in the SPICE
+    convention, or a corner frequency), how many equal devices in parallel, and its temperature."""
+
+    kf: float = 0.0
+    af: float = 1.0
+    corner_hz: float | None = None
+    count: int = 1
+    temperature_k: float = T0_K
+
+    def __post_init__(self) -> None:
+        for name in ("temperature_k", "corner_hz", "af"):
+            _positive(name, getattr(self, name))
+        _positive("kf", self.kf, allow_zero=True)
+        if self.count < 1:
+            raise ParameterError(f"count {self.count} must be 1 or more devices")
+        if self.kf > 0 and self.corner_hz is not None:
+            raise ParameterError("state the flicker noise as KF/AF or as a corner frequency, not both")
+
+
 @dataclass(frozen=True)
-class Bjt:
+class Bjt(_Operating):
     """A bipolar transistor at its operating point (per device; `count` equal devices in parallel).
 
     `beta` is the forward current gain BF; with `vaf_v` and `vce_v` it is raised by the Early effect.
@@ -119,22 +140,14 @@ class Bjt:
     vaf_v: float | None = None
     vce_v: float | None = None
     is_a: float | None = None
-    kf: float = 0.0
-    af: float = 1.0
-    corner_hz: float | None = None
-    count: int = 1
-    temperature_k: float = T0_K
     kind: Literal["bjt"] = "bjt"
 
     def __post_init__(self) -> None:
-        for name in ("ic_a", "beta", "temperature_k", "vaf_v", "is_a", "corner_hz", "af"):
+        super().__post_init__()
+        for name in ("ic_a", "beta", "vaf_v", "is_a"):
             _positive(name, getattr(self, name))
-        for name in ("rbb_ohm", "re_ohm", "kf", "vce_v"):
+        for name in ("rbb_ohm", "re_ohm", "vce_v"):
             _positive(name, getattr(self, name), allow_zero=True)
-        if self.count < 1:
-            raise ParameterError(f"count {self.count} must be 1 or more devices")
-        if self.kf > 0 and self.corner_hz is not None:
-            raise ParameterError("state the flicker noise as KF/AF or as a corner frequency, not both")
 
     @property
     def thermal_voltage_v(self) -> float:
@@ -186,7 +199,7 @@ class Bjt:
 
 
 @dataclass(frozen=True)
-class Fet:
+class Fet(_Operating):
     """A field-effect transistor at its drain current (per device; `count` in parallel).
 
     gm comes from `gm_s` (stated at `id_a`, scaled as sqrt(Id) at other currents) or from IDSS and Vp
@@ -200,18 +213,14 @@ class Fet:
     gamma: float = 2.0 / 3.0
     ig_a: float = 0.0
     rs_ohm: float = 0.0
-    kf: float = 0.0
-    af: float = 1.0
-    corner_hz: float | None = None
-    count: int = 1
-    temperature_k: float = T0_K
     kind: Literal["jfet"] = "jfet"
     gm_at_a: float | None = None  # the current a stated gm belongs to (set from id_a when not given)
 
     def __post_init__(self) -> None:
-        for name in ("id_a", "gm_s", "idss_a", "gamma", "temperature_k", "corner_hz", "af", "gm_at_a"):
+        super().__post_init__()
+        for name in ("id_a", "gm_s", "idss_a", "gamma", "gm_at_a"):
             _positive(name, getattr(self, name))
-        for name in ("ig_a", "rs_ohm", "kf"):
+        for name in ("ig_a", "rs_ohm"):
             _positive(name, getattr(self, name), allow_zero=True)
         if self.vp_v is not None and not (math.isfinite(self.vp_v) and self.vp_v != 0):
             raise ParameterError(f"vp_v {self.vp_v!r} must be a non-zero voltage")
@@ -221,10 +230,6 @@ class Fet:
             raise ParameterError("state gm or IDSS and Vp, not both")
         if self.idss_a is not None and self.id_a > self.idss_a * (1 + 1e-9):
             raise ParameterError(f"Id {self.id_a:g} A is above IDSS {self.idss_a:g} A: a JFET cannot run there")
-        if self.count < 1:
-            raise ParameterError(f"count {self.count} must be 1 or more devices")
-        if self.kf > 0 and self.corner_hz is not None:
-            raise ParameterError("state the flicker noise as KF/AF or as a corner frequency, not both")
         if self.gm_s is not None and self.gm_at_a is None:
             object.__setattr__(self, "gm_at_a", self.id_a)
 
