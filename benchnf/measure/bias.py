@@ -15,19 +15,19 @@ gain, 1 without one; IEEE Std 161 for the noise factor, the band form being its 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Literal
 
 import numpy as np
 
 from ..errors import ParameterError
-from ..noise.devices import Bjt, Device, DeviceNoise, Fet, Source, best_current, device_current, input_density_v2, \
-    make_device, noise_factor
+from ..noise.devices import ASSUMED_VBE_V, Bjt, Device, DeviceNoise, Fet, Source, best_current, device_current, \
+    input_density_v2, make_device, noise_factor
 from ..units import T0_K, vrms_to_dbu
 from .bias_result import BiasResult, Curve, DeviceStated, NoiseSpectrum, Optimum
 
-__all__ = ["BiasRequest", "run_bias", "make_device", "figure_at", "SOURCES_SHOWN_OHM", "DEFAULT_CURRENT_RANGE_A"]
+__all__ = ["BiasRequest", "run_bias", "figure_at", "SOURCES_SHOWN_OHM", "DEFAULT_CURRENT_RANGE_A"]
 
 #: The sources drawn in the NF-against-current plot: from moving-coil cartridges (tens of ohms) to
 #: moving-magnet ones (tens of kilohms) (common practice).
@@ -157,7 +157,7 @@ def _notes(device: Device, req: BiasRequest, figures: dict[str, Any]) -> list[st
              f"{req.temperature_k:g} K; {origin}",
              "best SNR always comes at the lowest source impedance, not at the Rs of least NF"]
     if isinstance(device, Bjt) and device.is_a is None and device.vaf_v is not None and device.vce_v is not None:
-        notes.append(f"Vbe taken as {0.65:g} V for the Early correction (state --is for the model's own)")
+        notes.append(f"Vbe taken as {ASSUMED_VBE_V:g} V for the Early correction (state --is for the model's own)")
     if device.count > 1:
         notes.append(f"{device.count} devices in parallel, each at {Quantity(device_current(device), 'A').text()}")
     if req.turns != 1.0 or req.winding_ohm:
@@ -180,14 +180,13 @@ def run_bias(req: BiasRequest, *, progress: Any = None) -> BiasResult:
         parameters.setdefault("rbb_ohm", 0.0)
         parameters.setdefault("beta", 100.0)
     device = make_device(req.kind, parameters, count=req.count, temperature_k=req.temperature_k)
-    explained = None
+    explained, best = None, None
     if req.from_eni is not None:
         from .bias_fit import explain
-        device, explained = explain(device, req)
+        device, explained, best = explain(device, req)  # the fitted device's best current, with its U
+    elif req.optimise:
+        best = optimum(device, source_of(req), req)
     figures = device_figures(device, req)
-    best = optimum(device, source_of(req), req) if req.optimise or explained is not None else None
-    if explained is not None and best is not None:
-        best = replace(best, noise_figure_u95_db=explained.best_noise_figure_u95_db)
     by_current, by_rs = _curves(device, req, best.ic_a if best else device_current(device))
     return BiasResult(**common, **figures, optimum=best, nf_vs_current=by_current, nf_vs_rs=by_rs,  # type: ignore[arg-type]
                       explained=explained, notes=tuple(_notes(device, req, figures)))

@@ -29,7 +29,7 @@ from typing import TYPE_CHECKING, Any
 from ..errors import ParameterError
 from ..noise.devices import Bjt, Device, Fet, device_current
 from ..units import BOLTZMANN_J_PER_K, ELEMENTARY_CHARGE_C
-from .bias_result import Explained
+from .bias_result import Explained, Optimum
 
 if TYPE_CHECKING:
     from .bias import BiasRequest
@@ -100,8 +100,9 @@ def _measured(req: "BiasRequest") -> tuple[str, float, float, float, float | Non
             2 * in_std if row.in_a_per_rthz is not None else 0.0)
 
 
-def explain(device: Device, req: "BiasRequest") -> tuple[Device, Explained]:
-    """The device that explains the sweep's en and in at its stated current, and its best current."""
+def explain(device: Device, req: "BiasRequest") -> tuple[Device, Explained, Optimum]:
+    """The device that explains the sweep's en and in at its stated current, and its best current (with the
+    U of its NF from the sweep's U)."""
     from ..quantity import Quantity, resistance_text
     from .bias import figure_at, optimum, source_of
     path, freq, en, u_en, in_, u_in = _measured(req)
@@ -120,8 +121,10 @@ def explain(device: Device, req: "BiasRequest") -> tuple[Device, Explained]:
     now_i, best_i = Quantity(device_current(device), "A").text(), Quantity(best.ic_a, "A").text()
     summary = (f"this stage runs at {now_i}; at {best_i} it would reach {best.noise_figure_db:.2f} dB instead of "
                f"{now_nf:.2f} dB at {resistance_text(req.rs_ohm)}")
+    u_best = _u95(best_nf, en, u_en, in_, u_in)
     return fitted, Explained(path, freq, en, u_en, in_ if in_ is not None else math.nan, u_in, now_nf, best.ic_a,
-                             best.noise_figure_db, _u95(best_nf, en, u_en, in_, u_in), summary, **params)
+                             best.noise_figure_db, u_best, summary, **params), \
+        replace(best, noise_figure_u95_db=u_best)
 
 
 def _parameters(device: Device, fitted: Device, en: float, u_en: float, in_: float | None,
