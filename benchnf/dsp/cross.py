@@ -35,7 +35,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from ..errors import ParameterError
-from .psd import make_window, welch_dof, window_bin_correlation, window_enbw_bins
+from .psd import Psd, make_window, welch_dof, window_bin_correlation, window_enbw_bins
 from .spectrum import WINDOW_SUPPORT_RTOL, BatchRfft, check_segmenting, require_segments, segment_means
 
 __all__ = ["CrossAccumulator", "CrossSpectra"]
@@ -80,6 +80,28 @@ class CrossSpectra:
         """The common density (V²/Hz) a bin resolves after these averages: twice the standard deviation
         the two channels' own noise leaves in the co-spectrum, 2 sqrt(S_xx S_yy / ν)."""
         return 2.0 * np.sqrt(self.s_xx * self.s_yy / self.dof)
+
+    def dut_psd(self, background: "CrossSpectra | None" = None) -> Psd:
+        """The estimate of the common (DUT) spectrum as a :class:`Psd` carrying each bin's variance: the
+        co-spectrum, less the `background`'s co-spectrum (both inputs terminated: what the analyzer itself
+        puts into both channels) when given; the two estimates are independent, so their variances add.
+
+        Its ``dof`` is the equivalent degrees of freedom of the median bin, ``2 C^2 / var(C)`` (at least 1),
+        for the line search's thresholds; every uncertainty uses ``bin_variance``.
+        """
+        co, var = self.co, self.co_variance
+        if background is not None:
+            if background.frequency_hz.shape != self.frequency_hz.shape or background.hop != self.hop:
+                raise ParameterError("the background's cross-spectrum has other bins than the DUT's: record both "
+                                     "at one sample rate and analyse them with one segment length")
+            co, var = co - background.co, var + background.co_variance
+        inner = slice(1, -1)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            ratio = np.where((co[inner] > 0) & (var[inner] > 0), 2.0 * co[inner] ** 2 / var[inner], 0.0)
+        nu = float(min(max(float(np.median(ratio)), 1.0), self.dof))
+        return Psd(frequency_hz=self.frequency_hz, psd_per_hz=co, unit="V", sample_rate_hz=self.sample_rate_hz,
+                   segment_length=self.segment_length, hop=self.hop, window="hann", enbw_hz=self.enbw_hz,
+                   n_averages=self.n_averages, dof=nu, bin_variance=var)
 
     @property
     def correlation_kernel(self) -> tuple[float, ...]:

@@ -137,7 +137,12 @@ class Psd:
     n_averages : int
         Number of segments averaged.
     dof : float
-        Equivalent degrees of freedom of each bin (see :func:`welch_dof`).
+        Equivalent degrees of freedom of each bin (see :func:`welch_dof`). For a cross-spectrum estimate
+        (`bin_variance` given) the equivalent degrees of freedom of its median bin, ``2 S^2 / var``, which
+        only the line search's thresholds use.
+    bin_variance : numpy.ndarray or None
+        Variance of each bin's estimate (`unit`^4/Hz^2) where it is not Welch's chi-square ``2 S^2 / dof``:
+        the averaged cross-spectrum's (:mod:`benchnf.dsp.cross`).
     """
 
     frequency_hz: NDArray[np.float64]
@@ -150,9 +155,12 @@ class Psd:
     enbw_hz: float
     n_averages: int
     dof: float
+    bin_variance: NDArray[np.float64] | None = None
 
     def __post_init__(self) -> None:
-        for name in ("frequency_hz", "psd_per_hz"):
+        for name in ("frequency_hz", "psd_per_hz", "bin_variance"):
+            if getattr(self, name) is None:
+                continue
             arr = np.array(getattr(self, name), dtype=np.float64)
             arr.setflags(write=False)
             object.__setattr__(self, name, arr)
@@ -190,7 +198,13 @@ class Psd:
     def scaled(self, factor_v_per_unit: float, unit: str = "V") -> "Psd":
         """Return the spectrum with amplitudes multiplied by `factor_v_per_unit`."""
         from dataclasses import replace
-        return replace(self, psd_per_hz=self.psd_per_hz * factor_v_per_unit ** 2, unit=unit)
+        var = self.bin_variance * factor_v_per_unit ** 4 if self.bin_variance is not None else None
+        return replace(self, psd_per_hz=self.psd_per_hz * factor_v_per_unit ** 2, unit=unit, bin_variance=var)
+
+    @property
+    def is_cross(self) -> bool:
+        """True for an averaged cross-spectrum (its bins' variance stated, not chi-square)."""
+        return self.bin_variance is not None
 
     def confidence_factors(self, level: float = 0.95) -> tuple[float, float]:
         """Multipliers (lower, upper) giving a `level` chi-square interval for each bin.

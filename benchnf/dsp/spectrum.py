@@ -377,6 +377,8 @@ def pool_psds(spectra: list[Psd]) -> Psd:
             raise ParameterError("spectra to pool must share sample rate, segment, window and unit")
     if len(spectra) == 1:
         return first
+    if any(p.is_cross for p in spectra):
+        raise ParameterError("cross-spectrum estimates are not pooled: record one longer capture instead")
     weights = np.array([p.n_averages for p in spectra], dtype=np.float64)
     density = np.average(np.stack([p.psd_per_hz for p in spectra]), axis=0, weights=weights)
     return replace(first, psd_per_hz=density, n_averages=int(weights.sum()),

@@ -92,12 +92,16 @@ class LineSearch:
         The density with every line's bins replaced by the baseline.
     mains_hz : float or None
         The mains fundamental used for the families.
+    cleaned_variance : numpy.ndarray or None
+        For a cross-spectrum estimate, each bin's variance with the lines' bins bridged from their
+        neighbours (what the cleaned density's bins would have without the line).
     """
 
     lines: tuple[Line, ...]
     baseline: NDArray[np.float64]
     cleaned: NDArray[np.float64]
     mains_hz: float | None
+    cleaned_variance: NDArray[np.float64] | None = None
 
 
 def _baseline(density: NDArray[np.float64], dof: float, width: int) -> NDArray[np.float64]:
@@ -113,7 +117,7 @@ def _baseline(density: NDArray[np.float64], dof: float, width: int) -> NDArray[n
     for k in range(1, min(half_width, density.size)):
         half = max(k - 1, _MIN_HALF_WINDOW)  # centred where it can be, never fewer than 11 bins
         med[k] = np.median(density[max(1, k - half): k + half + 1])
-    return med / (chi2_median(dof) / dof)
+    return med / (chi2_median(dof) / dof) if math.isfinite(dof) else med  # symmetric scatter: median = mean
 
 
 def find_lines(psd: Psd, *, mains_hz: float | None = None, min_hz: float = 15.0,
@@ -133,13 +137,11 @@ def find_lines(psd: Psd, *, mains_hz: float | None = None, min_hz: float = 15.0,
     false_alarm : float
         Expected number of false lines per spectrum from noise alone.
     """
-    from .special import chi2_isf
     s = psd.psd_per_hz
     f = psd.frequency_hz
     df = psd.bin_width_hz
-    base = _baseline(s, psd.dof, baseline_bins | 1)
-    q = chi2_isf(false_alarm / s.size, psd.dof) / psd.dof
-    cand = (s > base * q) & (f >= min_hz)
+    base, cand = _candidates(psd, baseline_bins | 1, false_alarm)
+    cand &= f >= min_hz
     cand[-(_MIN_HALF_WINDOW + 1):] = False  # the Nyquist bin is not doubled and skews the median
     groups: list[tuple[int, int]] = []
     k = 0
@@ -153,6 +155,7 @@ def find_lines(psd: Psd, *, mains_hz: float | None = None, min_hz: float = 15.0,
         k += 1
     raw = []
     cleaned = s.copy()
+    variance = psd.bin_variance.copy() if psd.bin_variance is not None else None
     for lo, hi in groups:
         if hi - lo + 1 > _MAX_SOFT_LINE_BINS + 2 * _LOBE_BINS and \
                 np.max(s[lo:hi + 1] / base[lo:hi + 1]) < 10.0:
@@ -163,8 +166,12 @@ def find_lines(psd: Psd, *, mains_hz: float | None = None, min_hz: float = 15.0,
             continue
         centre = float(np.dot(excess, f[lo:hi + 1]) / excess.sum())
         peak = int(lo + np.argmax(s[lo:hi + 1]))
-        raw.append((centre, power, float(10 * np.log10(s[peak] / base[peak])), (lo, hi)))
+        above = s[peak] / base[peak] if base[peak] > 0 else np.inf  # a cross-spectrum's baseline may be ~0
+        raw.append((centre, power, float(10 * np.log10(above)), (lo, hi)))
         cleaned[lo:hi + 1] = base[lo:hi + 1]
+        if variance is not None:
+            edges = [max(lo - 1, 0), min(hi + 1, s.size - 1)]
+            variance[lo:hi + 1] = np.interp(np.arange(lo, hi + 1), edges, variance[edges])
     fundamental = mains_hz if mains_hz is not None else classify_mains(
         [(c, p) for c, p, _e, _b in raw], bin_width_hz=df)
     lines = []
@@ -172,7 +179,20 @@ def find_lines(psd: Psd, *, mains_hz: float | None = None, min_hz: float = 15.0,
         family, harmonic = _family(centre, fundamental, df)
         lines.append(Line(centre, power, exc, family, harmonic, bins))
     lines.sort(key=lambda ln: ln.power, reverse=True)
-    return LineSearch(tuple(lines), base, cleaned, fundamental)
+    return LineSearch(tuple(lines), base, cleaned, fundamental, variance)
+
+
+def _candidates(psd: Psd, width: int, false_alarm: float) -> tuple[NDArray[np.float64], NDArray[np.bool_]]:
+    """The baseline and the bins standing out of it by more than noise allows at `false_alarm` lines per
+    spectrum: Welch bins by their chi-square ratio; cross-spectrum bins (which may be negative) by their
+    excess over the baseline in standard deviations of the estimate (normal quantile)."""
+    from .special import chi2_isf, normal_isf
+    s = psd.psd_per_hz
+    if psd.bin_variance is None:
+        base = _baseline(s, psd.dof, width)
+        return base, s > base * (chi2_isf(false_alarm / s.size, psd.dof) / psd.dof)
+    base = _baseline(s, math.inf, width)
+    return base, s - base > normal_isf(false_alarm / s.size) * np.sqrt(psd.bin_variance)
 
 
 def _harmonic_of(freq_hz: float, fundamental: float, bin_width_hz: float) -> int | None:

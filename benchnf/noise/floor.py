@@ -100,7 +100,8 @@ def correlated_sum_variance(a: ArrayLike, correlation: Sequence[float]) -> float
     return total
 
 
-def band_relative_std(weights: ArrayLike, density: ArrayLike, *, dof: float, correlation: Sequence[float]) -> float:
+def band_relative_std(weights: ArrayLike, density: ArrayLike, *, dof: float, correlation: Sequence[float],
+                      variance: ArrayLike | None = None) -> float:
     """Relative standard deviation of a Welch band power ``sum_k w_k S_k``.
 
     Each bin has relative variance ``2/nu`` (nu from Welch's formula, segment overlap included), and two
@@ -118,11 +119,19 @@ def band_relative_std(weights: ArrayLike, density: ArrayLike, *, dof: float, cor
     .. [1] P. D. Welch, IEEE Trans. Audio Electroacoust. 15(2), 1967 (variance of the averaged estimate).
     .. [2] D. B. Percival and A. T. Walden, "Spectral Analysis for Physical Applications", Cambridge 1993,
            ch. 6 (covariance of periodogram ordinates of a tapered series).
+
+    With `variance` (each bin's, for an averaged cross-spectrum whose bins are not chi-square) the same sum
+    is taken over ``w_k sqrt(var_k)``: the co-spectrum's errors of two bins d apart correlate by the same
+    ``|C(d)|^2`` (the product of the two channels' independent transforms; see :mod:`benchnf.dsp.cross`).
     """
-    ws = np.asarray(weights, dtype=np.float64) * np.asarray(density, dtype=np.float64)
+    w = np.asarray(weights, dtype=np.float64)
+    ws = w * np.asarray(density, dtype=np.float64)
     total = float(np.sum(ws))
     if not total > 0:
         return np.inf
+    if variance is not None:
+        return math.sqrt(correlated_sum_variance(w * np.sqrt(np.asarray(variance, dtype=np.float64)),
+                                                 correlation)) / total
     return math.sqrt(2.0 / dof * correlated_sum_variance(ws, correlation)) / total
 
 
