@@ -168,6 +168,16 @@ def channel_index(text: str) -> int:
                     " is not a channel number: channels count from 0")
 
 
+def channel_pair(text: str) -> tuple[int, int]:
+    parts = text.split(",")
+    if len(parts) != 2:
+        raise argparse.ArgumentTypeError(f"{text!r} is not two channels A,B (for example 0,1)")
+    a, b = (channel_index(x.strip()) for x in parts)
+    if a == b:
+        raise argparse.ArgumentTypeError(f"{text!r} names one channel twice: the cross-spectrum needs two inputs")
+    return a, b
+
+
 def segment_samples(text: str) -> int:
     return _integer(text, "a whole number of samples", lambda v: v >= 64, ": a segment needs at least 64 samples")
 

@@ -10,6 +10,7 @@ from ..write import Writer
 from ._common import calibration_options
 from ._types import (
     channel_index,
+    channel_pair,
     finite_db,
     gain_db,
     mains_hz,
@@ -41,6 +42,15 @@ def _capture_options(p: argparse.ArgumentParser) -> None:
                    help="analyzer alone with its input terminated (subtracted in linear power)")
     a.add_argument("--shorted", type=Path, metavar="FILE",
                    help="DUT output with its input shorted (voltage noise alone)")
+    c = p.add_argument_group("below the analyzer's floor (docs/cross.md)")
+    c.add_argument("--cross", action="store_true",
+                   help="the terminated recording has the DUT output on two inputs: estimate its spectrum by "
+                        "their averaged cross-spectrum, which the inputs' own noise does not reach")
+    c.add_argument("--cross-channels", type=channel_pair, metavar="A,B",
+                   help="the two channels on the DUT output (default 0,1); the tone is read on A")
+    c.add_argument("--background", type=Path, metavar="FILE",
+                   help="with --cross: both inputs terminated, the same two channels; its cross-spectrum (the "
+                        "analyzer's correlated noise) is subtracted")
 
 
 def _gain_options(p: argparse.ArgumentParser) -> None:
@@ -165,7 +175,8 @@ def request_from_args(args: argparse.Namespace) -> Any:
                                  resistor_pct=args.resistor_limit_pct, temperature_k=args.temperature_limit_k),
         reference_output_vrms=(float(dbu_to_vrms(args.reference_dbu)) if args.reference_dbu is not None
                                else args.reference_vrms),
-        band_above_mains=args.band_preset == "above-hum")
+        band_above_mains=args.band_preset == "above-hum", cross=args.cross,
+        cross_channels=tuple(args.cross_channels) if args.cross_channels else None, background=args.background)
 
 
 def write_extra(args: argparse.Namespace, writer: Writer, result: Any) -> None:

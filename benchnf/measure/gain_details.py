@@ -34,11 +34,16 @@ _MAX_QP_SECONDS = 30.0
 
 
 def resolved(weights: NDArray[np.float64], measured: NDArray[np.float64], floor: NDArray[np.float64] | None,
-              *, dof_measured: float, dof_floor: float | None, correlation: tuple[float, ...]) -> bool:
-    """True if the excess of `measured` over `floor` in these weighted bins exceeds 3 sigma."""
+              *, dof_measured: float, dof_floor: float | None, correlation: tuple[float, ...],
+              variance_measured: NDArray[np.float64] | None = None) -> bool:
+    """True if the excess of `measured` over `floor` (over zero for a cross-spectrum estimate, whose bins'
+    `variance_measured` is given) in these weighted bins exceeds 3 sigma."""
+    m = float(np.dot(weights, measured))
+    if variance_measured is not None and floor is None:
+        return m > 3.0 * band_relative_std(weights, measured, dof=dof_measured, correlation=correlation,
+                                           variance=variance_measured) * m
     if floor is None or dof_floor is None:
         return True
-    m = float(np.dot(weights, measured))
     fl = float(np.dot(weights, floor))
     sm = band_relative_std(weights, measured, dof=dof_measured, correlation=correlation) * m
     sf = band_relative_std(weights, floor, dof=dof_floor, correlation=correlation) * fl
@@ -53,7 +58,7 @@ def line_mask(search: LineSearch, size: int) -> NDArray[np.bool_]:
 
 
 def spot_values(f, band, fs, p_term, p_floor, p_short, term_clean, floor_clean, short_clean, out_diff,
-           e2_diff, en_diff, rs_ohm, temperature_k, notes) -> list[SpotValue]:
+           e2_diff, en_diff, rs_ohm, temperature_k, notes, term_var=None) -> list[SpotValue]:
     """One-third-octave spot values; a band narrower than one bin is not listed."""
     spot_band = Band(band.low_hz, min(band.high_hz, fs / 2 / 10 ** (1 / 20)))
     centres = [c for c in third_octave_centres_hz(spot_band)
@@ -69,9 +74,10 @@ def spot_values(f, band, fs, p_term, p_floor, p_short, term_clean, floor_clean, 
     for i, ((label, _exact), w_full) in enumerate(zip(centres, spot_w)):
         span = nonzero_span(w_full)  # a band's few bins: the rest weigh nothing
         w_s, term_s = w_full[span], term_clean[span]
+        var_s = term_var[span] if term_var is not None else None
         floor_s = floor_clean[span] if floor_clean is not None else None
         ok = e2_spot[i] > 0 and resolved(w_s, term_s, floor_s, dof_measured=p_term.dof,
-                                          dof_floor=floor_dof, correlation=kernel)
+                                          dof_floor=floor_dof, correlation=kernel, variance_measured=var_s)
         m_band = float(np.dot(w_s, term_s))
         f_band = float(np.dot(w_s, floor_s)) if floor_s is not None else None
         m_db = float(power_db(m_band / f_band)) if f_band is not None else None
@@ -81,7 +87,8 @@ def spot_values(f, band, fs, p_term, p_floor, p_short, term_clean, floor_clean, 
                  and resolved(w_s, short_clean[span], floor_s, dof_measured=p_short.dof,
                                dof_floor=floor_dof, correlation=kernel))
         rel = dut_power_rel_std(
-            measured=m_band, measured_rel_std=band_relative_std(w_s, term_s, dof=p_term.dof, correlation=kernel),
+            measured=m_band, measured_rel_std=band_relative_std(w_s, term_s, dof=p_term.dof, correlation=kernel,
+                                                                variance=var_s),
             floor=f_band, floor_rel_std=(band_relative_std(w_s, floor_s, dof=floor_dof, correlation=kernel)
                                          if floor_s is not None and floor_dof is not None else None))
         spots.append(SpotValue(
@@ -170,13 +177,13 @@ def qp_ein(capture: NoiseInput, p_term: Psd, p_floor: Psd | None, w_band, g: Gai
     return qp / g_1k
 
 
-def spot_power(f, centre_hz, p_term, p_floor, term_clean, floor_clean) -> tuple[float, float, float]:
+def spot_power(f, centre_hz, p_term, p_floor, term_clean, floor_clean, term_var=None) -> tuple[float, float, float]:
     """(DUT output power in the one-third-octave band at `centre_hz` less the floor, its relative standard
     uncertainty from the Welch statistics of both, the band's weight sum)."""
     w = third_octave_weights(f, centre_hz)
     kernel = p_term.correlation_kernel
     m = float(np.dot(w, term_clean))
-    m_rel = band_relative_std(w, term_clean, dof=p_term.dof, correlation=kernel)
+    m_rel = band_relative_std(w, term_clean, dof=p_term.dof, correlation=kernel, variance=term_var)
     fl = fl_rel = None
     if p_floor is not None:
         fl = float(np.dot(w, floor_clean))
@@ -186,9 +193,9 @@ def spot_power(f, centre_hz, p_term, p_floor, term_clean, floor_clean) -> tuple[
 
 
 def spot_nf_budget(f, centre_hz, p_term, p_floor, term_clean, floor_clean, g, gain, stated, rs_ohm,
-                    temperature_k) -> Budget:
+                    temperature_k, term_var=None) -> Budget:
     w = third_octave_weights(f, centre_hz)
-    power, rel, b = spot_power(f, centre_hz, p_term, p_floor, term_clean, floor_clean)
+    power, rel, b = spot_power(f, centre_hz, p_term, p_floor, term_clean, floor_clean, term_var)
     e2 = power / float(np.dot(w, g.power_gain)) * b
     n0 = 4 * BOLTZMANN_J_PER_K * T0_K * rs_ohm * b
     nt = float(thermal_density_v2_per_hz(resistance_ohm=rs_ohm, temperature_k=temperature_k)) * b
@@ -199,11 +206,11 @@ def spot_nf_budget(f, centre_hz, p_term, p_floor, term_clean, floor_clean, g, ga
 
 
 def spot_density_budget(quantity: str, value_v_per_rthz: float, f, p_term, p_floor, term_clean, floor_clean, g,
-                        gain, stated) -> Budget:
+                        gain, stated, term_var=None) -> Budget:
     """Budget of an input-referred spot density at 1 kHz in dB (20 lg of the density): the one-third-octave
     band's Welch statistics (with the floor's) and the gain's ingredients, as for the EIN (the density is
     an input-referred amplitude like it)."""
-    _power, rel, _b = spot_power(f, 1000.0, p_term, p_floor, term_clean, floor_clean)
+    _power, rel, _b = spot_power(f, 1000.0, p_term, p_floor, term_clean, floor_clean, term_var)
     budget = ein_budget(value_db=20 * math.log10(value_v_per_rthz), dut_rel_std=rel,
                         floor_corrected=p_floor is not None, gain_kind=gain.kind, gain_rel_std=g.gain_rel_std,
                         stated=stated, response_rel_std=g.response_rel_std)

@@ -26,6 +26,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from ..capture import Capture
+from ..dsp.cross import CrossSpectra
 from ..dsp.integrate import band_bin_weights
 from ..dsp.spectrum import Psd, default_segment_length, pool_psds
 from ..dsp.spurs import LineSearch, find_lines, hum_hints
@@ -49,6 +50,7 @@ from ..noise.uncertainty import (
 )
 from ..units import BOLTZMANN_J_PER_K, T0_K, power_db, thermal_density_v2_per_hz, vrms_to_dbu, vrms_to_dbv
 from .assumptions import NO_FLOOR
+from .cross_estimate import CrossSetup, advice, check_cross_resolved, cross_spectra, summarise_cross
 from .gain import GainEstimate, GainSetup, measure_gain
 from .noise_inputs import NoiseInput, Progress, capture_psd, check_rates, label_of, path_of, with_vpfs
 from .gain_details import flicker_fit, qp_ein, repeat_values, resolved, spot_density_budget, spot_nf_budget, spot_values
@@ -74,6 +76,10 @@ class _Spectra:
     term: Psd
     floor: Psd | None
     short: Psd | None
+    cross: CrossSpectra | None = None  # the terminated recording's two channels (term is their estimate)
+    background: CrossSpectra | None = None
+    cross_channels: tuple[int, int] = (0, 1)
+    background_path: str | None = None
 
     @property
     def f(self) -> NDArray[np.float64]:
@@ -85,6 +91,11 @@ class _Lines:
     term: LineSearch
     floor: LineSearch | None
     short: LineSearch | None
+
+    @property
+    def term_var(self) -> NDArray[np.float64] | None:
+        """The cleaned terminated estimate's bin variances, for a cross-spectrum (else chi-square)."""
+        return self.term.cleaned_variance
 
 
 @dataclass(frozen=True)
@@ -123,7 +134,8 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
                         mains_hz: float | None = None, flicker_range_hz: tuple[float, float] | None = None,
                         flicker_free_slope: bool = False, stated: StatedUncertainty = StatedUncertainty(),
                         reference_output_vrms: float | None = None, band_above_mains: bool = False,
-                        assumptions: Sequence[str] = (), progress: Progress | None = None) -> AnalysisResult:
+                        assumptions: Sequence[str] = (), progress: Progress | None = None,
+                        cross: CrossSetup | None = None) -> AnalysisResult:
     """Gain, input-referred noise density, EIN and noise figure from captures.
 
     Parameters
@@ -167,6 +179,10 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
         Notes from the resolution of the inputs (e.g. a temperature nobody stated), listed first.
     progress : callable, optional
         Called with the number of frames read, as reading proceeds.
+    cross : CrossSetup, optional
+        Estimate the DUT's output spectrum by the averaged cross-spectrum of `terminated` (one capture)
+        and a second channel of the same recording on the same output, less the correlated background's
+        when given (:mod:`.cross_estimate`); no floor capture then.
 
     Returns
     -------
@@ -184,12 +200,15 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
     """
     _validate(rs_ohm=rs_ohm, temperature_k=temperature_k, weighting=weighting, detector=detector,
               reference_output_vrms=reference_output_vrms)
+    if cross is not None and detector == "qp":
+        raise ParameterError("the quasi-peak meter reads one channel's waveform: it cannot take the cross-spectrum "
+                             "estimate; use --detector rms with --cross")
     prep = _prepare(terminated=terminated, floor=floor, shorted=shorted, gain=gain, band=band,
-                    segment_length=segment_length)
+                    segment_length=segment_length, cross=cross)
     notes: list[str] = list(assumptions)
     warned: list[str] = []
     with warnings_into(warned):
-        spec = _spectra(prep, progress=progress)
+        spec = _spectra(prep, progress=progress, cross=cross)
         lines = _lines(spec, mains_hz=mains_hz)
         if band_above_mains:
             band = above_hum_band(lines.term.mains_hz)
@@ -206,7 +225,7 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
     spots = spot_values(spec.f, band, prep.fs, spec.term, spec.floor, spec.short, lines.term.cleaned,
                    lines.floor.cleaned if lines.floor is not None else None,
                    lines.short.cleaned if lines.short is not None else None, fl.out_diff, bf.e2_diff, en_diff,
-                   rs_ohm, temperature_k, notes)
+                   rs_ohm, temperature_k, notes, term_var=lines.term_var)
     at_1k = next((s for s in spots if s.freq_hz == 1000.0), None)
     flicker, flicker_on = flicker_fit(spec.f, en_diff, bf.e2_diff, lines.term, spec.term, band, flicker_range_hz,
                                    flicker_free_slope, notes)
@@ -237,11 +256,14 @@ def _validate(*, rs_ohm: float, temperature_k: float, weighting: str, detector: 
 
 
 def _prepare(*, terminated: NoiseInput | Sequence[NoiseInput], floor: NoiseInput | None,
-             shorted: NoiseInput | None, gain: GainSetup, band: Band, segment_length: int | None) -> _Prepared:
+             shorted: NoiseInput | None, gain: GainSetup, band: Band, segment_length: int | None,
+             cross: CrossSetup | None = None) -> _Prepared:
     """One sample rate, one calibration, a trace that covers the band, the segment length."""
     runs: list[NoiseInput] = list(terminated) if isinstance(terminated, (list, tuple)) else [terminated]  # type: ignore[list-item]
     if not runs:
         raise ParameterError("give at least one terminated capture")
+    if cross is not None:
+        _check_cross(runs, floor=floor, shorted=shorted)
     first = runs[0]
     fs = first.sample_rate_hz
     if isinstance(first, Capture):
@@ -267,7 +289,21 @@ def _prepare(*, terminated: NoiseInput | Sequence[NoiseInput], floor: NoiseInput
                      fs=fs, seg=seg, vpfs=vpfs)
 
 
-def _spectra(prep: _Prepared, *, progress: Progress | None) -> _Spectra:
+def _check_cross(runs: list[NoiseInput], *, floor: NoiseInput | None, shorted: NoiseInput | None) -> None:
+    if len(runs) != 1 or not isinstance(runs[0], Capture):
+        raise ParameterError("the cross-spectrum estimate takes one terminated recording of two channels: record "
+                             "one longer capture rather than repeats, and not a spectrum trace")
+    if floor is not None:
+        raise ParameterError("--cross needs no --floor: the two inputs' own noise averages away; give the "
+                             "analyzer's correlated background (both inputs terminated) with --background")
+    if shorted is not None:
+        raise ParameterError("--shorted is not analysed by the cross-spectrum yet: analyse the shorted capture "
+                             "in a run without --cross")
+
+
+def _spectra(prep: _Prepared, *, progress: Progress | None, cross: CrossSetup | None = None) -> _Spectra:
+    if cross is not None:
+        return _cross_spectra(prep, cross, progress=progress)
     p_runs = [capture_psd(r, segment_length=prep.seg, progress=progress) for r in prep.runs]
     p_term = pool_psds(p_runs)
     p_floor = capture_psd(prep.floor, segment_length=prep.seg, progress=progress) if prep.floor is not None else None
@@ -278,6 +314,24 @@ def _spectra(prep: _Prepared, *, progress: Progress | None) -> _Spectra:
             raise CaptureError(f"the {role} spectrum has other frequency bins than the terminated "
                                f"one: use one segment length (or one instrument setting) for all")
     return _Spectra(runs=p_runs, term=p_term, floor=p_floor, short=p_short)
+
+
+def _cross_spectra(prep: _Prepared, cross: CrossSetup, *, progress: Progress | None) -> _Spectra:
+    """The terminated recording's two channels and the background's, as one estimate of the DUT's output."""
+    run = prep.runs[0]
+    other = with_vpfs(cross.other, prep.vpfs, "second terminated channel", label_of(run))
+    spectra = cross_spectra(run, other, segment_length=prep.seg, progress=progress)  # type: ignore[arg-type]
+    background = None
+    if cross.background is not None:
+        bx, by = cross.background
+        if bx.sample_rate_hz != prep.fs:
+            raise CaptureError(f"the background {bx.label} was recorded at {bx.sample_rate_hz:g} Hz but "
+                               f"{label_of(run)} at {prep.fs:g} Hz: record both at one rate")
+        background = cross_spectra(bx, by, segment_length=prep.seg, progress=progress)
+    dut = spectra.dut_psd(background)
+    return _Spectra(runs=[dut], term=dut, floor=None, short=None, cross=spectra, background=background,
+                    cross_channels=(run.channel, other.channel),  # type: ignore[union-attr]
+                    background_path=path_of(cross.background[0]) if cross.background is not None else None)
 
 
 def _lines(spec: _Spectra, *, mains_hz: float | None) -> _Lines:
@@ -298,9 +352,12 @@ def _floor(spec: _Spectra, lines: _Lines, *, band: Band, weighting: str, what: s
     term_clean = lines.term.cleaned
     kernel = p_term.correlation_kernel
     m_band = float(np.dot(w_band[used], term_clean[used]))
-    m_rel = band_relative_std(w_band, term_clean, dof=p_term.dof, correlation=kernel)
+    if spec.cross is not None:
+        check_cross_resolved(p_term, w_band, term_clean, lines.term_var, what=what)  # type: ignore[arg-type]
+    m_rel = band_relative_std(w_band, term_clean, dof=p_term.dof, correlation=kernel, variance=lines.term_var)
     if p_floor is None:
-        notes.append(NO_FLOOR)
+        if spec.cross is None:
+            notes.append(NO_FLOOR)
         return _FloorStep(w_band, used, kernel, m_band, m_rel, None, None, None, term_clean, p_term.psd_per_hz)
     floor_clean = lines.floor.cleaned  # type: ignore[union-attr]
     f_band = float(np.dot(w_band[used], floor_clean[used]))
@@ -380,11 +437,12 @@ def _budgets(spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g:
             calibration_known=calibrated, stated=stated)
     if at_1k is not None and at_1k.noise_figure_db is not None:
         budgets["nf_at_1khz_db"] = spot_nf_budget(spec.f, 1000.0, spec.term, spec.floor, lines.term.cleaned,
-                                                   floor_clean, g, gain, stated, rs_ohm, temperature_k)
+                                                   floor_clean, g, gain, stated, rs_ohm, temperature_k,
+                                                   term_var=lines.term_var)
     if at_1k is not None and at_1k.input_density_v_per_rthz:
         budgets["input_density_at_1khz_db"] = spot_density_budget(
             "input_density_at_1khz_db", at_1k.input_density_v_per_rthz, spec.f, spec.term, spec.floor,
-            lines.term.cleaned, floor_clean, g, gain, stated)
+            lines.term.cleaned, floor_clean, g, gain, stated, term_var=lines.term_var)
     if at_1k is not None and at_1k.voltage_noise_v_per_rthz and spec.short is not None and lines.short is not None:
         budgets["voltage_noise_at_1khz_db"] = spot_density_budget(
             "voltage_noise_at_1khz_db", at_1k.voltage_noise_v_per_rthz, spec.f, spec.short, spec.floor,
@@ -429,7 +487,8 @@ def _spectra_out(spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures
         input_v2_per_hz=np.where(bf.e2_diff > 0, bf.e2_diff, np.nan),
         voltage_noise_v2_per_hz=np.where(en_diff > 0, en_diff, np.nan) if en_diff is not None else None,
         noise_figure_db=nf_curve, power_gain=g.power_gain, band_weights=fl.w_band, lines=tuple(lines.term.lines),
-        flicker=flicker, floor_dof=spec.floor.dof if spec.floor is not None else None)
+        flicker=flicker, floor_dof=spec.floor.dof if spec.floor is not None else None,
+        output_variance_v4_per_hz2=spec.term.bin_variance)
 
 
 def _assemble(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g: GainEstimate, *,
@@ -445,16 +504,24 @@ def _assemble(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorStep, bf
                             ln.family, ln.harmonic, ln.excess_db) for ln in lines.term.lines)
     runs = prep.runs
     files = AnalysisFiles(tuple(path_of(r) or "" for r in runs) if len(runs) > 1 else (path_of(runs[0]) or ""),
-                          path_of(prep.floor), path_of(prep.shorted), path_of(gain.tone), path_of(gain.response))
+                          path_of(prep.floor), path_of(prep.shorted), path_of(gain.tone), path_of(gain.response),
+                          background=spec.background_path)
     w, used = fl.w_band, fl.used
     en_band = math.sqrt(max(float(np.dot(w[used], en_diff[used])), 0.0)) if en_diff is not None else None
     snr = (float(20 * math.log10(reference_output_vrms / bf.out_noise))
            if reference_output_vrms is not None and bf.out_noise > 0 else None)
+    cross = None
+    if spec.cross is not None:
+        cross = summarise_cross(spec.cross, spec.background, spec.term, fl.w_band, lines.term.cleaned,
+                                lines.term_var, spec.cross_channels)  # type: ignore[arg-type]
+        notes = [*notes, advice(cross)]
     return AnalysisResult(
         gain_db=g.gain_db, gain_frequency_hz=g.frequency_hz, gain_std_db=g.gain_std_db, gain_reference=g.reference,
         rs_ohm=float(rs_ohm), temperature_k=float(temperature_k), band_hz=(band.low_hz, band.high_hz),
         weighting=weighting, detector=detector,  # type: ignore[arg-type]  # both checked by _validate
-        floor_corrected=spec.floor is not None, floor_margin_db=fl.margin_db,
+        # The cross-spectrum takes the inputs' own noise out itself; its margin is the DUT's against that noise.
+        floor_corrected=spec.floor is not None or cross is not None,
+        floor_margin_db=cross.channel_margin_db if cross is not None else fl.margin_db,
         ein_vrms=ein_reported, ein_dbu=float(vrms_to_dbu(ein_reported)), ein_dbv=float(vrms_to_dbv(ein_reported)),
         ein_rms_dbu=float(vrms_to_dbu(bf.ein)),
         ein_with_spurs_dbu=float(vrms_to_dbu(bf.ein_spurs * ein_reported / bf.ein)),
@@ -476,5 +543,6 @@ def _assemble(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorStep, bf
         sample_rate_hz=prep.fs, segment_length=prep.seg, spectrum_window=spec.term.window,
         rbw_hz=spec.term.enbw_hz, n_averages=spec.term.n_averages, dof=spec.term.dof, volts_per_fs=prep.vpfs,
         files=files, spot=tuple(spots), notes=tuple(notes), warnings=tuple(warned),
+        output_estimator="cross-spectrum" if cross is not None else "auto-spectrum", cross=cross,
         spectra=_spectra_out(spec, lines, fl, bf, g, en_diff=en_diff, flicker=flicker, rs_ohm=rs_ohm,
                              temperature_k=temperature_k))

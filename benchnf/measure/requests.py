@@ -63,6 +63,9 @@ class GainMethodRequest:
     stated: Any = None
     reference_output_vrms: float | None = None
     band_above_mains: bool = False
+    cross: bool = False
+    cross_channels: tuple[int, int] | None = None
+    background: Path | None = None
 
 
 def _calibration(req: GainMethodRequest) -> tuple[Any, str]:
@@ -73,12 +76,13 @@ def _calibration(req: GainMethodRequest) -> tuple[Any, str]:
 
 
 def _opener(req: GainMethodRequest, cal: Any, cal_name: str, tolerance_pct: float):
-    def open_one(path: Path | None, condition: str | None) -> Any:
+    def open_one(path: Path | None, condition: str | None, channel: int | None = None) -> Any:
         if path is None:
             return None
         if input_kind(path) == "trace":  # instrument CSV is in volts already: no sound-card calibration applies
             return open_input(path, trace=req.trace)
-        return open_calibrated(Path(path), condition=condition, channel=req.channel, volts_per_fs=req.volts_per_fs,
+        return open_calibrated(Path(path), condition=condition, channel=req.channel if channel is None else channel,
+                               volts_per_fs=req.volts_per_fs,
                                calibration=cal, calibration_name=cal_name, tolerance_pct=tolerance_pct,
                                accept_dropouts=req.accept_dropouts)
     return open_one
@@ -92,6 +96,7 @@ def resolve_gain_method(req: GainMethodRequest) -> dict[str, Any]:
     from .together import captures_together
     if not req.terminated:
         raise ParameterError("give at least one terminated capture")
+    req = _cross_channel(req)
     distinct_files(list(req.terminated), "terminated repeats")
     stated = req.stated if req.stated is not None else StatedUncertainty()
     cal, cal_name = _calibration(req)
@@ -141,7 +146,36 @@ def resolve_gain_method(req: GainMethodRequest) -> dict[str, Any]:
                 detector=req.detector, segment_length=req.segment_length, mains_hz=req.mains_hz,
                 flicker_range_hz=req.flicker_range_hz, flicker_free_slope=req.flicker_free_slope, stated=stated,
                 reference_output_vrms=req.reference_output_vrms, band_above_mains=req.band_above_mains,
-                assumptions=tuple(assumptions))
+                assumptions=tuple(assumptions), cross=_cross_setup(req, open_one))
+
+
+def _cross_channel(req: GainMethodRequest) -> GainMethodRequest:
+    """With --cross the terminated (and tone) captures are read on the first of the two channels."""
+    if not req.cross:
+        if req.cross_channels is not None or req.background is not None:
+            raise ParameterError("--cross-channels and --background belong to the cross-spectrum estimate: add --cross")
+        return req
+    a, b = req.cross_channels if req.cross_channels is not None else (req.channel or 0, 1 if req.channel != 1 else 0)
+    if req.channel is not None and req.channel != a:
+        raise ParameterError(f"--channel {req.channel} and --cross-channels {a},{b} disagree: the terminated and tone "
+                             f"captures are read on the first cross channel; give one of them")
+    return replace(req, channel=a, cross_channels=(a, b))
+
+
+def _cross_setup(req: GainMethodRequest, open_one: Callable[..., Any]) -> Any:
+    """The second channel of the terminated recording and the background's two channels."""
+    if not req.cross:
+        return None
+    from .cross_estimate import CrossSetup
+    a, b = req.cross_channels  # type: ignore[misc]
+    if len(req.terminated) != 1:
+        raise ParameterError("--cross takes one terminated recording (both channels on the DUT output): record one "
+                             "longer capture rather than repeats")
+    if req.background is not None:
+        distinct_files([req.terminated[0], req.background], "terminated and background")
+    background = ((open_one(req.background, "floor", a), open_one(req.background, "floor", b))  # inputs terminated
+                  if req.background is not None else None)
+    return CrossSetup(other=open_one(req.terminated[0], "terminated", b), background=background)
 
 
 def run_gain_method(req: GainMethodRequest, *, progress: Any = None) -> Any:
@@ -165,7 +199,10 @@ def request_from_result(result: Any, *, locate: Callable[[str, str], Path]) -> G
 
     def one(role: str) -> Path | None:
         return locate(role, named[role][0]) if role in named else None
+    cross = getattr(result, "cross", None)
     return GainMethodRequest(
+        cross=cross is not None, cross_channels=tuple(cross.channels) if cross is not None else None,
+        background=one("background"),
         terminated=tuple(locate("terminated", n) for n in named["terminated"]), floor=one("floor"),
         shorted=one("shorted"), tone=one("tone"), response=one("response"), volts_per_fs=result.volts_per_fs,
         rs_ohm=result.rs_ohm, temperature_k=result.temperature_k, band_hz=tuple(result.band_hz),

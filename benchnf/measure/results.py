@@ -15,6 +15,7 @@ from numpy.typing import NDArray
 
 from ..codec import ResultFile, figure, memory_only
 from ..noise.uncertainty import Budget, Uncertainty
+from .cross_estimate import CrossSummary
 from .provenance import Provenance
 
 __all__ = ["SCHEMA_VERSION", "DETECTORS", "SCALAR_FIGURES", "FIGURE_UNITS", "RELATIVE_UNITS", "SpotValue", "SpurValue",
@@ -36,6 +37,7 @@ SCALAR_FIGURES = tuple(FIGURE_UNITS)
 #: Units whose limits are compared as levels in dB (20 lg of the ratio), as their uncertainties are stated.
 RELATIVE_UNITS = ("V/√Hz", "V")
 Detector = Literal["rms", "qp"]
+OutputEstimator = Literal["auto-spectrum", "cross-spectrum"]
 
 
 @dataclass(frozen=True)
@@ -105,6 +107,7 @@ class AnalysisSpectra:
     lines: tuple[Any, ...]
     flicker: Any
     floor_dof: float | None = None
+    output_variance_v4_per_hz2: NDArray[np.float64] | None = None  # each bin's, for a cross-spectrum estimate
 
 
 @dataclass(frozen=True)
@@ -117,11 +120,12 @@ class AnalysisFiles:
     shorted: str | None = None
     tone: str | None = None
     response: str | None = None
+    background: str | None = figure(default=None, omit_if_none=True)  # the cross-spectrum's correlated background
 
     def paths(self) -> dict[str, tuple[str, ...]]:
         """Each role's file names (several for repeated terminated captures)."""
         out = {}
-        for role in ("terminated", "floor", "shorted", "tone", "response"):
+        for role in ("terminated", "floor", "shorted", "tone", "response", "background"):
             value = getattr(self, role)
             if value:
                 out[role] = (value,) if isinstance(value, str) else tuple(value)
@@ -199,6 +203,10 @@ class AnalysisResult(ResultFile):
     spot: tuple[SpotValue, ...]
     notes: tuple[str, ...]
     warnings: tuple[str, ...] = ()  # one line each, also on stderr as "benchnf: warning: ..."
+    # How the DUT's output spectrum was estimated: one channel's Welch auto-spectrum (less the floor), or the
+    # averaged cross-spectrum of two channels on the one output (less the correlated background).
+    output_estimator: OutputEstimator = "auto-spectrum"
+    cross: CrossSummary | None = figure(default=None, omit_if_none=True)
     provenance: Provenance | None = figure(default=None, omit_if_none=True)
     spectra: AnalysisSpectra | None = memory_only()
 

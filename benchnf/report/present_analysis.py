@@ -41,6 +41,8 @@ def _conditions(r: AnalysisResult) -> tuple[tuple[str, str], ...]:
              "analyzer floor NOT subtracted (no floor capture): the figures include the analyzer's own noise")
     spectrum = (f"Welch, {r.spectrum_window} window, RBW {r.rbw_hz:.2f} Hz, {r.n_averages} averages "
                 f"({r.dof:.0f} degrees of freedom), sampled at {Quantity(r.sample_rate_hz, 'Hz').text()}")
+    if r.cross is not None:
+        floor, spectrum = _cross_conditions(r)
     out = [("source", f"{resistance_text(r.rs_ohm)} at {r.temperature_k:.2f} K ({r.temperature_k - 273.15:.1f} °C); "
                       f"noise figure referred to T0 = 290 K"),
            ("band", f"{band_text(r.band_hz)}, weighting {r.weighting}, detector {detector}"),
@@ -51,6 +53,27 @@ def _conditions(r: AnalysisResult) -> tuple[tuple[str, str], ...]:
     if r.mains_hz:
         out.append(("mains", f"{r.mains_hz:g} Hz"))
     return tuple(out)
+
+
+def _cross_conditions(r: AnalysisResult) -> tuple[str, str]:
+    """The floor and spectrum lines of a cross-spectrum estimate."""
+    c = r.cross
+    assert c is not None
+    margin = (f", the DUT {c.channel_margin_db:+.1f} dB against it in band" if c.channel_margin_db is not None
+              else "")
+    if c.background_upper_vrms is None:
+        background = "the analyzer's correlated background not measured (record it with --background)"
+    elif c.background_vrms is None:
+        background = (f"its correlated background subtracted (not resolved, below "
+                      f"{Quantity(c.background_upper_vrms, 'V').text()} at the output)")
+    else:
+        background = f"its correlated background subtracted ({Quantity(c.background_vrms, 'V').text()} at the output)"
+    floor = (f"cross-spectrum of channels {c.channels[0]} and {c.channels[1]}: the inputs' own noise averaged "
+             f"away{margin}; {background}")
+    spectrum = (f"Welch cross-spectrum, {r.spectrum_window} window, RBW {r.rbw_hz:.2f} Hz, {c.averages} averages; "
+                f"one bin resolves {Quantity(c.resolution_floor_v_per_rthz, 'V/√Hz').text()} at the output, "
+                f"sampled at {Quantity(r.sample_rate_hz, 'Hz').text()}")
+    return floor, spectrum
 
 
 def _headline(r: AnalysisResult) -> tuple[Headline, ...]:

@@ -3,7 +3,8 @@
 Columns carry their unit in the name. ``*_u95_db`` columns are the expanded (k = 2) uncertainty of each
 bin from its Welch statistics alone: a bin's power has relative standard deviation sqrt(2/nu) for nu
 degrees of freedom (Welch 1967; Bendat and Piersol, Random Data, 4th ed., 2010, ch. 8), the floor's
-is subtracted in linear power and its scatter added in quadrature. The bench parts (calibration, gain,
+is subtracted in linear power and its scatter added in quadrature; a cross-spectrum estimate's bins carry
+their own variance (docs/cross.md). The bench parts (calibration, gain,
 Rs, temperature) are not per bin: they are in the JSON's uncertainty budgets.
 """
 
@@ -39,6 +40,10 @@ def _spectra(r: AnalysisResult) -> Any:
 def _bin_rel_std(r: AnalysisResult) -> NDArray[np.float64]:
     """Relative standard deviation of each bin's floor-corrected power (inf where not above the floor)."""
     s = _spectra(r)
+    if s.output_variance_v4_per_hz2 is not None:  # a cross-spectrum estimate: each bin's own variance
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return np.where(s.output_v2_per_hz > 0, np.sqrt(s.output_variance_v4_per_hz2) / s.output_v2_per_hz,
+                            np.inf)
     m = s.output_v2_per_hz * math.sqrt(2.0 / r.dof)
     if s.floor_v2_per_hz is None or s.floor_dof is None:
         return np.full(m.shape, math.sqrt(2.0 / r.dof))

@@ -1,0 +1,140 @@
+"""The cross-spectrum estimate of a DUT's output noise: two analyzer inputs on one output.
+
+Each input adds its own noise; the averaged co-spectrum of the two channels keeps only what both see (the
+DUT, and the analyzer's correlated background, which a recording with both inputs terminated measures and
+which is subtracted). Its statistics are :mod:`benchnf.dsp.cross`'s; this module opens the estimate for the
+gain-method pipeline and summarises it (averages, the density it resolves, the margin under the channels'
+own noise, the time more recording needs for a wanted uncertainty). Equations: docs/cross.md.
+
+References
+----------
+.. [1] E. Rubiola and F. Vernotte, "The cross-spectrum experimental method", arXiv:1003.0113 (2010).
+.. [2] J. S. Bendat and A. G. Piersol, Random Data, 4th ed., Wiley 2010, §9.2 (variance of the co-spectrum).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Any, ClassVar
+
+import numpy as np
+from numpy.typing import NDArray
+
+from ..capture import Capture
+from ..dsp.cross import CrossSpectra
+from ..dsp.spectrum import Psd
+from ..errors import MeasurementError
+from ..noise.floor import correlated_sum_variance
+
+__all__ = ["CrossSetup", "CrossSummary", "cross_spectra", "summarise_cross", "check_cross_resolved",
+           "advice", "WANTED_U95_DB"]
+
+#: The uncertainty (k=2, of the band's output noise as an amplitude, Welch part) the advice aims at.
+WANTED_U95_DB = 0.5
+
+
+@dataclass(frozen=True)
+class CrossSetup:
+    """The terminated recording's second channel on the DUT output, and optionally the background recording
+    (both inputs terminated), as its two channels."""
+
+    other: Capture
+    background: tuple[Capture, Capture] | None = None
+
+
+@dataclass(frozen=True)
+class CrossSummary:
+    """How the cross-spectrum estimate was made and what it resolves (output-referred)."""
+
+    RANGES: ClassVar[dict[str, dict[str, Any]]] = {
+        "averages": dict(minimum=1), "resolution_floor_v_per_rthz": dict(minimum=0),
+        "background_vrms": dict(minimum=0), "background_upper_vrms": dict(minimum=0),
+        "seconds_more_for_wanted_u": dict(minimum=0), "wanted_u95_db": dict(exclusiveMinimum=0)}
+
+    channels: tuple[int, int]
+    averages: int
+    resolution_floor_v_per_rthz: float  # band median of 2 sqrt(Sxx Syy / nu), as a density
+    channel_margin_db: float | None  # the DUT's band power over the channels' own (geometric mean); < 0: below
+    background_vrms: float | None  # the correlated background in the band (subtracted); None: not resolved
+    background_upper_vrms: float | None  # its upper bound (k=2); None without a background recording
+    seconds_more_for_wanted_u: float  # more recording for WANTED_U95_DB (0: reached)
+    wanted_u95_db: float = WANTED_U95_DB
+
+
+def cross_spectra(x: Capture, y: Capture, *, segment_length: int, progress: Any = None) -> CrossSpectra:
+    """The calibrated auto- and cross-spectra of two channels of one recording, refusing clipped or silent
+    channels (as a single-channel noise capture is)."""
+    from ..streaming import stream_cross
+    vx = x.volts_per_fs_or_raise("the cross-spectrum")
+    vy = y.volts_per_fs_or_raise("the cross-spectrum")
+    acc, sx, sy = stream_cross(x, y, segment_length=segment_length, progress=progress)
+    sx.check_noise()
+    sy.check_noise()
+    return acc.result(scale_x=vx, scale_y=vy)
+
+
+def _band_std(w: NDArray[np.float64], variance: NDArray[np.float64], kernel: tuple[float, ...]) -> float:
+    return math.sqrt(correlated_sum_variance(w * np.sqrt(variance), kernel))
+
+
+def check_cross_resolved(dut: Psd, w: NDArray[np.float64], clean: NDArray[np.float64],
+                         variance: NDArray[np.float64], *, what: str) -> None:
+    """Refuse a band whose cross-spectrum estimate lies within three standard deviations of zero (the DUT
+    is not resolved under the channels' own noise after these averages), saying how much longer to record.
+
+    Raises
+    ------
+    MeasurementError
+    """
+    power, std = float(np.dot(w, clean)), _band_std(w, variance, dut.correlation_kernel)
+    if power > 3.0 * std:
+        return
+    hop_s = dut.hop / dut.sample_rate_hz
+    need = dut.n_averages * (3.0 * std / power) ** 2 if power > 0 else math.inf
+    more = (f"record about {_duration((need - dut.n_averages) * hop_s)} more" if math.isfinite(need) else
+            "the estimate is at or below zero: check that both inputs see the DUT output, and record longer")
+    raise MeasurementError(f"{what}: the DUT is not resolved in the cross-spectrum after {dut.n_averages} averages "
+                           f"(band output {power:.3g} ± {3 * std:.2g} V² at 3 sigma); {more}")
+
+
+def summarise_cross(spectra: CrossSpectra, background: CrossSpectra | None, dut: Psd, w: NDArray[np.float64],
+                    clean: NDArray[np.float64], variance: NDArray[np.float64],
+                    channels: tuple[int, int]) -> CrossSummary:
+    """Averages, resolution floor, channel margin, background level and the recording still needed."""
+    used = w > 0
+    kernel = dut.correlation_kernel
+    power = float(np.dot(w, clean))
+    rel = _band_std(w, variance, kernel) / power
+    wanted_rel = WANTED_U95_DB / (20.0 / math.log(10.0))  # U(k=2) of an amplitude = 2 * 8.686 * rel / 2 dB
+    more = max(dut.n_averages * ((rel / wanted_rel) ** 2 - 1.0), 0.0) * dut.hop / dut.sample_rate_hz
+    nx = float(np.dot(w, spectra.s_xx)) - power
+    ny = float(np.dot(w, spectra.s_yy)) - power
+    margin = 10 * math.log10(power / math.sqrt(nx * ny)) if nx > 0 and ny > 0 else None
+    bg = bg_upper = None
+    if background is not None:
+        bg_power = float(np.dot(w, background.co))
+        bg_std = _band_std(w, background.co_variance, kernel)
+        bg = math.sqrt(bg_power) if bg_power > 2.0 * bg_std else None
+        bg_upper = math.sqrt(max(bg_power, 0.0) + 2.0 * bg_std)
+    return CrossSummary(channels=channels, averages=spectra.n_averages,
+                        resolution_floor_v_per_rthz=float(np.sqrt(np.median(spectra.resolution_floor[used]))),
+                        channel_margin_db=margin, background_vrms=bg, background_upper_vrms=bg_upper,
+                        seconds_more_for_wanted_u=float(more))
+
+
+def _duration(seconds: float) -> str:
+    if seconds < 90:
+        return f"{max(seconds, 1.0):.0f} s"
+    if seconds < 5400:
+        return f"{seconds / 60:.0f} min"
+    return f"{seconds / 3600:.1f} h"
+
+
+def advice(summary: CrossSummary) -> str:
+    """One line: the recording more that would bring the band figures to the wanted uncertainty."""
+    if summary.seconds_more_for_wanted_u <= 0:
+        return (f"cross-spectrum: {summary.averages} averages already give ±{summary.wanted_u95_db:g} dB or better "
+                f"(k=2, statistics of the estimate)")
+    return (f"cross-spectrum: record {_duration(summary.seconds_more_for_wanted_u)} more for "
+            f"±{summary.wanted_u95_db:g} dB (k=2, statistics of the estimate) on the band output noise")

@@ -1,0 +1,114 @@
+"""`benchnf analyze --cross`: a DUT under the analyzer inputs' own noise measured through the averaged
+cross-spectrum of two channels (INVENTED DATA: seeded noise of known truth written as two-channel WAVs).
+
+Truth: the DUT is a 40 dB amplifier with 1 nV/√Hz of white input voltage noise on a 200 Ω source at 290 K, so
+its input noise is sqrt(4kTR + en²) and its noise figure 10 lg(1 + en²/(4kT0R)) (Friis's definition; IEEE
+Std 161 terms, common practice). Each channel adds its own white noise at the stated margin; the analyzer's
+correlated background (the same noise in both channels) is known too.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+
+import numpy as np
+import pytest
+
+from benchnf.cli import main
+from benchnf.units import BOLTZMANN_J_PER_K, T0_K
+
+sf = pytest.importorskip("soundfile")
+
+FS = 48_000
+RS, GAIN_DB, EN = 200.0, 40.0, 1e-9
+VPFS = 1e-2  # volts per full scale: the loudest noise here sits near -30 dBFS
+E_IN = math.sqrt(4 * BOLTZMANN_J_PER_K * T0_K * RS + EN ** 2)
+NF_TRUE = 10 * math.log10(1 + EN ** 2 / (4 * BOLTZMANN_J_PER_K * T0_K * RS))
+OUT = E_IN * 10 ** (GAIN_DB / 20)  # V/√Hz at the DUT output
+
+
+def _white(rng, n, density):
+    return rng.standard_normal(n) * density * math.sqrt(FS / 2)
+
+
+def _pair(path, rng, *, seconds, dut, own_db, shared=0.0):
+    """Two channels: the common noise (DUT, density `dut`), the analyzer's shared noise, and each input's own
+    at `own_db` above the DUT output (the second 2 dB louder)."""
+    n = int(FS * seconds)
+    common = _white(rng, n, dut) + _white(rng, n, shared)
+    own = OUT * 10 ** (own_db / 20)
+    x = common + _white(rng, n, own)
+    y = common + _white(rng, n, own * 1.26)
+    sf.write(path, np.stack([x, y], axis=1) / VPFS, FS, subtype="FLOAT")
+    return path
+
+
+def _analyze(tmp_path, *extra):
+    out = tmp_path / f"r{len(list(tmp_path.glob('r*.json')))}.json"
+    rc = main(["analyze", "--gain-db", str(GAIN_DB), "--rs", str(RS), "--temperature-k", "290",
+               "--volts-per-fs", str(VPFS), "--json", str(out), "--quiet", *map(str, extra)])
+    return rc, (json.loads(out.read_text()) if rc == 0 else None)
+
+
+def test_a_dut_ten_db_under_each_input_is_measured_within_its_u(tmp_path):
+    rng = np.random.default_rng(5)
+    term = _pair(tmp_path / "t.wav", rng, seconds=40, dut=OUT, own_db=10.0)
+    rc, r = _analyze(tmp_path, "--terminated", term, "--cross")
+    assert rc == 0
+    u = r["uncertainty"]["noise_figure_db"]
+    assert abs(r["noise_figure_db"] - NF_TRUE) <= u, (r["noise_figure_db"], NF_TRUE, u)
+    assert r["output_estimator"] == "cross-spectrum"
+    cross = r["cross"]
+    assert cross["averages"] == pytest.approx(2 * 40 * FS / 16384, rel=0.01)
+    assert cross["channels"] == [0, 1]
+    assert cross["channel_margin_db"] == pytest.approx(-11.0, abs=0.5)  # -10 and -12 dB: geometric mean
+    # One bin resolves 2 sqrt(Sxx Syy / nu) (nu = 2k / (1 + 2 (1/6)^2) for k Hann segments at 50 % overlap,
+    # Welch 1967): here above the DUT's density, which the band's many bins resolve together.
+    k = cross["averages"]
+    nu = 2 * k / (1 + 2 * (1 / 6) ** 2 * (1 - 1 / k))
+    sxx_syy = OUT ** 4 * (1 + 10) * (1 + 10 * 1.26 ** 2)
+    assert cross["resolution_floor_v_per_rthz"] == pytest.approx(math.sqrt(2 * math.sqrt(sxx_syy / nu)), rel=0.03)
+    assert any("cross-spectrum:" in n for n in r["notes"])
+    # One channel alone, as every analysis before, reads the input's noise as the DUT's: 10 dB high and more.
+    rc, alone = _analyze(tmp_path, "--terminated", term)
+    assert rc == 0 and alone["output_estimator"] == "auto-spectrum" and "cross" not in alone
+    assert alone["noise_figure_db"] > r["noise_figure_db"] + 8.0
+
+
+def test_the_correlated_background_is_subtracted(tmp_path):
+    rng = np.random.default_rng(6)
+    shared = OUT * 0.7  # the analyzer's correlated noise: half the DUT's power
+    term = _pair(tmp_path / "t.wav", rng, seconds=40, dut=OUT, own_db=6.0, shared=shared)
+    bg = _pair(tmp_path / "bg.wav", rng, seconds=40, dut=0.0, own_db=6.0, shared=shared)
+    rc, r = _analyze(tmp_path, "--terminated", term, "--cross", "--background", bg)
+    assert rc == 0
+    u = r["uncertainty"]["noise_figure_db"]
+    assert abs(r["noise_figure_db"] - NF_TRUE) <= u, (r["noise_figure_db"], NF_TRUE, u)
+    band_w = 20_000 - 20
+    assert r["cross"]["background_vrms"] == pytest.approx(shared * math.sqrt(band_w), rel=0.1)
+    assert r["files"]["background"].endswith("bg.wav")
+    rc, kept = _analyze(tmp_path, "--terminated", term, "--cross")
+    assert rc == 0 and kept["noise_figure_db"] > r["noise_figure_db"] + 1.0  # the background read as DUT
+
+
+def test_refusals_are_one_line_and_exit_2(tmp_path, capsys):
+    rng = np.random.default_rng(7)
+    term = _pair(tmp_path / "t.wav", rng, seconds=1, dut=OUT, own_db=20.0)
+    mono = tmp_path / "mono.wav"
+    sf.write(mono, _white(rng, FS * 3, OUT) / VPFS, FS, subtype="FLOAT")
+    cases = [
+        (["--terminated", term, "--background", term], "add --cross"),
+        (["--terminated", term, "--cross", "--floor", mono], "needs no --floor"),
+        (["--terminated", mono, "--cross"], "channel 1"),
+        (["--terminated", term, "--cross", "--cross-channels", "1,1"], "one channel twice"),
+        (["--terminated", term, "--cross"], "record about"),  # 20 dB under each input, 1 s: not resolved
+        (["--terminated", term, "--cross", "--background", term], "same file"),
+    ]
+    for args, words in cases:
+        capsys.readouterr()
+        rc, _ = _analyze(tmp_path, *args)
+        err = capsys.readouterr().err.strip()
+        assert rc == 2, (args, err)
+        assert words in err, (words, err)
+        assert len(err.splitlines()) == 1, err
