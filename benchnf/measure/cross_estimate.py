@@ -15,6 +15,7 @@ References
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any, ClassVar
 
@@ -24,11 +25,11 @@ from numpy.typing import NDArray
 from ..capture import Capture
 from ..dsp.cross import CrossSpectra
 from ..dsp.spectrum import Psd
-from ..errors import MeasurementError
+from ..errors import CaptureError, MeasurementError, ParameterError
 from ..noise.floor import correlated_sum_variance
 
-__all__ = ["CrossSetup", "CrossSummary", "cross_spectra", "summarise_cross", "check_cross_resolved",
-           "advice", "WANTED_U95_DB"]
+__all__ = ["CrossSetup", "CrossSummary", "CrossOutput", "check_cross_inputs", "cross_output", "cross_spectra",
+           "summarise_cross", "check_cross_resolved", "advice", "WANTED_U95_DB"]
 
 #: The uncertainty (k=2, of the band's output noise as an amplitude, Welch part) the advice aims at.
 WANTED_U95_DB = 0.5
@@ -60,6 +61,48 @@ class CrossSummary:
     background_upper_vrms: float | None  # its upper bound (k=2); None without a background recording
     seconds_more_for_wanted_u: float  # more recording for WANTED_U95_DB (0: reached)
     wanted_u95_db: float = WANTED_U95_DB
+
+
+@dataclass(frozen=True)
+class CrossOutput:
+    """The DUT's output spectrum estimated from the two channels, with what it was made of."""
+
+    dut: Psd
+    spectra: CrossSpectra
+    background: CrossSpectra | None
+    channels: tuple[int, int]
+    background_path: str | None
+
+
+def check_cross_inputs(runs: Sequence[Any], *, floor: Any, shorted: Any) -> None:
+    """One terminated recording, no floor and no shorted capture (single-channel estimates)."""
+    if len(runs) != 1 or not isinstance(runs[0], Capture):
+        raise ParameterError("the cross-spectrum estimate takes one terminated recording of two channels: record "
+                             "one longer capture rather than repeats, and not a spectrum trace")
+    if floor is not None:
+        raise ParameterError("--cross needs no --floor: the two inputs' own noise averages away; give the "
+                             "analyzer's correlated background (both inputs terminated) with --background")
+    if shorted is not None:
+        raise ParameterError("--shorted is not analysed by the cross-spectrum yet: analyse the shorted capture "
+                             "in a run without --cross")
+
+
+def cross_output(run: Capture, cross: CrossSetup, *, vpfs: float | None, segment_length: int,
+                 progress: Any = None) -> CrossOutput:
+    """The terminated recording's two channels and the background's, as one estimate of the DUT's output."""
+    from .noise_inputs import with_vpfs
+    other = with_vpfs(cross.other, vpfs, "second terminated channel", run.label)
+    spectra = cross_spectra(run, other, segment_length=segment_length, progress=progress)  # type: ignore[arg-type]
+    background = None
+    if cross.background is not None:
+        bx, by = cross.background
+        if bx.sample_rate_hz != run.sample_rate_hz:
+            raise CaptureError(f"the background {bx.label} was recorded at {bx.sample_rate_hz:g} Hz but "
+                               f"{run.label} at {run.sample_rate_hz:g} Hz: record both at one rate")
+        background = cross_spectra(bx, by, segment_length=segment_length, progress=progress)
+    path = cross.background[0].path if cross.background is not None else None
+    return CrossOutput(spectra.dut_psd(background), spectra, background,
+                       (run.channel, other.channel), str(path) if path is not None else None)  # type: ignore[union-attr]
 
 
 def cross_spectra(x: Capture, y: Capture, *, segment_length: int, progress: Any = None) -> CrossSpectra:
@@ -98,10 +141,10 @@ def check_cross_resolved(dut: Psd, w: NDArray[np.float64], clean: NDArray[np.flo
                            f"(band output {power:.3g} ± {3 * std:.2g} V² at 3 sigma); {more}")
 
 
-def summarise_cross(spectra: CrossSpectra, background: CrossSpectra | None, dut: Psd, w: NDArray[np.float64],
-                    clean: NDArray[np.float64], variance: NDArray[np.float64],
-                    channels: tuple[int, int]) -> CrossSummary:
+def summarise_cross(out: CrossOutput, w: NDArray[np.float64], clean: NDArray[np.float64],
+                    variance: NDArray[np.float64]) -> CrossSummary:
     """Averages, resolution floor, channel margin, background level and the recording still needed."""
+    spectra, background, dut, channels = out.spectra, out.background, out.dut, out.channels
     used = w > 0
     kernel = dut.correlation_kernel
     power = float(np.dot(w, clean))

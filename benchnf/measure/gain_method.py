@@ -19,17 +19,15 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 from numpy.typing import NDArray
 
 from ..capture import Capture
-from ..dsp.cross import CrossSpectra
 from ..dsp.integrate import band_bin_weights
 from ..dsp.spectrum import Psd, default_segment_length, pool_psds
-from ..dsp.spurs import LineSearch, find_lines, hum_hints
+from ..dsp.spurs import find_lines, hum_hints
 from ..dsp.weighting import ABOVE_HUM_HARMONIC, Band, above_hum_band, weighting_power_gain
 from ..errors import CaptureError, MeasurementError, ParameterError, warnings_into
 from ..noise.floor import band_relative_std, check_band_margin, subtract_floor
@@ -50,81 +48,22 @@ from ..noise.uncertainty import (
 )
 from ..units import BOLTZMANN_J_PER_K, T0_K, power_db, thermal_density_v2_per_hz, vrms_to_dbu, vrms_to_dbv
 from .assumptions import NO_FLOOR
-from .cross_estimate import CrossSetup, advice, check_cross_resolved, cross_spectra, summarise_cross
+from .cross_estimate import (
+    CrossSetup,
+    advice,
+    check_cross_inputs,
+    check_cross_resolved,
+    cross_output,
+    summarise_cross,
+)
 from .gain import GainEstimate, GainSetup, measure_gain
+from .gain_steps import BandFigures, FloorStep, Lines, Prepared, Spectra
 from .noise_inputs import NoiseInput, Progress, capture_psd, check_rates, label_of, path_of, with_vpfs
 from .gain_details import flicker_fit, qp_ein, repeat_values, resolved, spot_density_budget, spot_nf_budget, spot_values
 from .physics import check_not_swapped, check_physics, single_tone_warning
 from .results import DETECTORS, AnalysisFiles, AnalysisResult, AnalysisSpectra, RepeatSummary, SpotValue, SpurValue
 
 __all__ = ["analyze_gain_method"]
-
-# -- intermediates ------------------------------------------------------------------------------
-@dataclass(frozen=True)
-class _Prepared:
-    runs: list[NoiseInput]
-    floor: NoiseInput | None
-    shorted: NoiseInput | None
-    fs: float
-    seg: int
-    vpfs: float | None
-
-
-@dataclass(frozen=True)
-class _Spectra:
-    runs: list[Psd]
-    term: Psd
-    floor: Psd | None
-    short: Psd | None
-    cross: CrossSpectra | None = None  # the terminated recording's two channels (term is their estimate)
-    background: CrossSpectra | None = None
-    cross_channels: tuple[int, int] = (0, 1)
-    background_path: str | None = None
-
-    @property
-    def f(self) -> NDArray[np.float64]:
-        return self.term.frequency_hz
-
-
-@dataclass(frozen=True)
-class _Lines:
-    term: LineSearch
-    floor: LineSearch | None
-    short: LineSearch | None
-
-    @property
-    def term_var(self) -> NDArray[np.float64] | None:
-        """The cleaned terminated estimate's bin variances, for a cross-spectrum (else chi-square)."""
-        return self.term.cleaned_variance
-
-
-@dataclass(frozen=True)
-class _FloorStep:
-    w_band: NDArray[np.float64]
-    used: NDArray[np.bool_]
-    kernel: tuple[float, ...]
-    m_band: float
-    m_rel: float
-    f_band: float | None
-    f_rel: float | None
-    margin_db: float | None
-    out_diff: NDArray[np.float64]
-    out_diff_spurs: NDArray[np.float64]
-
-
-@dataclass(frozen=True)
-class _BandFigures:
-    e2_diff: NDArray[np.float64]
-    ein_power: float
-    ein: float
-    ein_spurs: float
-    noise_factor: float
-    b_w: float
-    thermal: float
-    out_noise: float
-    out_spurs: float
-    out_raw: float
-
 
 # -- the pipeline ---------------------------------------------------------------------------------
 def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: GainSetup, rs_ohm: float,
@@ -257,13 +196,13 @@ def _validate(*, rs_ohm: float, temperature_k: float, weighting: str, detector: 
 
 def _prepare(*, terminated: NoiseInput | Sequence[NoiseInput], floor: NoiseInput | None,
              shorted: NoiseInput | None, gain: GainSetup, band: Band, segment_length: int | None,
-             cross: CrossSetup | None = None) -> _Prepared:
+             cross: CrossSetup | None = None) -> Prepared:
     """One sample rate, one calibration, a trace that covers the band, the segment length."""
     runs: list[NoiseInput] = list(terminated) if isinstance(terminated, (list, tuple)) else [terminated]  # type: ignore[list-item]
     if not runs:
         raise ParameterError("give at least one terminated capture")
     if cross is not None:
-        _check_cross(runs, floor=floor, shorted=shorted)
+        check_cross_inputs(runs, floor=floor, shorted=shorted)
     first = runs[0]
     fs = first.sample_rate_hz
     if isinstance(first, Capture):
@@ -284,26 +223,16 @@ def _prepare(*, terminated: NoiseInput | Sequence[NoiseInput], floor: NoiseInput
         seg = default_segment_length(fs) if segment_length is None else int(segment_length)
         vpfs = first.volts_per_fs_or_raise("EIN and noise figure")
     label = label_of(first)
-    return _Prepared(runs=[with_vpfs(r, vpfs, "repeated terminated", label) for r in runs],  # type: ignore[misc]
+    return Prepared(runs=[with_vpfs(r, vpfs, "repeated terminated", label) for r in runs],  # type: ignore[misc]
                      floor=with_vpfs(floor, vpfs, "floor", label), shorted=with_vpfs(shorted, vpfs, "shorted", label),
                      fs=fs, seg=seg, vpfs=vpfs)
 
 
-def _check_cross(runs: list[NoiseInput], *, floor: NoiseInput | None, shorted: NoiseInput | None) -> None:
-    if len(runs) != 1 or not isinstance(runs[0], Capture):
-        raise ParameterError("the cross-spectrum estimate takes one terminated recording of two channels: record "
-                             "one longer capture rather than repeats, and not a spectrum trace")
-    if floor is not None:
-        raise ParameterError("--cross needs no --floor: the two inputs' own noise averages away; give the "
-                             "analyzer's correlated background (both inputs terminated) with --background")
-    if shorted is not None:
-        raise ParameterError("--shorted is not analysed by the cross-spectrum yet: analyse the shorted capture "
-                             "in a run without --cross")
-
-
-def _spectra(prep: _Prepared, *, progress: Progress | None, cross: CrossSetup | None = None) -> _Spectra:
+def _spectra(prep: Prepared, *, progress: Progress | None, cross: CrossSetup | None = None) -> Spectra:
     if cross is not None:
-        return _cross_spectra(prep, cross, progress=progress)
+        out = cross_output(prep.runs[0], cross, vpfs=prep.vpfs, segment_length=prep.seg,  # type: ignore[arg-type]
+                           progress=progress)
+        return Spectra(runs=[out.dut], term=out.dut, floor=None, short=None, cross=out)
     p_runs = [capture_psd(r, segment_length=prep.seg, progress=progress) for r in prep.runs]
     p_term = pool_psds(p_runs)
     p_floor = capture_psd(prep.floor, segment_length=prep.seg, progress=progress) if prep.floor is not None else None
@@ -313,36 +242,18 @@ def _spectra(prep: _Prepared, *, progress: Progress | None, cross: CrossSetup | 
         if p is not None and p.frequency_hz.shape != p_term.frequency_hz.shape:
             raise CaptureError(f"the {role} spectrum has other frequency bins than the terminated "
                                f"one: use one segment length (or one instrument setting) for all")
-    return _Spectra(runs=p_runs, term=p_term, floor=p_floor, short=p_short)
+    return Spectra(runs=p_runs, term=p_term, floor=p_floor, short=p_short)
 
 
-def _cross_spectra(prep: _Prepared, cross: CrossSetup, *, progress: Progress | None) -> _Spectra:
-    """The terminated recording's two channels and the background's, as one estimate of the DUT's output."""
-    run = prep.runs[0]
-    other = with_vpfs(cross.other, prep.vpfs, "second terminated channel", label_of(run))
-    spectra = cross_spectra(run, other, segment_length=prep.seg, progress=progress)  # type: ignore[arg-type]
-    background = None
-    if cross.background is not None:
-        bx, by = cross.background
-        if bx.sample_rate_hz != prep.fs:
-            raise CaptureError(f"the background {bx.label} was recorded at {bx.sample_rate_hz:g} Hz but "
-                               f"{label_of(run)} at {prep.fs:g} Hz: record both at one rate")
-        background = cross_spectra(bx, by, segment_length=prep.seg, progress=progress)
-    dut = spectra.dut_psd(background)
-    return _Spectra(runs=[dut], term=dut, floor=None, short=None, cross=spectra, background=background,
-                    cross_channels=(run.channel, other.channel),  # type: ignore[union-attr]
-                    background_path=path_of(cross.background[0]) if cross.background is not None else None)
-
-
-def _lines(spec: _Spectra, *, mains_hz: float | None) -> _Lines:
+def _lines(spec: Spectra, *, mains_hz: float | None) -> Lines:
     """Lines, found on each spectrum, are replaced by their baseline for the broadband figures."""
     s_term = find_lines(spec.term, mains_hz=mains_hz)
-    return _Lines(term=s_term,
+    return Lines(term=s_term,
                   floor=find_lines(spec.floor, mains_hz=s_term.mains_hz) if spec.floor is not None else None,
                   short=find_lines(spec.short, mains_hz=s_term.mains_hz) if spec.short is not None else None)
 
 
-def _floor(spec: _Spectra, lines: _Lines, *, band: Band, weighting: str, what: str, notes: list[str]) -> _FloorStep:
+def _floor(spec: Spectra, lines: Lines, *, band: Band, weighting: str, what: str, notes: list[str]) -> FloorStep:
     """Band weights, the margin over the analyzer floor (refused when not resolved), floor subtraction."""
     f, p_term, p_floor = spec.f, spec.term, spec.floor
     w_band = band_bin_weights(f, band, weighting=weighting)
@@ -358,19 +269,19 @@ def _floor(spec: _Spectra, lines: _Lines, *, band: Band, weighting: str, what: s
     if p_floor is None:
         if spec.cross is None:
             notes.append(NO_FLOOR)
-        return _FloorStep(w_band, used, kernel, m_band, m_rel, None, None, None, term_clean, p_term.psd_per_hz)
+        return FloorStep(w_band, used, kernel, m_band, m_rel, None, None, None, term_clean, p_term.psd_per_hz)
     floor_clean = lines.floor.cleaned  # type: ignore[union-attr]
     f_band = float(np.dot(w_band[used], floor_clean[used]))
     f_rel = band_relative_std(w_band, floor_clean, dof=p_floor.dof, correlation=kernel)
     margin_db = check_band_margin(measured_v2=m_band, floor_v2=f_band, measured_rel_std=m_rel,
                                   floor_rel_std=f_rel, what=what)
-    return _FloorStep(w_band, used, kernel, m_band, m_rel, f_band, f_rel, margin_db,
+    return FloorStep(w_band, used, kernel, m_band, m_rel, f_band, f_rel, margin_db,
                       subtract_floor(term_clean, floor_clean).difference,
                       subtract_floor(p_term.psd_per_hz, p_floor.psd_per_hz).difference)
 
 
-def _band_figures(spec: _Spectra, fl: _FloorStep, g: GainEstimate, *, band: Band, weighting: str, rs_ohm: float,
-                  temperature_k: float) -> _BandFigures:
+def _band_figures(spec: Spectra, fl: FloorStep, g: GainEstimate, *, band: Band, weighting: str, rs_ohm: float,
+                  temperature_k: float) -> BandFigures:
     """Input-referred density (1) and the band figures (3), (4) of docs/method.md."""
     w, used = fl.w_band, fl.used
     e2_diff = fl.out_diff / g.power_gain
@@ -382,7 +293,7 @@ def _band_figures(spec: _Spectra, fl: _FloorStep, g: GainEstimate, *, band: Band
                                      temperature_k=temperature_k)
     b_w = float(w.sum())
     thermal = math.sqrt(float(thermal_density_v2_per_hz(resistance_ohm=rs_ohm, temperature_k=temperature_k)) * b_w)
-    return _BandFigures(
+    return BandFigures(
         e2_diff=e2_diff, ein_power=ein_power, ein=math.sqrt(ein_power), ein_spurs=ein_spurs,
         noise_factor=noise_factor, b_w=b_w, thermal=thermal,
         out_noise=math.sqrt(max(float(np.dot(w[used], fl.out_diff[used])), 0.0)),
@@ -390,7 +301,7 @@ def _band_figures(spec: _Spectra, fl: _FloorStep, g: GainEstimate, *, band: Band
         out_raw=math.sqrt(float(np.dot(w[used], spec.term.psd_per_hz[used]))))
 
 
-def _voltage_noise(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorStep, g: GainEstimate, *,
+def _voltage_noise(prep: Prepared, spec: Spectra, lines: Lines, fl: FloorStep, g: GainEstimate, *,
                    gain: GainSetup, rs_ohm: float, notes: list[str]) -> NDArray[np.float64] | None:
     """Shorted input: the DUT's voltage noise alone, referred through the gain at its terminals."""
     if spec.short is None:
@@ -411,7 +322,7 @@ def _voltage_noise(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorSte
     return short_diff / (g.power_gain * terminals ** 2)
 
 
-def _budgets(spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g: GainEstimate, *,
+def _budgets(spec: Spectra, lines: Lines, fl: FloorStep, bf: BandFigures, g: GainEstimate, *,
              gain: GainSetup, stated: StatedUncertainty, spots: list[SpotValue], ein_reported: float,
              rs_ohm: float, temperature_k: float, calibrated: bool) -> dict[str, Budget]:
     """The GUM budgets of EIN, band NF, gain and the 1 kHz spots; an input noise below the source's refused."""
@@ -450,7 +361,7 @@ def _budgets(spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g:
     return budgets
 
 
-def _check_physics(bf: _BandFigures, spots: list[SpotValue], *, ein_u95_db: float, gain_u95_db: float,
+def _check_physics(bf: BandFigures, spots: list[SpotValue], *, ein_u95_db: float, gain_u95_db: float,
                    rs_ohm: float, temperature_k: float) -> None:
     """No input noise below the source's own, in band (within the EIN's U) or at a spot (within its Welch U
     and the gain's, combined in quadrature): see :mod:`.physics`."""
@@ -461,7 +372,7 @@ def _check_physics(bf: _BandFigures, spots: list[SpotValue], *, ein_u95_db: floa
                          for s in spots])
 
 
-def _repeat_summary(spec: _Spectra, lines: _Lines, fl: _FloorStep, g: GainEstimate, *, band: Band, weighting: str,
+def _repeat_summary(spec: Spectra, lines: Lines, fl: FloorStep, g: GainEstimate, *, band: Band, weighting: str,
                     rs_ohm: float, temperature_k: float, notes: list[str]) -> RepeatSummary | None:
     if len(spec.runs) < 2:
         return None
@@ -474,7 +385,7 @@ def _repeat_summary(spec: _Spectra, lines: _Lines, fl: _FloorStep, g: GainEstima
     return repeats
 
 
-def _spectra_out(spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g: GainEstimate, *,
+def _spectra_out(spec: Spectra, lines: Lines, fl: FloorStep, bf: BandFigures, g: GainEstimate, *,
                  en_diff: NDArray[np.float64] | None, flicker: Any, rs_ohm: float,
                  temperature_k: float) -> AnalysisSpectra:
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -491,7 +402,7 @@ def _spectra_out(spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures
         output_variance_v4_per_hz2=spec.term.bin_variance)
 
 
-def _assemble(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorStep, bf: _BandFigures, g: GainEstimate, *,
+def _assemble(prep: Prepared, spec: Spectra, lines: Lines, fl: FloorStep, bf: BandFigures, g: GainEstimate, *,
               gain: GainSetup, band: Band, weighting: str, detector: str, rs_ohm: float, temperature_k: float,
               ein_reported: float, en_diff: NDArray[np.float64] | None, spots: list[SpotValue],
               at_1k: SpotValue | None, flicker: Any, flicker_on: str | None, budgets: dict[str, Budget],
@@ -505,15 +416,14 @@ def _assemble(prep: _Prepared, spec: _Spectra, lines: _Lines, fl: _FloorStep, bf
     runs = prep.runs
     files = AnalysisFiles(tuple(path_of(r) or "" for r in runs) if len(runs) > 1 else (path_of(runs[0]) or ""),
                           path_of(prep.floor), path_of(prep.shorted), path_of(gain.tone), path_of(gain.response),
-                          background=spec.background_path)
+                          background=spec.cross.background_path if spec.cross is not None else None)
     w, used = fl.w_band, fl.used
     en_band = math.sqrt(max(float(np.dot(w[used], en_diff[used])), 0.0)) if en_diff is not None else None
     snr = (float(20 * math.log10(reference_output_vrms / bf.out_noise))
            if reference_output_vrms is not None and bf.out_noise > 0 else None)
     cross = None
     if spec.cross is not None:
-        cross = summarise_cross(spec.cross, spec.background, spec.term, fl.w_band, lines.term.cleaned,
-                                lines.term_var, spec.cross_channels)  # type: ignore[arg-type]
+        cross = summarise_cross(spec.cross, fl.w_band, lines.term.cleaned, lines.term_var)  # type: ignore[arg-type]
         notes = [*notes, advice(cross)]
     return AnalysisResult(
         gain_db=g.gain_db, gain_frequency_hz=g.frequency_hz, gain_std_db=g.gain_std_db, gain_reference=g.reference,
