@@ -25,13 +25,20 @@ def _lines_of(spurs: Sequence[Any], family: str) -> str:
     return ", ".join(f"{f:g}" for f in freqs) + " Hz" if freqs else "no lines found"
 
 
-def diagnose(verdicts: Sequence[Any], spurs: Sequence[Any]) -> tuple[str, ...]:
-    """The findings, most telling first, from the limit verdicts not passed and the unit's hum lines."""
+def diagnose(verdicts: Sequence[Any], spurs: Sequence[Any], attribution: Sequence[Any] | None = None,
+             attribution_all: Any = None) -> tuple[str, ...]:
+    """The findings, most telling first, from the limit verdicts not passed, the unit's hum lines and, where
+    reference channels were recorded, what they explain (measured, so it comes first)."""
     off = [v for v in verdicts if v.verdict != "PASS"]
     names = {v.name.split(" (worst")[0] for v in off}
     broadband = [n for n in names if n in BROADBAND]
     ripple = "hum ripple" in names
     findings = []
+    if off and attribution and attribution_all is not None:
+        from ..measure.attribution import describe
+        findings.append(describe(attribution_all, attribution) + ": look first at what those references "
+                        "carry. The verdicts judge the output with them removed; check the unit as recorded "
+                        "without --reference-channel")
     if ripple and broadband:
         findings.append(f"supply ripple ({_lines_of(spurs, 'ripple')}) together with raised broadband noise "
                         f"({', '.join(sorted(broadband))}): look at the supply's filter first; one failing "

@@ -191,7 +191,8 @@ def check_results(results: AnalysisResult, profile: Profile, *, unit: str = "uni
     r = results
     cond = CheckConditions(r.rs_ohm, r.temperature_k, r.band_hz, r.weighting, r.detector, r.floor_corrected,
                            r.sample_rate_hz)
-    return CheckResult(unit, profile.name, overall, cond, tuple(verdicts), rule, diagnose(verdicts, r.spurs))
+    findings = diagnose(verdicts, r.spurs, r.attribution, r.attribution_all)
+    return CheckResult(unit, profile.name, overall, cond, tuple(verdicts), rule, findings)
 
 
 def _in_unit_of(limit: float, measured: float | None, unit: str) -> str:

@@ -178,6 +178,16 @@ def channel_pair(text: str) -> tuple[int, int]:
     return a, b
 
 
+def reference_channel(text: str) -> tuple[int, str]:
+    """``N`` or ``N=NAME``: a channel carrying a reference, and the name the results give it."""
+    number, _, name = text.partition("=")
+    channel = channel_index(number.strip())
+    name = name.strip() or f"channel {channel}"
+    if not name.isprintable() or len(name) > 40:
+        raise argparse.ArgumentTypeError(f"{text!r}: a reference's name is up to 40 printable characters")
+    return channel, name
+
+
 def segment_samples(text: str) -> int:
     return _integer(text, "a whole number of samples", lambda v: v >= 64, ": a segment needs at least 64 samples")
 

@@ -11,6 +11,7 @@ from ._common import calibration_options
 from ._types import (
     channel_index,
     channel_pair,
+    reference_channel,
     finite_db,
     gain_db,
     mains_hz,
@@ -42,7 +43,7 @@ def _capture_options(p: argparse.ArgumentParser) -> None:
                    help="analyzer alone with its input terminated (subtracted in linear power)")
     a.add_argument("--shorted", type=Path, metavar="FILE",
                    help="DUT output with its input shorted (voltage noise alone)")
-    c = p.add_argument_group("below the analyzer's floor (docs/cross.md)")
+    c = p.add_argument_group("below the analyzer's floor, and where the noise comes from (docs/cross.md)")
     c.add_argument("--cross", action="store_true",
                    help="the terminated recording has the DUT output on two inputs: estimate its spectrum by "
                         "their averaged cross-spectrum, which the inputs' own noise does not reach")
@@ -51,6 +52,10 @@ def _capture_options(p: argparse.ArgumentParser) -> None:
     c.add_argument("--background", type=Path, metavar="FILE",
                    help="with --cross: both inputs terminated, the same two channels; its cross-spectrum (the "
                         "analyzer's correlated noise) is subtracted")
+    c.add_argument("--reference-channel", type=reference_channel, action="append", metavar="N[=NAME]",
+                   help="channel N of the terminated recording carries a suspected source (a supply-rail probe "
+                        "through a blocking capacitor, a mains loop): say how much of the output it explains, "
+                        "and measure the output without it; repeat for several")
 
 
 def _gain_options(p: argparse.ArgumentParser) -> None:
@@ -176,7 +181,8 @@ def request_from_args(args: argparse.Namespace) -> Any:
         reference_output_vrms=(float(dbu_to_vrms(args.reference_dbu)) if args.reference_dbu is not None
                                else args.reference_vrms),
         band_above_mains=args.band_preset == "above-hum", cross=args.cross,
-        cross_channels=tuple(args.cross_channels) if args.cross_channels else None, background=args.background)
+        cross_channels=tuple(args.cross_channels) if args.cross_channels else None, background=args.background,
+        references=tuple(args.reference_channel or ()))
 
 
 def write_extra(args: argparse.Namespace, writer: Writer, result: Any) -> None:

@@ -48,6 +48,7 @@ from ..noise.uncertainty import (
 )
 from ..units import BOLTZMANN_J_PER_K, T0_K, power_db, thermal_density_v2_per_hz, vrms_to_dbu, vrms_to_dbv
 from .assumptions import NO_FLOOR
+from .attribution import Reference, attributed_output, describe
 from .cross_estimate import (
     CrossSetup,
     advice,
@@ -74,7 +75,7 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
                         flicker_free_slope: bool = False, stated: StatedUncertainty = StatedUncertainty(),
                         reference_output_vrms: float | None = None, band_above_mains: bool = False,
                         assumptions: Sequence[str] = (), progress: Progress | None = None,
-                        cross: CrossSetup | None = None) -> AnalysisResult:
+                        cross: CrossSetup | None = None, references: Sequence[Reference] = ()) -> AnalysisResult:
     """Gain, input-referred noise density, EIN and noise figure from captures.
 
     Parameters
@@ -122,6 +123,9 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
         Estimate the DUT's output spectrum by the averaged cross-spectrum of `terminated` (one capture)
         and a second channel of the same recording on the same output, less the correlated background's
         when given (:mod:`.cross_estimate`); no floor capture then.
+    references : sequence of Reference
+        Channels of the terminated recording that carry suspected sources (a supply rail, a mains loop): the
+        output is conditioned on them, and what each explains is stated (:mod:`.attribution`).
 
     Returns
     -------
@@ -139,15 +143,14 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
     """
     _validate(rs_ohm=rs_ohm, temperature_k=temperature_k, weighting=weighting, detector=detector,
               reference_output_vrms=reference_output_vrms)
-    if cross is not None and detector == "qp":
-        raise ParameterError("the quasi-peak meter reads one channel's waveform: it cannot take the cross-spectrum "
-                             "estimate; use --detector rms with --cross")
+    _check_special(cross=cross, references=references, detector=detector, terminated=terminated)
     prep = _prepare(terminated=terminated, floor=floor, shorted=shorted, gain=gain, band=band,
                     segment_length=segment_length, cross=cross)
     notes: list[str] = list(assumptions)
     warned: list[str] = []
     with warnings_into(warned):
-        spec = _spectra(prep, progress=progress, cross=cross)
+        spec = _spectra(prep, progress=progress, cross=cross, references=references, band=band, weighting=weighting,
+                        mains_hz=mains_hz)
         lines = _lines(spec, mains_hz=mains_hz)
         if band_above_mains:
             band = above_hum_band(lines.term.mains_hz)
@@ -228,7 +231,29 @@ def _prepare(*, terminated: NoiseInput | Sequence[NoiseInput], floor: NoiseInput
                      fs=fs, seg=seg, vpfs=vpfs)
 
 
-def _spectra(prep: Prepared, *, progress: Progress | None, cross: CrossSetup | None = None) -> Spectra:
+def _check_special(*, cross: CrossSetup | None, references: Sequence[Reference], detector: str,
+                   terminated: Any) -> None:
+    """The cross-spectrum and the references each estimate the output from one multi-channel recording."""
+    if (cross is not None or references) and detector == "qp":
+        raise ParameterError("the quasi-peak meter reads one channel's waveform: it cannot take the cross-spectrum "
+                             "or the reference-conditioned estimate; use --detector rms")
+    if references and cross is not None:
+        raise ParameterError("--reference-channel does not yet condition the cross-spectrum estimate: run the "
+                             "attribution without --cross")
+    if references and (isinstance(terminated, (list, tuple)) and len(terminated) != 1):
+        raise ParameterError("--reference-channel takes one terminated recording that holds the references too, "
+                             "not repeats")
+
+
+def _spectra(prep: Prepared, *, progress: Progress | None, cross: CrossSetup | None = None,
+             references: Sequence[Reference] = (), band: Band = Band(20.0, 20_000.0), weighting: str = "none",
+             mains_hz: float | None = None) -> Spectra:
+    if references:
+        att = attributed_output(prep.runs[0], references, segment_length=prep.seg, band=band,  # type: ignore[arg-type]
+                                weighting=weighting, mains_hz=mains_hz, progress=progress)
+        p_floor = capture_psd(prep.floor, segment_length=prep.seg, progress=progress) if prep.floor else None
+        p_short = capture_psd(prep.shorted, segment_length=prep.seg, progress=progress) if prep.shorted else None
+        return Spectra(runs=[att.conditioned], term=att.conditioned, floor=p_floor, short=p_short, attributed=att)
     if cross is not None:
         out = cross_output(prep.runs[0], cross, vpfs=prep.vpfs, segment_length=prep.seg,  # type: ignore[arg-type]
                            progress=progress)
@@ -399,7 +424,10 @@ def _spectra_out(spec: Spectra, lines: Lines, fl: FloorStep, bf: BandFigures, g:
         voltage_noise_v2_per_hz=np.where(en_diff > 0, en_diff, np.nan) if en_diff is not None else None,
         noise_figure_db=nf_curve, power_gain=g.power_gain, band_weights=fl.w_band, lines=tuple(lines.term.lines),
         flicker=flicker, floor_dof=spec.floor.dof if spec.floor is not None else None,
-        output_variance_v4_per_hz2=spec.term.bin_variance)
+        output_variance_v4_per_hz2=spec.term.bin_variance,
+        unconditioned_output_v2_per_hz=spec.attributed.unconditioned.psd_per_hz if spec.attributed else None,
+        coherence=tuple(zip((a.reference for a in spec.attributed.references), spec.attributed.coherence))
+        if spec.attributed else ())
 
 
 def _assemble(prep: Prepared, spec: Spectra, lines: Lines, fl: FloorStep, bf: BandFigures, g: GainEstimate, *,
@@ -425,6 +453,9 @@ def _assemble(prep: Prepared, spec: Spectra, lines: Lines, fl: FloorStep, bf: Ba
     if spec.cross is not None:
         cross = summarise_cross(spec.cross, fl.w_band, lines.term.cleaned, lines.term_var)  # type: ignore[arg-type]
         notes = [*notes, advice(cross)]
+    att = spec.attributed
+    if att is not None:
+        notes = [*notes, describe(att.total, att.references)]
     return AnalysisResult(
         gain_db=g.gain_db, gain_frequency_hz=g.frequency_hz, gain_std_db=g.gain_std_db, gain_reference=g.reference,
         rs_ohm=float(rs_ohm), temperature_k=float(temperature_k), band_hz=(band.low_hz, band.high_hz),
@@ -454,5 +485,6 @@ def _assemble(prep: Prepared, spec: Spectra, lines: Lines, fl: FloorStep, bf: Ba
         rbw_hz=spec.term.enbw_hz, n_averages=spec.term.n_averages, dof=spec.term.dof, volts_per_fs=prep.vpfs,
         files=files, spot=tuple(spots), notes=tuple(notes), warnings=tuple(warned),
         output_estimator="cross-spectrum" if cross is not None else "auto-spectrum", cross=cross,
+        attribution=att.references if att is not None else None, attribution_all=att.total if att else None,
         spectra=_spectra_out(spec, lines, fl, bf, g, en_diff=en_diff, flicker=flicker, rs_ohm=rs_ohm,
                              temperature_k=temperature_k))

@@ -10,6 +10,7 @@ from numpy.typing import NDArray
 
 from ..dsp.spectrum import Psd
 from ..dsp.spurs import LineSearch
+from .attribution import Attributed
 from .cross_estimate import CrossOutput
 from .noise_inputs import NoiseInput
 
@@ -33,6 +34,7 @@ class Spectra:
     floor: Psd | None
     short: Psd | None
     cross: CrossOutput | None = None  # the two channels' estimate (term is its DUT spectrum)
+    attributed: Attributed | None = None  # the output conditioned on references (term is the conditioned one)
 
     @property
     def f(self) -> NDArray[np.float64]:

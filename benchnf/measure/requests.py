@@ -66,6 +66,7 @@ class GainMethodRequest:
     cross: bool = False
     cross_channels: tuple[int, int] | None = None
     background: Path | None = None
+    references: tuple[tuple[int, str], ...] = ()  # (channel, name) of the terminated recording
 
 
 def _calibration(req: GainMethodRequest) -> tuple[Any, str]:
@@ -146,7 +147,22 @@ def resolve_gain_method(req: GainMethodRequest) -> dict[str, Any]:
                 detector=req.detector, segment_length=req.segment_length, mains_hz=req.mains_hz,
                 flicker_range_hz=req.flicker_range_hz, flicker_free_slope=req.flicker_free_slope, stated=stated,
                 reference_output_vrms=req.reference_output_vrms, band_above_mains=req.band_above_mains,
-                assumptions=tuple(assumptions), cross=_cross_setup(req, open_one))
+                assumptions=tuple(assumptions), cross=_cross_setup(req, open_one),
+                references=_references(req))
+
+
+def _references(req: GainMethodRequest) -> tuple[Any, ...]:
+    """The reference channels of the terminated recording (their scale does not matter: coherence is a ratio)."""
+    if not req.references:
+        return ()
+    from .attribution import Reference
+    names = [name for _c, name in req.references]
+    if len(set(names)) != len(names) or len({c for c, _n in req.references}) != len(names):
+        raise ParameterError("each --reference-channel needs its own channel and its own name")
+    if len(req.terminated) != 1:
+        raise ParameterError("--reference-channel takes one terminated recording holding the references too")
+    return tuple(Reference(open_input(req.terminated[0], channel=c, accept_dropouts=req.accept_dropouts), name)
+                 for c, name in req.references)
 
 
 def _cross_channel(req: GainMethodRequest) -> GainMethodRequest:
@@ -202,6 +218,7 @@ def request_from_result(result: Any, *, locate: Callable[[str, str], Path]) -> G
     cross = getattr(result, "cross", None)
     return GainMethodRequest(
         cross=cross is not None, cross_channels=tuple(cross.channels) if cross is not None else None,
+        references=tuple((a.channel, a.reference) for a in (result.attribution or ())),
         background=one("background"),
         terminated=tuple(locate("terminated", n) for n in named["terminated"]), floor=one("floor"),
         shorted=one("shorted"), tone=one("tone"), response=one("response"), volts_per_fs=result.volts_per_fs,

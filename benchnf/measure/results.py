@@ -15,6 +15,7 @@ from numpy.typing import NDArray
 
 from ..codec import ResultFile, figure, memory_only
 from ..noise.uncertainty import Budget, Uncertainty
+from .attribution import Attribution, AttributionTotal
 from .cross_estimate import CrossSummary
 from .provenance import Provenance
 
@@ -108,6 +109,8 @@ class AnalysisSpectra:
     flicker: Any
     floor_dof: float | None = None
     output_variance_v4_per_hz2: NDArray[np.float64] | None = None  # each bin's, for a cross-spectrum estimate
+    unconditioned_output_v2_per_hz: NDArray[np.float64] | None = None  # before the references were removed
+    coherence: tuple[tuple[str, NDArray[np.float64]], ...] = ()  # each reference's coherence with the output
 
 
 @dataclass(frozen=True)
@@ -207,6 +210,10 @@ class AnalysisResult(ResultFile):
     # averaged cross-spectrum of two channels on the one output (less the correlated background).
     output_estimator: OutputEstimator = "auto-spectrum"
     cross: CrossSummary | None = figure(default=None, omit_if_none=True)
+    # What reference channels (a supply rail, a mains loop) explain of the output; the figures are then of the
+    # output with their coherent parts removed.
+    attribution: tuple[Attribution, ...] | None = figure(default=None, omit_if_none=True)
+    attribution_all: AttributionTotal | None = figure(default=None, omit_if_none=True)
     provenance: Provenance | None = figure(default=None, omit_if_none=True)
     spectra: AnalysisSpectra | None = memory_only()
 

@@ -14,6 +14,7 @@ from ..measure.results import AnalysisResult
 from ..units import thermal_density_v2_per_hz
 from .budget_text import budget_lines
 from ..quantity import Quantity, resistance_text
+from .present_attribution import attribution_table, coherence_plot
 from .view import Headline, Plot, Table, Trace, View, values
 
 __all__ = ["present", "weighted", "detector_words"]
@@ -187,7 +188,11 @@ def _plots(r: AnalysisResult) -> tuple[Plot, ...]:
             import numpy as np
             with np.errstate(invalid="ignore"):
                 return values(np.sqrt(np.where(a[1:] >= 0, a[1:], np.nan)), _NV)
-        out_traces.append(Trace("DUT output, as measured", values(f), rt(s.output_v2_per_hz)))
+        if s.unconditioned_output_v2_per_hz is not None:
+            out_traces.append(Trace("DUT output, as recorded", values(f), rt(s.unconditioned_output_v2_per_hz)))
+        out_traces.append(Trace("DUT output, as measured" if s.unconditioned_output_v2_per_hz is None else
+                                "DUT output, the references' coherent parts removed", values(f),
+                                rt(s.output_v2_per_hz)))
         if s.floor_v2_per_hz is not None:
             out_traces += [Trace("analyzer floor", values(f), rt(s.floor_v2_per_hz)),
                            Trace("DUT output, floor subtracted", values(f), rt(s.output_corrected_v2_per_hz))]
@@ -219,12 +224,14 @@ def _plots(r: AnalysisResult) -> tuple[Plot, ...]:
                    f"{r.temperature_k:.1f} K (T0 = 290 K)", "Frequency (Hz)", "Noise figure (dB)",
                    tuple(t for t in nf_traces if t.style == "reference" or any(v is not None for v in t.y)),
                    band=band, y_from_zero=True)]
-    return tuple(plots)
+    coherence = coherence_plot(r)
+    return tuple(plots) + ((coherence,) if coherence is not None else ())
 
 
 def present(r: AnalysisResult) -> View:
     """The view of a gain-method result."""
-    tables = ((_hum_table(r),) if r.spurs else ()) + (_spot_table(r),)
+    att = attribution_table(r)
+    tables = ((att,) if att is not None else ()) + ((_hum_table(r),) if r.spurs else ()) + (_spot_table(r),)
     summary = (f"EIN {Quantity(r.ein_dbu, 'dBu', r.uncertainty.get('ein_db')).text()}, noise figure "
                f"{Quantity(r.noise_figure_db, 'dB', r.uncertainty.get('noise_figure_db')).text()} at "
                f"Rs = {resistance_text(r.rs_ohm)}")
