@@ -146,7 +146,7 @@ def test_reference_refusals(tmp_path, capsys):
     common = ["analyze", "--terminated", str(wav), "--gain-db", "40", "--rs", "200", "--volts-per-fs", "1e-2"]
     for extra, words in ((["--reference-channel", "0"], "output's own channel"),
                          (["--reference-channel", "5"], "channel 5"),
-                         (["--reference-channel", "1", "--cross"], "without --cross"),
+                         (["--reference-channel", "1", "--cross", "--cross-volts-per-fs", "1e-2"], "without --cross"),
                          (["--reference-channel", "1=a", "--reference-channel", "1=b"], "its own channel"),
                          (["--reference-channel", "1=" + "x" * 50], "40 printable")):
         capsys.readouterr()

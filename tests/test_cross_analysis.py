@@ -32,7 +32,7 @@ def _white(rng, n, density):
     return rng.standard_normal(n) * density * math.sqrt(FS / 2)
 
 
-def _pair(path, rng, *, seconds, dut, own_db, shared=0.0):
+def _pair(path, rng, *, seconds, dut, own_db, shared=0.0, second_gain=1.0):
     """Two channels: the common noise (DUT, density `dut`), the analyzer's shared noise, and each input's own
     at `own_db` above the DUT output (the second 2 dB louder)."""
     n = int(FS * seconds)
@@ -40,14 +40,15 @@ def _pair(path, rng, *, seconds, dut, own_db, shared=0.0):
     own = OUT * 10 ** (own_db / 20)
     x = common + _white(rng, n, own)
     y = common + _white(rng, n, own * 1.26)
-    sf.write(path, np.stack([x, y], axis=1) / VPFS, FS, subtype="FLOAT")
+    sf.write(path, np.stack([x, y * second_gain], axis=1) / VPFS, FS, subtype="FLOAT")
     return path
 
 
-def _analyze(tmp_path, *extra):
+def _analyze(tmp_path, *extra, second=VPFS):
     out = tmp_path / f"r{len(list(tmp_path.glob('r*.json')))}.json"
+    both = ["--cross-volts-per-fs", str(second)] if "--cross" in extra and second else []
     rc = main(["analyze", "--gain-db", str(GAIN_DB), "--rs", str(RS), "--temperature-k", "290",
-               "--volts-per-fs", str(VPFS), "--json", str(out), "--quiet", *map(str, extra)])
+               "--volts-per-fs", str(VPFS), "--json", str(out), "--quiet", *map(str, extra), *both])
     return rc, (json.loads(out.read_text()) if rc == 0 else None)
 
 
@@ -105,6 +106,9 @@ def test_refusals_are_one_line_and_exit_2(tmp_path, capsys):
         (["--terminated", term, "--cross"], "record about"),  # 20 dB under each input, 1 s: not resolved
         (["--terminated", term, "--cross", "--background", term], "same file"),
     ]
+    capsys.readouterr()
+    assert _analyze(tmp_path, "--terminated", term, "--cross", second=None)[0] == 2
+    assert "each input's calibration" in capsys.readouterr().err
     for args, words in cases:
         capsys.readouterr()
         rc, _ = _analyze(tmp_path, *args)
@@ -112,3 +116,17 @@ def test_refusals_are_one_line_and_exit_2(tmp_path, capsys):
         assert rc == 2, (args, err)
         assert words in err, (words, err)
         assert len(err.splitlines()) == 1, err
+
+
+def test_each_input_has_its_own_calibration(tmp_path):
+    # The second input runs 6 dB hotter (its gain knob turned up): its own volts per full scale puts the
+    # estimate right; taking the first input's for it would read the output noise 3 dB high.
+    rng = np.random.default_rng(12)
+    term = _pair(tmp_path / "t.wav", rng, seconds=30, dut=OUT, own_db=6.0, second_gain=2.0)
+    rc, right = _analyze(tmp_path, "--terminated", term, "--cross", second=VPFS / 2)
+    assert rc == 0
+    assert abs(right["noise_figure_db"] - NF_TRUE) <= right["uncertainty"]["noise_figure_db"]
+    assert right["cross"]["second_volts_per_fs"] == pytest.approx(VPFS / 2)
+    rc, wrong = _analyze(tmp_path, "--terminated", term, "--cross", second=VPFS)
+    assert rc == 0 and wrong["output_noise_dbu"] - right["output_noise_dbu"] == pytest.approx(3.01, abs=0.1)
+

@@ -49,6 +49,12 @@ def _capture_options(p: argparse.ArgumentParser) -> None:
                         "their averaged cross-spectrum, which the inputs' own noise does not reach")
     c.add_argument("--cross-channels", type=channel_pair, metavar="A,B",
                    help="the two channels on the DUT output (default 0,1); the tone is read on A")
+    b = c.add_mutually_exclusive_group()
+    b.add_argument("--cross-calibration", type=Path, metavar="CAL.json",
+                   help="with --cross: the second input's calibration ('benchnf calibrate' on that input; the "
+                        "first's is --calibration or --volts-per-fs)")
+    b.add_argument("--cross-volts-per-fs", type=positive_volts, metavar="V",
+                   help="with --cross: the second input's volts per full scale")
     c.add_argument("--background", type=Path, metavar="FILE",
                    help="with --cross: both inputs terminated, the same two channels; its cross-spectrum (the "
                         "analyzer's correlated noise) is subtracted")
@@ -182,7 +188,8 @@ def request_from_args(args: argparse.Namespace) -> Any:
                                else args.reference_vrms),
         band_above_mains=args.band_preset == "above-hum", cross=args.cross,
         cross_channels=tuple(args.cross_channels) if args.cross_channels else None, background=args.background,
-        references=tuple(args.reference_channel or ()))
+        references=tuple(args.reference_channel or ()), cross_calibration=args.cross_calibration,
+        cross_volts_per_fs=args.cross_volts_per_fs)
 
 
 def write_extra(args: argparse.Namespace, writer: Writer, result: Any) -> None:

@@ -27,9 +27,10 @@ from ..dsp.cross import CrossSpectra
 from ..dsp.spectrum import Psd
 from ..errors import CaptureError, MeasurementError, ParameterError
 from ..noise.floor import correlated_sum_variance
+from ..noise.uncertainty import Budget
 
-__all__ = ["CrossSetup", "CrossSummary", "CrossOutput", "check_cross_inputs", "cross_output", "cross_spectra",
-           "summarise_cross", "check_cross_resolved", "advice", "WANTED_U95_DB"]
+__all__ = ["CrossSetup", "CrossSummary", "CrossOutput", "check_cross_inputs", "check_multichannel", "cross_output",
+           "cross_spectra", "summarise_cross", "check_cross_resolved", "advice", "second_input_term", "WANTED_U95_DB"]
 
 #: The uncertainty (k=2, of the band's output noise as an amplitude, Welch part) the advice aims at.
 WANTED_U95_DB = 0.5
@@ -61,6 +62,7 @@ class CrossSummary:
     background_upper_vrms: float | None  # its upper bound (k=2); None without a background recording
     seconds_more_for_wanted_u: float  # more recording for WANTED_U95_DB (0: reached)
     wanted_u95_db: float = WANTED_U95_DB
+    second_volts_per_fs: float | None = None  # the second input's calibration
 
 
 @dataclass(frozen=True)
@@ -72,6 +74,7 @@ class CrossOutput:
     background: CrossSpectra | None
     channels: tuple[int, int]
     background_path: str | None
+    second_volts_per_fs: float | None = None
 
 
 def check_cross_inputs(runs: Sequence[Any], *, floor: Any, shorted: Any) -> None:
@@ -87,11 +90,24 @@ def check_cross_inputs(runs: Sequence[Any], *, floor: Any, shorted: Any) -> None
                              "in a run without --cross")
 
 
-def cross_output(run: Capture, cross: CrossSetup, *, vpfs: float | None, segment_length: int,
+def check_multichannel(*, cross: CrossSetup | None, references: Sequence[Any], detector: str,
+                       terminated: Any) -> None:
+    """The cross-spectrum and the references each estimate the output from one multi-channel recording."""
+    if (cross is not None or references) and detector == "qp":
+        raise ParameterError("the quasi-peak meter reads one channel's waveform: it cannot take the cross-spectrum "
+                             "or the reference-conditioned estimate; use --detector rms")
+    if references and cross is not None:
+        raise ParameterError("--reference-channel does not yet condition the cross-spectrum estimate: run the "
+                             "attribution without --cross")
+    if references and (isinstance(terminated, (list, tuple)) and len(terminated) != 1):
+        raise ParameterError("--reference-channel takes one terminated recording that holds the references too, "
+                             "not repeats")
+
+
+def cross_output(run: Capture, cross: CrossSetup, *, segment_length: int,
                  progress: Any = None) -> CrossOutput:
     """The terminated recording's two channels and the background's, as one estimate of the DUT's output."""
-    from .noise_inputs import with_vpfs
-    other = with_vpfs(cross.other, vpfs, "second terminated channel", run.label)
+    other = cross.other
     spectra = cross_spectra(run, other, segment_length=segment_length, progress=progress)  # type: ignore[arg-type]
     background = None
     if cross.background is not None:
@@ -101,8 +117,8 @@ def cross_output(run: Capture, cross: CrossSetup, *, vpfs: float | None, segment
                                f"{run.label} at {run.sample_rate_hz:g} Hz: record both at one rate")
         background = cross_spectra(bx, by, segment_length=segment_length, progress=progress)
     path = cross.background[0].path if cross.background is not None else None
-    return CrossOutput(spectra.dut_psd(background), spectra, background,
-                       (run.channel, other.channel), str(path) if path is not None else None)  # type: ignore[union-attr]
+    return CrossOutput(spectra.dut_psd(background), spectra, background, (run.channel, other.channel),
+                       str(path) if path is not None else None, other.volts_per_fs)
 
 
 def cross_spectra(x: Capture, y: Capture, *, segment_length: int, progress: Any = None) -> CrossSpectra:
@@ -163,7 +179,7 @@ def summarise_cross(out: CrossOutput, w: NDArray[np.float64], clean: NDArray[np.
     return CrossSummary(channels=channels, averages=spectra.n_averages,
                         resolution_floor_v_per_rthz=float(np.sqrt(np.median(spectra.resolution_floor[used]))),
                         channel_margin_db=margin, background_vrms=bg, background_upper_vrms=bg_upper,
-                        seconds_more_for_wanted_u=float(more))
+                        seconds_more_for_wanted_u=float(more), second_volts_per_fs=out.second_volts_per_fs)
 
 
 def _duration(seconds: float) -> str:
@@ -181,3 +197,17 @@ def advice(summary: CrossSummary) -> str:
                 f"(k=2, statistics of the estimate)")
     return (f"cross-spectrum: record {_duration(summary.seconds_more_for_wanted_u)} more for "
             f"±{summary.wanted_u95_db:g} dB (k=2, statistics of the estimate) on the band output noise")
+
+
+def second_input_term(budget: Budget, *, u_calibration_rel: float, calibration_pct: float,
+                      sensitivity: float = 1.0) -> Budget:
+    """Add the two inputs' calibrations to an input-referred figure's budget where a one-channel tone gives
+    the gain: the estimate scales as ``v_A v_B`` and the gain as ``v_A``, so ``v_B / v_A`` no longer cancels
+    (two independent meter readings: relative standard uncertainty ``sqrt(2) u_cal`` on the power, times the
+    figure's `sensitivity` to that power; for a noise figure ``(EIN^2 / N0) / F``). With a stated or
+    two-channel gain the budget's calibration term (``2 u_cal`` on the power) already covers ``sqrt(2) u_cal``.
+    """
+    from ..noise.uncertainty import Contribution, power_rel_to_db
+    term = Contribution("the two inputs' calibrations", power_rel_to_db(math.sqrt(2) * u_calibration_rel * sensitivity),
+                        f"v_B / v_A does not cancel in the cross-spectrum; +/-{calibration_pct:g} % stated on each")
+    return Budget(budget.quantity, budget.value_db, (*budget.contributions, term))

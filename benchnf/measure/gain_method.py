@@ -53,8 +53,10 @@ from .cross_estimate import (
     CrossSetup,
     advice,
     check_cross_inputs,
+    check_multichannel,
     check_cross_resolved,
     cross_output,
+    second_input_term,
     summarise_cross,
 )
 from .gain import GainEstimate, GainSetup, measure_gain
@@ -143,7 +145,7 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
     """
     _validate(rs_ohm=rs_ohm, temperature_k=temperature_k, weighting=weighting, detector=detector,
               reference_output_vrms=reference_output_vrms)
-    _check_special(cross=cross, references=references, detector=detector, terminated=terminated)
+    check_multichannel(cross=cross, references=references, detector=detector, terminated=terminated)
     prep = _prepare(terminated=terminated, floor=floor, shorted=shorted, gain=gain, band=band,
                     segment_length=segment_length, cross=cross)
     notes: list[str] = list(assumptions)
@@ -231,20 +233,6 @@ def _prepare(*, terminated: NoiseInput | Sequence[NoiseInput], floor: NoiseInput
                      fs=fs, seg=seg, vpfs=vpfs)
 
 
-def _check_special(*, cross: CrossSetup | None, references: Sequence[Reference], detector: str,
-                   terminated: Any) -> None:
-    """The cross-spectrum and the references each estimate the output from one multi-channel recording."""
-    if (cross is not None or references) and detector == "qp":
-        raise ParameterError("the quasi-peak meter reads one channel's waveform: it cannot take the cross-spectrum "
-                             "or the reference-conditioned estimate; use --detector rms")
-    if references and cross is not None:
-        raise ParameterError("--reference-channel does not yet condition the cross-spectrum estimate: run the "
-                             "attribution without --cross")
-    if references and (isinstance(terminated, (list, tuple)) and len(terminated) != 1):
-        raise ParameterError("--reference-channel takes one terminated recording that holds the references too, "
-                             "not repeats")
-
-
 def _spectra(prep: Prepared, *, progress: Progress | None, cross: CrossSetup | None = None,
              references: Sequence[Reference] = (), band: Band = Band(20.0, 20_000.0), weighting: str = "none",
              mains_hz: float | None = None) -> Spectra:
@@ -255,8 +243,7 @@ def _spectra(prep: Prepared, *, progress: Progress | None, cross: CrossSetup | N
         p_short = capture_psd(prep.shorted, segment_length=prep.seg, progress=progress) if prep.shorted else None
         return Spectra(runs=[att.conditioned], term=att.conditioned, floor=p_floor, short=p_short, attributed=att)
     if cross is not None:
-        out = cross_output(prep.runs[0], cross, vpfs=prep.vpfs, segment_length=prep.seg,  # type: ignore[arg-type]
-                           progress=progress)
+        out = cross_output(prep.runs[0], cross, segment_length=prep.seg, progress=progress)  # type: ignore[arg-type]
         return Spectra(runs=[out.dut], term=out.dut, floor=None, short=None, cross=out)
     p_runs = [capture_psd(r, segment_length=prep.seg, progress=progress) for r in prep.runs]
     p_term = pool_psds(p_runs)
@@ -360,12 +347,20 @@ def _budgets(spec: Spectra, lines: Lines, fl: FloorStep, bf: BandFigures, g: Gai
                        gain_kind=gain.kind, gain_rel_std=g.gain_rel_std, stated=stated,
                        response_rel_std=g.response_rel_std)
     gain_b = gain_budget(value_db=g.gain_db, gain_kind=gain.kind, gain_rel_std=g.gain_rel_std, stated=stated)
+    both = spec.cross is not None and gain.kind == "tone-1ch"  # v_B / v_A does not cancel
+    if both:
+        ein_b = second_input_term(ein_b, u_calibration_rel=stated.u_calibration_rel,
+                                  calibration_pct=stated.calibration_pct)
     _check_physics(bf, spots, ein_u95_db=ein_b.expanded_db, gain_u95_db=gain_b.expanded_db, rs_ohm=rs_ohm,
                    temperature_k=temperature_k)  # before the noise factor's logarithm
     budgets = {"ein_db": ein_b, "noise_figure_db": nf_budget(
         quantity="noise_figure_db", noise_factor=bf.noise_factor, excess_over_n0=bf.ein_power / n0,
         dut_rel_std=dut_rel, floor_corrected=corrected, gain_kind=gain.kind, gain_rel_std=g.gain_rel_std,
         stated=stated, response_rel_std=g.response_rel_std), "gain_db": gain_b}
+    if both:
+        budgets["noise_figure_db"] = second_input_term(
+            budgets["noise_figure_db"], u_calibration_rel=stated.u_calibration_rel,
+            calibration_pct=stated.calibration_pct, sensitivity=bf.ein_power / n0 / bf.noise_factor)
     floor_clean = lines.floor.cleaned if lines.floor is not None else None
     if bf.out_noise > 0:
         budgets["output_noise_db"] = output_noise_budget(
@@ -383,6 +378,12 @@ def _budgets(spec: Spectra, lines: Lines, fl: FloorStep, bf: BandFigures, g: Gai
         budgets["voltage_noise_at_1khz_db"] = spot_density_budget(
             "voltage_noise_at_1khz_db", at_1k.voltage_noise_v_per_rthz, spec.f, spec.short, spec.floor,
             lines.short.cleaned, floor_clean, g, gain, stated)
+    if both and at_1k is not None and at_1k.input_density_v_per_rthz and at_1k.noise_figure_db is not None:
+        spot_ratio = at_1k.input_density_v_per_rthz ** 2 / (4 * BOLTZMANN_J_PER_K * T0_K * rs_ohm)
+        for key, sens in (("input_density_at_1khz_db", 1.0),
+                          ("nf_at_1khz_db", spot_ratio / 10 ** (at_1k.noise_figure_db / 10))):
+            budgets[key] = second_input_term(budgets[key], u_calibration_rel=stated.u_calibration_rel,
+                                             calibration_pct=stated.calibration_pct, sensitivity=sens)
     return budgets
 
 

@@ -67,6 +67,8 @@ class GainMethodRequest:
     cross_channels: tuple[int, int] | None = None
     background: Path | None = None
     references: tuple[tuple[int, str], ...] = ()  # (channel, name) of the terminated recording
+    cross_calibration: Any = None  # the second cross input's calibration (path or Calibration)
+    cross_volts_per_fs: float | None = None
 
 
 def _calibration(req: GainMethodRequest) -> tuple[Any, str]:
@@ -168,8 +170,10 @@ def _references(req: GainMethodRequest) -> tuple[Any, ...]:
 def _cross_channel(req: GainMethodRequest) -> GainMethodRequest:
     """With --cross the terminated (and tone) captures are read on the first of the two channels."""
     if not req.cross:
-        if req.cross_channels is not None or req.background is not None:
-            raise ParameterError("--cross-channels and --background belong to the cross-spectrum estimate: add --cross")
+        if (req.cross_channels is not None or req.background is not None or req.cross_calibration is not None
+                or req.cross_volts_per_fs is not None):
+            raise ParameterError("--cross-channels, --background and the second input's calibration belong to the "
+                                 "cross-spectrum estimate: add --cross")
         return req
     a, b = req.cross_channels if req.cross_channels is not None else (req.channel or 0, 1 if req.channel != 1 else 0)
     if req.channel is not None and req.channel != a:
@@ -189,9 +193,15 @@ def _cross_setup(req: GainMethodRequest, open_one: Callable[..., Any]) -> Any:
                              "longer capture rather than repeats")
     if req.background is not None:
         distinct_files([req.terminated[0], req.background], "terminated and background")
-    background = ((open_one(req.background, "floor", a), open_one(req.background, "floor", b))  # inputs terminated
+    if req.cross_calibration is None and req.cross_volts_per_fs is None:
+        raise ParameterError("--cross needs each input's calibration: calibrate the second input too and give it "
+                             "with --cross-calibration CAL.json, or state --cross-volts-per-fs V")
+    second = replace(req, calibration=req.cross_calibration, volts_per_fs=req.cross_volts_per_fs)
+    cal_b, name_b = _calibration(second)
+    open_b = _opener(second, cal_b, name_b.replace("calibration", "second input's calibration", 1), 1.0)
+    background = ((open_one(req.background, "floor", a), open_b(req.background, "floor", b))  # inputs terminated
                   if req.background is not None else None)
-    return CrossSetup(other=open_one(req.terminated[0], "terminated", b), background=background)
+    return CrossSetup(other=open_b(req.terminated[0], "terminated", b), background=background)
 
 
 def run_gain_method(req: GainMethodRequest, *, progress: Any = None) -> Any:
@@ -219,6 +229,7 @@ def request_from_result(result: Any, *, locate: Callable[[str, str], Path]) -> G
     return GainMethodRequest(
         cross=cross is not None, cross_channels=tuple(cross.channels) if cross is not None else None,
         references=tuple((a.channel, a.reference) for a in (result.attribution or ())),
+        cross_volts_per_fs=cross.second_volts_per_fs if cross is not None else None,
         background=one("background"),
         terminated=tuple(locate("terminated", n) for n in named["terminated"]), floor=one("floor"),
         shorted=one("shorted"), tone=one("tone"), response=one("response"), volts_per_fs=result.volts_per_fs,
