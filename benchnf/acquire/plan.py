@@ -57,6 +57,11 @@ CAUTIONS = {
     "hot-load": "A boiling-water hot load scalds: secure the vessel, keep mains equipment and leads away from it.",
     "cold-load": "A liquid-nitrogen cold load burns on contact and displaces oxygen without any smell: ventilate "
                  "the room, wear eye and hand protection, never seal it in a closed container.",
+    "split": "Split the DUT output to both inputs with a Y-lead or a passive splitter, phantom power OFF on both; "
+             "keep the two leads apart from each other and from mains leads.",
+    "rail-probe": "Probe the rail only through a blocking capacitor rated well above its voltage, with a series "
+                  "resistor, the unit off and the capacitor discharged while connecting; never on mains-side "
+                  "circuits, primary supplies or valve HT rails. Follow local codes and licensed practice.",
 }
 _DEFAULT_CAUTIONS = {"terminated": ["phantom"], "shorted": ["phantom"], "tone": ["phantom"], "hot": ["hot-load"],
                      "cold": ["cold-load"]}
@@ -72,6 +77,11 @@ class PlanAnalysis:
     calibration: str | None = None
     band_hz: tuple[float, float] | None = None
     weighting: str | None = None
+    cross: bool = False  # the terminated step has the DUT output on two inputs (docs/cross.md)
+    cross_channels: tuple[int, int] | None = None
+    cross_volts_per_fs: float | None = None  # the second input's calibration
+    cross_calibration: str | None = None
+    references: tuple[str, ...] = ()  # "N=NAME": channels of the terminated step carrying a reference
 
 
 @dataclass(frozen=True)
@@ -294,9 +304,18 @@ def analyse_plan(plan: Plan, plan_path: Path, files: dict[str, Path], folder: Pa
     from ..measure.provenance import provenance
     from ..measure.requests import GainMethodRequest, run_gain_method
     result = run_gain_method(GainMethodRequest(
-        terminated=(files["terminated"],), floor=files.get("floor"), shorted=files.get("shorted"),
-        tone=files["tone"], volts_per_fs=a.volts_per_fs, calibration=a.calibration, rs_ohm=a.rs_ohm,
-        temperature_k=a.temperature_k, band_hz=a.band_hz, weighting=a.weighting))
-    read = [plan_path, *files.values(), *([Path(a.calibration)] if a.calibration else [])]
+        terminated=(files["terminated"],), floor=None if a.cross else files.get("floor"),
+        shorted=files.get("shorted"), tone=files["tone"], volts_per_fs=a.volts_per_fs, calibration=a.calibration,
+        rs_ohm=a.rs_ohm, temperature_k=a.temperature_k, band_hz=a.band_hz, weighting=a.weighting, cross=a.cross,
+        cross_channels=a.cross_channels, background=files.get("background") if a.cross else None,
+        cross_volts_per_fs=a.cross_volts_per_fs, cross_calibration=a.cross_calibration,
+        references=_references(a.references)))
+    read = [plan_path, *files.values(), *(Path(c) for c in (a.calibration, a.cross_calibration) if c)]
     writer.json(folder / "results.json", result.with_provenance(provenance(read, root=folder)).to_dict())
     return result
+
+
+def _references(texts: tuple[str, ...]) -> tuple[tuple[int, str], ...]:
+    """The plan's ``references = ["1=rail"]`` as (channel, name), by the command line's rule."""
+    from ..measure.attribution import parse_reference
+    return tuple(parse_reference(t) for t in texts)

@@ -180,12 +180,12 @@ def channel_pair(text: str) -> tuple[int, int]:
 
 def reference_channel(text: str) -> tuple[int, str]:
     """``N`` or ``N=NAME``: a channel carrying a reference, and the name the results give it."""
-    number, _, name = text.partition("=")
-    channel = channel_index(number.strip())
-    name = name.strip() or f"channel {channel}"
-    if not name.isprintable() or len(name) > 40:
-        raise argparse.ArgumentTypeError(f"{text!r}: a reference's name is up to 40 printable characters")
-    return channel, name
+    from ..errors import ParameterError
+    from ..measure.attribution import parse_reference
+    try:
+        return parse_reference(text)
+    except ParameterError as err:
+        raise argparse.ArgumentTypeError(str(err)) from None
 
 
 def segment_samples(text: str) -> int:

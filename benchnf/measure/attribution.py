@@ -30,11 +30,31 @@ from ..dsp.coherence import SpectralMatrix, spectral_matrix
 from ..dsp.spectrum import Psd
 from ..errors import CaptureError, ParameterError
 
-__all__ = ["Reference", "LineShare", "Attribution", "AttributionTotal", "Attributed", "attribute",
+__all__ = ["parse_reference", "Reference", "LineShare", "Attribution", "AttributionTotal", "Attributed", "attribute",
            "attributed_output", "describe", "share_text",
            "BATCHES"]
 
 BATCHES = 32  # jackknife groups: a stable variance (31 degrees of freedom), each group still many segments
+
+
+def parse_reference(text: str) -> tuple[int, str]:
+    """``N`` or ``N=NAME``: a channel carrying a reference and the name the results give it.
+
+    Raises
+    ------
+    ParameterError
+    """
+    number, _, name = text.partition("=")
+    try:
+        channel = int(number.strip())
+    except ValueError:
+        channel = -1
+    if channel < 0:
+        raise ParameterError(f"{text!r}: a reference is a channel number (from 0), optionally =NAME")
+    name = name.strip() or f"channel {channel}"
+    if not name.isprintable() or len(name) > 40:
+        raise ParameterError(f"{text!r}: a reference's name is up to 40 printable characters")
+    return channel, name
 
 
 @dataclass(frozen=True)
