@@ -36,7 +36,7 @@ def desk(bench):
 def test_state_and_listing(desk, bench):
     status, state = call(desk, "/api/state")
     assert status == 200 and state["folder"] == str(bench.resolve())
-    assert set(state["cautions"]) == {"phantom", "speaker", "valve", "mains", "hot-load", "cold-load"}
+    assert set(state["cautions"]) == {"phantom", "speaker", "valve", "mains", "hot-load", "cold-load", "split", "rail-probe"}
     _, files = call(desk, "/api/files?kind=results")
     assert "results/results.json" in files["files"] and "results/calibration.json" not in files["files"]
     _, profiles = call(desk, "/api/files?kind=profiles")

@@ -23,7 +23,7 @@ from ..dsp.spurs import find_lines
 from ..dsp.weighting import Band
 from ..units import fs_to_dbfs, vrms_to_dbu
 
-__all__ = ["LiveSnapshot", "LiveAnalyzer", "run_live", "referred_to_input"]
+__all__ = ["LiveSnapshot", "CrossReading", "LiveAnalyzer", "CrossLiveAnalyzer", "run_live", "referred_to_input"]
 
 
 def referred_to_input(density: np.ndarray, gain_db: float) -> np.ndarray:
@@ -34,7 +34,7 @@ def referred_to_input(density: np.ndarray, gain_db: float) -> np.ndarray:
 @dataclass(frozen=True)
 class LiveSnapshot:
     seconds_averaged: float
-    band_rms: float
+    band_rms: float | None  # None: the cross-spectrum mode has not resolved the band yet
     unit: str
     strongest_line_hz: float | None
     strongest_line_rms: float | None
@@ -43,6 +43,7 @@ class LiveSnapshot:
     lines: tuple = ()  # every line found (dsp.spurs.Line), strongest first
     weighting: str = "none"
     gain_db: float | None = None  # stated gain: then input_density and ein_rms are input-referred
+    cross: "CrossReading | None" = None  # the cross-spectrum mode's extras (density is then the co-spectrum)
 
     @property
     def input_density(self) -> np.ndarray | None:
@@ -52,9 +53,14 @@ class LiveSnapshot:
     @property
     def ein_rms(self) -> float | None:
         """The band noise referred to the input through the stated gain: EIN = E_out / G_v."""
-        return None if self.gain_db is None else self.band_rms / 10 ** (self.gain_db / 20)
+        if self.gain_db is None or self.band_rms is None:
+            return None
+        return self.band_rms / 10 ** (self.gain_db / 20)
 
     def line(self) -> str:
+        if self.band_rms is None and self.cross is not None:
+            return (f"[{self.seconds_averaged:6.1f} s] band noise not resolved yet (below "
+                    f"{self.cross.band_upper_rms:.3g} {self.unit}); one input alone reads {self.cross.own_rms:.3g}")
         if self.band_rms is None:
             return f"[{self.seconds_averaged:6.1f} s] band noise -"
         level = (f"{vrms_to_dbu(self.band_rms):7.2f} dBu ({self.band_rms * 1e6:8.3f} uV)" if self.unit == "V"
@@ -63,6 +69,19 @@ class LiveSnapshot:
                f"{20 * math.log10(self.strongest_line_rms / self.band_rms):+6.1f} dB re band"
                if self.strongest_line_hz and self.strongest_line_rms else "no lines")
         return f"[{self.seconds_averaged:6.1f} s] band noise {level}; {hum}"
+
+
+@dataclass(frozen=True)
+class CrossReading:
+    """What the cross-spectrum mode adds to a snapshot: the first input alone, the density one bin resolves
+    (:attr:`benchnf.dsp.cross.CrossSpectra.resolution_floor`), the band's U and, while the band is within
+    three standard deviations of zero, an upper bound instead of a level."""
+
+    own_density: np.ndarray
+    resolution_density: np.ndarray
+    own_rms: float
+    band_u95_db: float | None  # of the band level (amplitude), k=2; None while not resolved
+    band_upper_rms: float  # k=2 upper bound of the band level
 
 
 class LiveAnalyzer:
@@ -128,6 +147,53 @@ class LiveAnalyzer:
         return LiveSnapshot(self._frames / self.sample_rate_hz, rms, psd.unit, top.freq_hz if top else None,
                             top.vrms if top else None, psd.frequency_hz, psd.psd_per_hz, tuple(lines),
                             self.weighting, self.gain_db)
+
+
+class CrossLiveAnalyzer:
+    """The live view of two inputs on one output: their averaged cross-spectrum (cumulative until reset: the
+    inputs' own noise averages away only over a long average), the band level with its U, refused as a level
+    (an upper bound instead) until resolved. See docs/cross.md."""
+
+    averages = None
+
+    def __init__(self, *, sample_rate_hz: float, segment_length: int = 8192, band: Band = Band(20.0, 20_000.0),
+                 volts_per_fs: float | None = None, second_volts_per_fs: float | None = None,
+                 weighting: str = "none", gain_db: float | None = None) -> None:
+        self.sample_rate_hz, self.segment_length, self.band = sample_rate_hz, segment_length, band
+        self.volts_per_fs, self.weighting, self.gain_db = volts_per_fs, weighting, gain_db
+        self.second_volts_per_fs = second_volts_per_fs if second_volts_per_fs is not None else volts_per_fs
+        self.reset()
+
+    def reset(self) -> None:
+        from ..dsp.cross import CrossAccumulator
+        self._acc = CrossAccumulator(sample_rate_hz=self.sample_rate_hz, segment_length=self.segment_length)
+        self._frames = 0
+
+    def feed(self, pair: np.ndarray) -> None:
+        """A block of shape (frames, 2): the two inputs."""
+        self._acc.update(pair[:, 0], pair[:, 1])
+        self._frames += pair.shape[0]
+
+    def snapshot(self) -> LiveSnapshot | None:
+        from ..noise.floor import correlated_sum_variance
+        if self._acc.n_averages < 2:
+            return None
+        spectra = self._acc.result(scale_x=self.volts_per_fs or 1.0, scale_y=self.second_volts_per_fs or 1.0)
+        dut = spectra.dut_psd()
+        w = band_bin_weights(dut.frequency_hz, self.band, weighting=self.weighting)
+        power = float(np.dot(w, dut.psd_per_hz))
+        variance = dut.bin_variance if dut.bin_variance is not None else np.zeros_like(w)
+        std = math.sqrt(correlated_sum_variance(w * np.sqrt(variance), dut.correlation_kernel))
+        resolved = power > 3.0 * std
+        lines = find_lines(dut).lines if resolved and dut.n_averages >= 4 else ()
+        top = lines[0] if lines else None
+        reading = CrossReading(spectra.s_xx, spectra.resolution_floor, math.sqrt(float(np.dot(w, spectra.s_xx))),
+                               10 / math.log(10) * 2 * std / power if resolved else None,
+                               math.sqrt(max(power, 0.0) + 2.0 * std))
+        return LiveSnapshot(self._frames / self.sample_rate_hz, math.sqrt(power) if resolved else None,
+                            "V" if self.volts_per_fs else "FS", top.freq_hz if top else None,
+                            top.vrms if top else None, dut.frequency_hz, dut.psd_per_hz, tuple(lines),
+                            self.weighting, self.gain_db, reading)
 
 
 def run_live(*, device: str | None, host_api: str | None, sample_rate_hz: float, volts_per_fs: float | None,

@@ -156,7 +156,13 @@ def live_settings(data: dict[str, Any], folder: Any) -> Any:
         if gain is not None:
             raise BenchError("state a gain or take it from a result, not both")
         gain = measured.gain_db
-    return LiveSettings(device=data.get("device") or None, host_api=data.get("host_api") or None,
+    cross = data.get("cross_channel")
+    cross_channel = int(_number(data, "cross_channel", low=0, high=63)) if cross not in (None, "") else None
+    if cross_channel is not None and cross_channel == int(_number(data, "channel", low=0, high=63, default=0)):
+        raise BenchError("the second input must be another channel than the first")
+    return LiveSettings(cross_channel=cross_channel, cross_volts_per_fs=_number(data, "cross_volts_per_fs", low=1e-6,
+                                                                                high=1e4),
+                        device=data.get("device") or None, host_api=data.get("host_api") or None,
                         rate_hz=_number(data, "rate_hz", low=1000.0, high=1e6, default=48_000.0),
                         channel=int(_number(data, "channel", low=0, high=63, default=0)), volts_per_fs=vpfs,
                         gain_db=gain, band_hz=band, weighting=weighting,

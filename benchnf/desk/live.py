@@ -53,19 +53,30 @@ class LiveSettings:
     weighting: str = "none"
     averages: int | None = 16
     segment_length: int = 8192
+    cross_channel: int | None = None  # a second input on the same output: the cross-spectrum mode
+    cross_volts_per_fs: float | None = None  # that input's calibration (default: the first's)
 
 
 class LiveFeed:
     """A running input stream and its analyzer; start() opens the device, stop() closes it."""
 
     def __init__(self, settings: LiveSettings, guard: AudioGuard) -> None:
-        from ..acquire.live import LiveAnalyzer
+        from ..acquire.live import CrossLiveAnalyzer, LiveAnalyzer
         from ..dsp.weighting import Band
         self.settings, self._guard = settings, guard
-        self.analyzer = LiveAnalyzer(sample_rate_hz=settings.rate_hz, segment_length=settings.segment_length,
-                                     band=Band(*settings.band_hz), volts_per_fs=settings.volts_per_fs,
-                                     weighting=settings.weighting, gain_db=settings.gain_db,
-                                     averages=settings.averages)
+        self.analyzer: Any
+        if settings.cross_channel is None:
+            self.analyzer = LiveAnalyzer(sample_rate_hz=settings.rate_hz, segment_length=settings.segment_length,
+                                         band=Band(*settings.band_hz), volts_per_fs=settings.volts_per_fs,
+                                         weighting=settings.weighting, gain_db=settings.gain_db,
+                                         averages=settings.averages)
+        else:
+            self.analyzer = CrossLiveAnalyzer(sample_rate_hz=settings.rate_hz, segment_length=settings.segment_length,
+                                              band=Band(*settings.band_hz), volts_per_fs=settings.volts_per_fs,
+                                              second_volts_per_fs=settings.cross_volts_per_fs,
+                                              weighting=settings.weighting, gain_db=settings.gain_db)
+        self._take = [settings.channel] if settings.cross_channel is None else [settings.channel,
+                                                                                settings.cross_channel]
         self._blocks: queue.Queue[np.ndarray] = queue.Queue(maxsize=512)
         self._stream: Any = None
         self.overflows = 0
@@ -77,14 +88,15 @@ class LiveFeed:
         sd = sounddevice()
         s = self.settings
         dev = find_device(s.device, host_api=s.host_api, kind="input")
-        if s.channel >= dev.max_input_channels:
-            raise BenchError(f"{dev.name!r} has {dev.max_input_channels} input channel(s), 0 to "
-                             f"{dev.max_input_channels - 1} (0 = first); channel {s.channel} does not exist")
+        for ch in self._take:
+            if ch >= dev.max_input_channels:
+                raise BenchError(f"{dev.name!r} has {dev.max_input_channels} input channel(s), 0 to "
+                                 f"{dev.max_input_channels - 1} (0 = first); channel {ch} does not exist")
         self._guard.take("the live view")
         try:
             # Low latency: the first blocks arrive at once (with the host's default "high" latency the ALSA
             # pulse device here delivered its first block 1.4 s after the start); a dropped block is counted.
-            self._stream = sd.InputStream(samplerate=s.rate_hz, channels=s.channel + 1, dtype="float32",
+            self._stream = sd.InputStream(samplerate=s.rate_hz, channels=max(self._take) + 1, dtype="float32",
                                           device=dev.index, callback=self._callback, latency="low")
             self._stream.start()
         except Exception as err:  # PortAudio's errors: a rate or channel count the device refuses
@@ -99,7 +111,8 @@ class LiveFeed:
         if status and status.input_overflow:
             self.overflows += 1
         try:
-            self._blocks.put_nowait(indata[:, self.settings.channel].copy())
+            block = indata[:, self._take]
+            self._blocks.put_nowait(block[:, 0].copy() if block.shape[1] == 1 else block.copy())
         except queue.Full:
             self.overflows += 1
 
@@ -146,7 +159,22 @@ class LiveFeed:
             "lines": [{"freq_hz": ln.freq_hz, "rms": ln.vrms, "family": ln.family, "excess_db": ln.excess_db}
                       for ln in snap.lines[:12]],
             "averages": self.analyzer.averages, "overflows": self.overflows,
+            "cross": _cross_payload(snap, f, step),
         }
+
+
+def _cross_payload(snap: Any, f: np.ndarray, step: int) -> dict[str, Any] | None:
+    """The cross-spectrum mode's extras: the first input alone and the density one bin resolves, the band's
+    U, and its upper bound while not resolved."""
+    c = snap.cross
+    if c is None:
+        return None
+    own, floor = c.own_density, c.resolution_density
+    if snap.gain_db is not None:
+        from ..acquire.live import referred_to_input
+        own, floor = referred_to_input(own, snap.gain_db), referred_to_input(floor, snap.gain_db)
+    return {"own_y": np.sqrt(own[1::step]).tolist(), "floor_y": np.sqrt(floor[1::step]).tolist(),
+            "own_rms": c.own_rms, "band_u95_db": c.band_u95_db, "band_upper_rms": c.band_upper_rms}
 
 
 def reference_trace(kind: str, path: Path | None, *, settings: LiveSettings, profile_mask: Any = None

@@ -210,6 +210,13 @@ function drawLive() {
   }
   if (live.reference) traces.push({x: live.reference.x, y: live.reference.y, type: "scatter", mode: "lines",
     name: live.reference.name, line: {color: COLOURS[1], width: 1.2, dash: "dot"}});
+  if (p.cross) {
+    traces[0].name = "both inputs (cross-spectrum)";
+    traces.push({x: p.x, y: p.cross.own_y, type: "scatter", mode: "lines", name: "first input alone",
+      line: {color: COLOURS[3], width: 1, dash: "dash"}},
+      {x: p.x, y: p.cross.floor_y, type: "scatter", mode: "lines", name: "one bin resolves",
+      line: {color: "#8a8a8a", width: 1, dash: "dot"}});
+  }
   const div = $("#live-plot");
   if (!live.drawn) {
     drawPlot(div, {title: "", x_label: "Frequency (Hz)", y_label: `${p.referred}-referred density (${unit})`,
@@ -220,13 +227,17 @@ function drawLive() {
     live.drawn = true;
   }
   Plotly.react(div, traces, div.layout);
-  $("#live-band").textContent = fmtLevel(p.band_rms, p.unit);
-  $("#live-band-cond").textContent = `${p.band_hz[0]}–${p.band_hz[1]} Hz, weighting ${p.weighting}, output`;
+  $("#live-band").textContent = p.band_rms === null && p.cross ? "below " + fmtLevel(p.cross.band_upper_rms, p.unit)
+    : fmtLevel(p.band_rms, p.unit) + (p.cross ? ` ± ${p.cross.band_u95_db.toFixed(2)} dB` : "");
+  $("#live-band-cond").textContent = `${p.band_hz[0]}–${p.band_hz[1]} Hz, weighting ${p.weighting}, output` +
+    (!p.cross ? "" : p.band_rms === null ? "; not resolved yet: keep averaging" : "; U k=2, cross-spectrum");
+  div.dataset.resolved = p.cross ? String(p.band_rms !== null) : "";
   $("#live-ein").textContent = p.ein_rms === null ? "–" : fmtLevel(p.ein_rms, p.unit);
   $("#live-ein-cond").textContent = p.gain_db === null ? "state a gain to refer to the input"
     : `band noise through the stated ${p.gain_db.toFixed(2)} dB gain`;
   $("#live-secs").textContent = p.seconds.toFixed(1) + " s";
-  $("#live-avg").textContent = p.averages ? `running average of ${p.averages} segments` : "averaging until restarted";
+  $("#live-avg").textContent = p.cross ? `cross-spectrum; one input alone reads ${fmtLevel(p.cross.own_rms, p.unit)}`
+    : p.averages ? `running average of ${p.averages} segments` : "averaging until restarted";
   const top = p.lines[0];
   div.dataset.peakHz = top ? top.freq_hz.toFixed(1) : "";
   div.dataset.draws = String((Number(div.dataset.draws) || 0) + 1);  // read by benchmarks/bench_desk.py
