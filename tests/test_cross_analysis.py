@@ -130,3 +130,22 @@ def test_each_input_has_its_own_calibration(tmp_path):
     rc, wrong = _analyze(tmp_path, "--terminated", term, "--cross", second=VPFS)
     assert rc == 0 and wrong["output_noise_dbu"] - right["output_noise_dbu"] == pytest.approx(3.01, abs=0.1)
 
+
+
+def test_a_sidecar_states_each_inputs_calibration(tmp_path, capsys):
+    rng = np.random.default_rng(13)
+    term = _pair(tmp_path / "t.wav", rng, seconds=20, dut=OUT, own_db=6.0, second_gain=2.0)
+    (tmp_path / "t.json").write_text(json.dumps({"condition": "terminated",
+                                                 "channel_volts_per_fs": {"0": VPFS, "1": VPFS / 2}}))
+    out = tmp_path / "s.json"
+    assert main(["analyze", "--terminated", str(term), "--cross", "--gain-db", str(GAIN_DB), "--rs", str(RS),
+                 "--temperature-k", "290", "--json", str(out), "--quiet"]) == 0
+    r = json.loads(out.read_text())
+    assert r["volts_per_fs"] == pytest.approx(VPFS) and r["cross"]["second_volts_per_fs"] == pytest.approx(VPFS / 2)
+    assert abs(r["noise_figure_db"] - NF_TRUE) <= r["uncertainty"]["noise_figure_db"]
+    # One volts_per_fs for the whole recording says nothing of the second input's own: refused.
+    (tmp_path / "t.json").write_text(json.dumps({"condition": "terminated", "volts_per_fs": VPFS}))
+    capsys.readouterr()
+    assert main(["analyze", "--terminated", str(term), "--cross", "--gain-db", str(GAIN_DB), "--rs", str(RS),
+                 "--json", str(tmp_path / "s2.json")]) == 2
+    assert "each input's calibration" in capsys.readouterr().err

@@ -128,3 +128,21 @@ def test_a_guided_plan_measures_with_the_cross_spectrum(tmp_path, capsys):
     # Gain: 0.1 FS amplitude out for 1 mV RMS in: 20 lg(0.0707 / 0.001) = 36.99 dB (common practice).
     assert r["gain_db"] == pytest.approx(36.99, abs=0.05)
     assert r["cross"]["channel_margin_db"] == pytest.approx(-10.0, abs=1.0)
+
+
+def test_record_states_each_inputs_calibration(tmp_path):
+    from benchnf.calibration import calibrate_from_tone
+    from benchnf.capture import Capture
+    # Two calibrations of our own making (INVENTED DATA): a 0.5 V RMS tone read as 0.5 and as 0.25 of full scale.
+    t = np.arange(int(2 * FS)) / FS
+    for ch, amplitude in ((0, 0.5), (1, 0.25)):
+        tone = np.column_stack([amplitude * np.sin(2 * np.pi * 400 * t)] * 2)
+        calibrate_from_tone(Capture.from_array(tone, sample_rate_hz=FS, channel=ch), vrms=0.5).save(
+            tmp_path / f"cal{ch}.json")
+    out = tmp_path / "two.wav"
+    assert main(["record", "--device", DEVICE, "--seconds", "1", "--channels", "2", "--condition", "terminated",
+                 "--calibration", str(tmp_path / "cal0.json"), "--input-calibration", str(tmp_path / "cal1.json"),
+                 "-o", str(out), "--quiet"]) == 0
+    side = json.loads(out.with_suffix(".json").read_text())
+    assert side["channel_volts_per_fs"]["0"] == pytest.approx(math.sqrt(2), rel=1e-6)  # sqrt(2) 0.5 / 0.5
+    assert side["channel_volts_per_fs"]["1"] == pytest.approx(2 * math.sqrt(2), rel=1e-6)

@@ -31,6 +31,9 @@ def add_parser(sub: Any) -> None:
     p.add_argument("--rs", type=source_ohm, metavar="OHM", help="source resistance, for the sidecar (0 = shorted)")
     p.add_argument("--temperature-k", type=resistor_kelvin, metavar="K", help="resistor temperature, for the sidecar")
     calibration_options(p)
+    p.add_argument("--input-calibration", type=Path, action="append", metavar="CAL.json",
+                   help="another input's calibration, for a recording of several inputs (each file names its "
+                        "channel); repeat for each; the sidecar then states every input's volts per full scale")
     p.add_argument("-o", "--output", type=Path, required=True, metavar="FILE.wav")
     common_options(p)
     p.set_defaults(run=run)
@@ -49,6 +52,8 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
         cal = Calibration.load(args.calibration)
         meta["volts_per_fs"] = cal.volts_per_fs
         meta["calibration"] = str(args.calibration)
+    if args.input_calibration:
+        meta.update(_each_input(args))
     total = int(args.seconds * args.rate)
     with progress(total, quiet=args.quiet, label="recording") as tick:
         try:
@@ -67,4 +72,24 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
         print("benchnf: warning: the capture has dropouts: analysis will refuse it unless --accept-dropouts",
               file=sys.stderr)
     return ExitStatus.OK
+
+
+def _each_input(args: argparse.Namespace) -> dict[str, Any]:
+    """The sidecar's per-channel calibration: --calibration's and every --input-calibration's, one per channel."""
+    from ..calibration import Calibration
+    from ..errors import ParameterError
+    files = [*([args.calibration] if args.calibration else []), *args.input_calibration]
+    per: dict[str, float] = {}
+    for f in files:
+        cal = Calibration.load(f)
+        if cal.channel >= args.channels:
+            raise ParameterError(f"{f} calibrates channel {cal.channel}, but --channels {args.channels} records "
+                                 f"0 to {args.channels - 1}")
+        if str(cal.channel) in per:
+            raise ParameterError(f"two calibrations for channel {cal.channel}: give one per input")
+        if cal.sample_rate_hz != args.rate:
+            raise ParameterError(f"{f} was made at {cal.sample_rate_hz:g} Hz, the recording runs at {args.rate:g} Hz: "
+                                 f"calibrate at this rate")
+        per[str(cal.channel)] = cal.volts_per_fs
+    return {"channel_volts_per_fs": per, "input_calibrations": [str(f) for f in files]}
 

@@ -133,7 +133,8 @@ def open_capture(path: str | Path, *, channel: int | None = None, condition: str
         raise CaptureError(f"{path.name} has {info.channels} channel(s), numbered from 0; channel {channel} does not "
                            f"exist: choose one with --channel (0 to {info.channels - 1}) or the sidecar's channel")
     if volts_per_fs is None:
-        volts_per_fs = meta.get("volts_per_fs")
+        from .sidecar import sidecar_volts_per_fs
+        volts_per_fs = sidecar_volts_per_fs(meta, channel)
     n_frames = int(info.frames)
 
     direct = _direct_layout(info, layout)

@@ -5,7 +5,9 @@ without its extension) or ``bench/floor.flac.json``; having both is an error.
 Known keys (all optional): ``condition``, ``volts_per_fs``, ``rs_ohm``,
 ``temperature_k``, ``channel``, ``device``, ``host_api``, ``recorded_at``,
 ``gain_setting`` (the interface's input gain as its control reads), ``input_gain_db`` (the same in dB),
-``calibration``, ``notes``.  Other keys are kept and passed through. The captures of one measurement are
+``calibration``, ``channel_volts_per_fs`` (each input's volts per full scale by channel number, for a
+recording of several calibrated inputs: where present it, not ``volts_per_fs``, says each channel's), ``notes``.
+Other keys are kept and passed through. The captures of one measurement are
 compared on their setting (:mod:`benchnf.measure.together`).
 """
 
@@ -19,7 +21,7 @@ from typing import Any
 from ..capture import check_condition
 from ..errors import CaptureError
 
-__all__ = ["sidecar_candidates", "find_sidecar", "read_sidecar", "write_sidecar"]
+__all__ = ["sidecar_candidates", "find_sidecar", "read_sidecar", "write_sidecar", "sidecar_volts_per_fs"]
 
 # Known numeric keys and the range each must lie in (low, high, low included?).
 _RANGES: dict[str, tuple[float, float, bool]] = {
@@ -71,6 +73,13 @@ def read_sidecar(capture_path: Path) -> dict[str, Any]:
     for key in _RANGES:
         if meta.get(key) is not None:
             _check_number(path, key, meta[key])
+    per = meta.get("channel_volts_per_fs")
+    if per is not None:
+        if not isinstance(per, dict) or not all(isinstance(k, str) and k.isdigit() for k in per):
+            raise CaptureError(f"sidecar {path}: channel_volts_per_fs must map channel numbers (\"0\", \"1\", ...) "
+                               f"to volts per full scale")
+        for k, v in per.items():
+            _check_number(path, "volts_per_fs", v)
     channel = meta.get("channel")
     if channel is not None and not (isinstance(channel, int) and not isinstance(channel, bool) and channel >= 0):
         raise CaptureError(f"sidecar {path}: channel={channel!r} must be a whole number >= 0 (channels count "
@@ -82,3 +91,15 @@ def write_sidecar(capture_path: Path, metadata: dict[str, Any]) -> Path:
     """Write `metadata` as the sidecar of `capture_path` through the one writer; never overwrite one."""
     from ..write import Writer
     return Writer().json(sidecar_candidates(Path(capture_path))[0], metadata)
+
+
+def sidecar_volts_per_fs(meta: dict[str, Any], channel: int) -> float | None:
+    """The volts per full scale a sidecar states for `channel`: its per-channel entry where it has them, else
+    its one ``volts_per_fs``."""
+    per = meta.get("channel_volts_per_fs")
+    if per is not None:
+        value = per.get(str(channel))
+        return float(value) if value is not None else None
+    value = meta.get("volts_per_fs")
+    return float(value) if value is not None else None
+

@@ -105,7 +105,8 @@ def open_calibrated(path: Path, *, condition: str | None, channel: int | None, v
     from ..calibration import apply_calibration
     from ..io import open_capture
     cap = open_capture(path, channel=channel, condition=condition, accept_dropouts=accept_dropouts)
-    side = cap.metadata.get("volts_per_fs")
+    from ..io.sidecar import sidecar_volts_per_fs
+    side = sidecar_volts_per_fs(dict(cap.metadata), cap.channel)
     vpfs = agree("volts per full scale", [("--volts-per-fs", volts_per_fs),
                                           (calibration_name, getattr(calibration, "volts_per_fs", None)),
                                           (f"the sidecar of {Path(path).name}", side)],

@@ -167,6 +167,13 @@ def _references(req: GainMethodRequest) -> tuple[Any, ...]:
                  for c, name in req.references)
 
 
+def _sidecar_states(req: GainMethodRequest, channel: int) -> bool:
+    """Whether the terminated recording's sidecar states this input's own calibration (per channel)."""
+    from ..io.sidecar import read_sidecar
+    per = read_sidecar(Path(req.terminated[0])).get("channel_volts_per_fs") or {}
+    return str(channel) in per
+
+
 def _cross_channel(req: GainMethodRequest) -> GainMethodRequest:
     """With --cross the terminated (and tone) captures are read on the first of the two channels."""
     if not req.cross:
@@ -193,9 +200,10 @@ def _cross_setup(req: GainMethodRequest, open_one: Callable[..., Any]) -> Any:
                              "longer capture rather than repeats")
     if req.background is not None:
         distinct_files([req.terminated[0], req.background], "terminated and background")
-    if req.cross_calibration is None and req.cross_volts_per_fs is None:
+    if req.cross_calibration is None and req.cross_volts_per_fs is None and not _sidecar_states(req, b):
         raise ParameterError("--cross needs each input's calibration: calibrate the second input too and give it "
-                             "with --cross-calibration CAL.json, or state --cross-volts-per-fs V")
+                             "with --cross-calibration CAL.json, or state --cross-volts-per-fs V (or record with "
+                             "--input-calibration, so that the sidecar states each input's)")
     second = replace(req, calibration=req.cross_calibration, volts_per_fs=req.cross_volts_per_fs)
     cal_b, name_b = _calibration(second)
     open_b = _opener(second, cal_b, name_b.replace("calibration", "second input's calibration", 1), 1.0)
