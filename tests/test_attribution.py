@@ -167,3 +167,26 @@ def test_the_diagnosis_names_what_the_references_explain_first():
                                   "the rail reference")
     assert diagnose([SimpleNamespace(name="x", verdict="PASS", hint="")], [], (rail,),
                     AttributionTotal(0.18, 0.02, 32)) == ()  # nothing failed: nothing to explain
+
+
+def test_a_rail_path_through_a_known_filter_is_attributed_within_its_u(tmp_path):
+    # The rail reaches the output through a first-order 300 Hz low-pass of gain 0.3 (scipy.signal.butter, an
+    # exact digital filter): its share of the 20 Hz-20 kHz output noise is the band integral of
+    # 0.09 |H|² S_r over that of (S_own + 0.09 |H|² S_r), with |H|² from scipy.signal.freqz (INVENTED DATA).
+    rng = np.random.default_rng(15)
+    n = int(FS * 60)
+    b, a = signal.butter(1, 300 / (FS / 2))
+    rail = rng.standard_normal(n) * 3.0
+    own = rng.standard_normal(n) * 0.1
+    data = np.stack([own + 0.3 * signal.lfilter(b, a, rail), rail], 1)
+    out = Capture.from_array(data, sample_rate_hz=FS, volts_per_fs=1.0, channel=0)
+    seg = 16_384  # the analysis' default at 48 kHz: segments long against the filter's response
+    f = np.fft.rfftfreq(seg, 1 / FS)
+    w = ((f >= 20) & (f <= 20_000)).astype(float)
+    res = attribute(out, _refs(data, [1], ["rail"]), segment_length=seg, noise_weights=lambda p: w,
+                    lines_of=lambda p: [])
+    h2 = np.abs(signal.freqz(b, a, worN=f, fs=FS)[1]) ** 2
+    coupled = 0.09 * h2 * 9.0
+    truth = float(np.sum(w * coupled) / np.sum(w * (0.01 + coupled)))
+    share = res.references[0]
+    assert abs(share.fraction_of_output_power - truth) <= share.fraction_u95, (share, truth)
