@@ -258,3 +258,33 @@ def test_live_cross_spectrum_mode_measures_under_each_input(browser, bench, tmp_
     truth = 20 * np.log10(sigma * np.sqrt(2 * 19_980 / 48_000) / 0.7746)
     assert abs(level - truth) <= u + 0.1, (band, truth)
     assert "first input alone" in legend and "one bin resolves" in legend
+
+
+@loopback
+def test_live_reference_mode_shows_the_share_through_the_reference(browser, bench):
+    # Played (INVENTED DATA): channel 1 a "rail" noise; channel 0 its own noise plus half the rail, so that half
+    # of its power is coherent with channel 1 (share g² s_r² / (s_o² + g² s_r²) = 0.5).
+    import sounddevice as sd
+    rng = np.random.default_rng(32)
+
+    def source(outdata, frames, _t, _status):
+        rail = rng.normal(0.0, 2e-3, frames)
+        outdata[:] = np.column_stack([rng.normal(0.0, 1e-3, frames) + 0.5 * rail, rail]).astype(np.float32)
+    with running_desk(bench) as (_proc, url), sd.OutputStream(samplerate=48_000, channels=2, dtype="float32",
+                                                               device=DEVICE, callback=source):
+        _open(browser, url)
+        browser.find_element(By.CSS_SELECTOR, "[data-view=live]").click()
+        _wait(browser, lambda d: d.find_elements(By.CSS_SELECTOR, f"#live-device option[value='{DEVICE}']"))
+        Select(browser.find_element(By.ID, "live-device")).select_by_value(DEVICE)
+        browser.find_element(By.CSS_SELECTOR, "#live-form [name=volts_per_fs]").send_keys("1.0")
+        browser.find_element(By.CSS_SELECTOR, "#live-form [name=reference_channel]").send_keys("1")
+        browser.find_element(By.ID, "live-start").click()
+        _wait(browser, lambda d: d.find_element(By.ID, "live-plot").get_attribute("data-share"), 10.0)
+        time.sleep(3.0)
+        share = float(browser.find_element(By.ID, "live-plot").get_attribute("data-share"))
+        legend = browser.find_element(By.ID, "live-plot").text
+        caption = browser.find_element(By.ID, "live-avg").text
+        browser.find_element(By.ID, "live-stop").click()
+    assert share == pytest.approx(0.5, abs=0.03), share
+    assert "coherent with the reference" in legend and "without the reference" in legend
+    assert "% of the band noise coherent with the reference" in caption

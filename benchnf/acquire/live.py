@@ -23,7 +23,8 @@ from ..dsp.spurs import find_lines
 from ..dsp.weighting import Band
 from ..units import fs_to_dbfs, vrms_to_dbu
 
-__all__ = ["LiveSnapshot", "CrossReading", "LiveAnalyzer", "CrossLiveAnalyzer", "run_live", "referred_to_input"]
+__all__ = ["LiveSnapshot", "CrossReading", "ReferenceReading", "LiveAnalyzer", "CrossLiveAnalyzer",
+           "ReferenceLiveAnalyzer", "run_live", "referred_to_input"]
 
 
 def referred_to_input(density: np.ndarray, gain_db: float) -> np.ndarray:
@@ -44,6 +45,7 @@ class LiveSnapshot:
     weighting: str = "none"
     gain_db: float | None = None  # stated gain: then input_density and ein_rms are input-referred
     cross: "CrossReading | None" = None  # the cross-spectrum mode's extras (density is then the co-spectrum)
+    reference: "ReferenceReading | None" = None  # the reference mode's extras
 
     @property
     def input_density(self) -> np.ndarray | None:
@@ -194,6 +196,42 @@ class CrossLiveAnalyzer:
                             "V" if self.volts_per_fs else "FS", top.freq_hz if top else None,
                             top.vrms if top else None, dut.frequency_hz, dut.psd_per_hz, tuple(lines),
                             self.weighting, self.gain_db, reading)
+
+
+@dataclass(frozen=True)
+class ReferenceReading:
+    """What the reference mode adds: the output coherent with the reference channel, the output without it
+    (conditioned, bias-corrected by n / (n - 1)) and the band share that arrives through it."""
+
+    coherent_density: np.ndarray
+    conditioned_density: np.ndarray
+    band_share: float
+
+
+class ReferenceLiveAnalyzer(CrossLiveAnalyzer):
+    """The live view of an output with a reference channel (a rail probe, a mains loop): how much of the output
+    is coherent with the reference, averaged until reset (docs/cross.md, attribution by coherence)."""
+
+    def snapshot(self) -> LiveSnapshot | None:
+        if self._acc.n_averages < 2:
+            return None
+        spectra = self._acc.result(scale_x=self.volts_per_fs or 1.0, scale_y=self.second_volts_per_fs or 1.0)
+        n = spectra.dof / 2.0
+        out = spectra.s_xx
+        coherent = spectra.coherence * out
+        conditioned = np.maximum((out - coherent) * n / (n - 1.0), 0.0)
+        w = band_bin_weights(spectra.frequency_hz, self.band, weighting=self.weighting)
+        total = float(np.dot(w, out))
+        share = 1.0 - float(np.dot(w, conditioned)) / total if total > 0 else 0.0
+        psd = Psd(frequency_hz=spectra.frequency_hz, psd_per_hz=out, unit="V" if self.volts_per_fs else "FS",
+                  sample_rate_hz=self.sample_rate_hz, segment_length=self.segment_length, hop=spectra.hop,
+                  window="hann", enbw_hz=spectra.enbw_hz, n_averages=spectra.n_averages, dof=spectra.dof)
+        lines = find_lines(psd).lines if psd.n_averages >= 4 else ()
+        top = lines[0] if lines else None
+        return LiveSnapshot(self._frames / self.sample_rate_hz, math.sqrt(total), psd.unit,
+                            top.freq_hz if top else None, top.vrms if top else None, psd.frequency_hz, out,
+                            tuple(lines), self.weighting, self.gain_db, None,
+                            ReferenceReading(coherent, conditioned, share))
 
 
 def run_live(*, device: str | None, host_api: str | None, sample_rate_hz: float, volts_per_fs: float | None,

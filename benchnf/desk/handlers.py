@@ -133,6 +133,17 @@ def _number(data: dict[str, Any], key: str, *, low: float, high: float, default:
     return x
 
 
+def _second_channel(data: dict[str, Any]) -> tuple[int | None, int | None]:
+    """The live view's second channel: another input on the same output (cross-spectrum) or a reference."""
+    output = int(_number(data, "channel", low=0, high=63, default=0))
+    cross, reference = (_number(data, key, low=0, high=63) for key in ("cross_channel", "reference_channel"))
+    if cross is not None and reference is not None:
+        raise BenchError("a second input on the output or a reference channel: one at a time")
+    if output in (cross, reference):
+        raise BenchError("the second channel must be another one than the output's")
+    return (int(cross) if cross is not None else None), (int(reference) if reference is not None else None)
+
+
 def live_settings(data: dict[str, Any], folder: Any) -> Any:
     """LiveSettings from the page's form, each number checked; a calibration file read from the folder."""
     from ..dsp.weighting import WEIGHTINGS
@@ -156,12 +167,9 @@ def live_settings(data: dict[str, Any], folder: Any) -> Any:
         if gain is not None:
             raise BenchError("state a gain or take it from a result, not both")
         gain = measured.gain_db
-    cross = data.get("cross_channel")
-    cross_channel = int(_number(data, "cross_channel", low=0, high=63)) if cross not in (None, "") else None
-    if cross_channel is not None and cross_channel == int(_number(data, "channel", low=0, high=63, default=0)):
-        raise BenchError("the second input must be another channel than the first")
-    return LiveSettings(cross_channel=cross_channel, cross_volts_per_fs=_number(data, "cross_volts_per_fs", low=1e-6,
-                                                                                high=1e4),
+    cross_channel, reference_channel = _second_channel(data)
+    return LiveSettings(reference_channel=reference_channel, cross_channel=cross_channel,
+                        cross_volts_per_fs=_number(data, "cross_volts_per_fs", low=1e-6, high=1e4),
                         device=data.get("device") or None, host_api=data.get("host_api") or None,
                         rate_hz=_number(data, "rate_hz", low=1000.0, high=1e6, default=48_000.0),
                         channel=int(_number(data, "channel", low=0, high=63, default=0)), volts_per_fs=vpfs,

@@ -55,17 +55,23 @@ class LiveSettings:
     segment_length: int = 8192
     cross_channel: int | None = None  # a second input on the same output: the cross-spectrum mode
     cross_volts_per_fs: float | None = None  # that input's calibration (default: the first's)
+    reference_channel: int | None = None  # a channel carrying a suspected source: the reference mode
 
 
 class LiveFeed:
     """A running input stream and its analyzer; start() opens the device, stop() closes it."""
 
     def __init__(self, settings: LiveSettings, guard: AudioGuard) -> None:
-        from ..acquire.live import CrossLiveAnalyzer, LiveAnalyzer
+        from ..acquire.live import CrossLiveAnalyzer, LiveAnalyzer, ReferenceLiveAnalyzer
         from ..dsp.weighting import Band
         self.settings, self._guard = settings, guard
         self.analyzer: Any
-        if settings.cross_channel is None:
+        if settings.reference_channel is not None:
+            self.analyzer = ReferenceLiveAnalyzer(sample_rate_hz=settings.rate_hz,
+                                                  segment_length=settings.segment_length,
+                                                  band=Band(*settings.band_hz), volts_per_fs=settings.volts_per_fs,
+                                                  weighting=settings.weighting, gain_db=settings.gain_db)
+        elif settings.cross_channel is None:
             self.analyzer = LiveAnalyzer(sample_rate_hz=settings.rate_hz, segment_length=settings.segment_length,
                                          band=Band(*settings.band_hz), volts_per_fs=settings.volts_per_fs,
                                          weighting=settings.weighting, gain_db=settings.gain_db,
@@ -75,8 +81,8 @@ class LiveFeed:
                                               band=Band(*settings.band_hz), volts_per_fs=settings.volts_per_fs,
                                               second_volts_per_fs=settings.cross_volts_per_fs,
                                               weighting=settings.weighting, gain_db=settings.gain_db)
-        self._take = [settings.channel] if settings.cross_channel is None else [settings.channel,
-                                                                                settings.cross_channel]
+        second = settings.cross_channel if settings.reference_channel is None else settings.reference_channel
+        self._take = [settings.channel] if second is None else [settings.channel, second]
         self._blocks: queue.Queue[np.ndarray] = queue.Queue(maxsize=512)
         self._stream: Any = None
         self.overflows = 0
@@ -159,8 +165,21 @@ class LiveFeed:
             "lines": [{"freq_hz": ln.freq_hz, "rms": ln.vrms, "family": ln.family, "excess_db": ln.excess_db}
                       for ln in snap.lines[:12]],
             "averages": self.analyzer.averages, "overflows": self.overflows,
-            "cross": _cross_payload(snap, f, step),
+            "cross": _cross_payload(snap, f, step), "reference": _reference_payload(snap, step),
         }
+
+
+def _reference_payload(snap: Any, step: int) -> dict[str, Any] | None:
+    """The reference mode's extras: the output coherent with the reference, the output without it, the share."""
+    r = snap.reference
+    if r is None:
+        return None
+    coherent, conditioned = r.coherent_density, r.conditioned_density
+    if snap.gain_db is not None:
+        from ..acquire.live import referred_to_input
+        coherent, conditioned = referred_to_input(coherent, snap.gain_db), referred_to_input(conditioned, snap.gain_db)
+    return {"coherent_y": np.sqrt(coherent[1::step]).tolist(), "conditioned_y": np.sqrt(conditioned[1::step]).tolist(),
+            "band_share": r.band_share}
 
 
 def _cross_payload(snap: Any, f: np.ndarray, step: int) -> dict[str, Any] | None:

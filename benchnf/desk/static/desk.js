@@ -217,6 +217,12 @@ function drawLive() {
       {x: p.x, y: p.cross.floor_y, type: "scatter", mode: "lines", name: "one bin resolves",
       line: {color: "#8a8a8a", width: 1, dash: "dot"}});
   }
+  if (p.reference) {
+    traces.push({x: p.x, y: p.reference.coherent_y, type: "scatter", mode: "lines", name: "coherent with the reference",
+      line: {color: COLOURS[1], width: 1}},
+      {x: p.x, y: p.reference.conditioned_y, type: "scatter", mode: "lines", name: "without the reference",
+      line: {color: COLOURS[4], width: 1, dash: "dash"}});
+  }
   const div = $("#live-plot");
   if (!live.drawn) {
     drawPlot(div, {title: "", x_label: "Frequency (Hz)", y_label: `${p.referred}-referred density (${unit})`,
@@ -236,7 +242,9 @@ function drawLive() {
   $("#live-ein-cond").textContent = p.gain_db === null ? "state a gain to refer to the input"
     : `band noise through the stated ${p.gain_db.toFixed(2)} dB gain`;
   $("#live-secs").textContent = p.seconds.toFixed(1) + " s";
-  $("#live-avg").textContent = p.cross ? `cross-spectrum; one input alone reads ${fmtLevel(p.cross.own_rms, p.unit)}`
+  div.dataset.share = p.reference ? p.reference.band_share.toFixed(4) : "";
+  $("#live-avg").textContent = p.reference ? `${(100 * Math.max(p.reference.band_share, 0)).toFixed(1)} % of the band noise coherent with the reference`
+    : p.cross ? `cross-spectrum; one input alone reads ${fmtLevel(p.cross.own_rms, p.unit)}`
     : p.averages ? `running average of ${p.averages} segments` : "averaging until restarted";
   const top = p.lines[0];
   div.dataset.peakHz = top ? top.freq_hz.toFixed(1) : "";
