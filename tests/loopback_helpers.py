@@ -49,3 +49,32 @@ seconds = {seconds}
 tone_hz = 1000
 tone_input_vrms = 0.001
 '''
+
+
+def run_plan_stepping(plan, source, state, *, fs: int = 48_000, seen: list | None = None) -> int:
+    """``benchnf measure PLAN --yes`` while `source` (a sounddevice output callback) plays into the loopback;
+    ``state["mode"]`` moves on (up to 2) each time a capture has been checked, so that what is played follows
+    the plan's steps. The names of the checked captures are appended to `seen`."""
+    import time
+
+    import sounddevice as sd
+
+    import benchnf.acquire.plan as plan_mod
+    from benchnf.cli import main
+    original = plan_mod.check_capture
+
+    def checked(path, **kw):
+        if seen is not None:
+            seen.append(path.name)
+        out = original(path, **kw)
+        state["mode"] = min(state["mode"] + 1, 2)
+        time.sleep(0.5)  # let the new signal reach the monitor before the next capture starts
+        return out
+
+    plan_mod.check_capture = checked
+    try:
+        with sd.OutputStream(samplerate=fs, channels=2, dtype="float32", device=DEVICE, callback=source):
+            time.sleep(0.5)
+            return main(["measure", str(plan), "--yes"])
+    finally:
+        plan_mod.check_capture = original

@@ -19,7 +19,7 @@ import pytest
 import soundfile as sf
 
 from benchnf.cli import ExitStatus, main
-from loopback_helpers import DEVICE, loopback_missing, loopback_plan
+from loopback_helpers import DEVICE, loopback_missing, loopback_plan, run_plan_stepping
 
 FS = 48_000
 
@@ -143,8 +143,6 @@ def test_guided_plan_runs_non_interactively(tmp_path):
     plan = tmp_path / "plan.toml"
     plan.write_text(loopback_plan(seconds=2.5, out_dir=str(tmp_path / 'run'), fs=FS))
 
-    import sounddevice as sd
-    import benchnf.acquire.plan as plan_mod
     rng = np.random.default_rng(4)
     # What the loopback carries follows the plan (invented data): a floor, then a louder "DUT" noise, then
     # a 1 kHz tone over it.  The source moves on each time a capture has been checked.
@@ -157,23 +155,8 @@ def test_guided_plan_runs_non_interactively(tmp_path):
         state["n"] += frames
         outdata[:] = np.column_stack([noise, noise]).astype(np.float32)
 
-    original = plan_mod.check_capture
-    seen = []
-
-    def checked(path, **kw):
-        seen.append(path.name)
-        out = original(path, **kw)
-        state["mode"] = min(state["mode"] + 1, 2)
-        time.sleep(0.5)  # let the new signal reach the monitor before the next capture starts
-        return out
-
-    plan_mod.check_capture = checked
-    try:
-        with sd.OutputStream(samplerate=FS, channels=2, dtype="float32", device=DEVICE, callback=source):
-            time.sleep(0.5)
-            rc = main(["measure", str(plan), "--yes"])
-    finally:
-        plan_mod.check_capture = original
+    seen: list[str] = []
+    rc = run_plan_stepping(plan, source, state, fs=FS, seen=seen)
     assert rc == 0
     assert seen == ["floor.wav", "terminated.wav", "tone.wav"]
     results = json.loads((tmp_path / "run" / "results.json").read_text())

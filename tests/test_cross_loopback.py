@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 
 from benchnf.cli import main
-from loopback_helpers import DEVICE, loopback_missing
+from loopback_helpers import DEVICE, loopback_missing, run_plan_stepping
 
 FS = 48_000
 _WHY = loopback_missing()
@@ -90,9 +90,7 @@ tone_input_vrms = 0.001
 
 
 def test_a_guided_plan_measures_with_the_cross_spectrum(tmp_path, capsys):
-    import sounddevice as sd
 
-    import benchnf.acquire.plan as plan_mod
     plan = tmp_path / "plan.toml"
     plan.write_text(PLAN.format(device=DEVICE, fs=FS, out=tmp_path / "run"))
     rng = np.random.default_rng(22)
@@ -107,20 +105,7 @@ def test_a_guided_plan_measures_with_the_cross_spectrum(tmp_path, capsys):
         outdata[:] = np.column_stack([common + rng.normal(0, own, frames),
                                       common + rng.normal(0, own, frames)]).astype(np.float32)
 
-    original = plan_mod.check_capture
-
-    def checked(path, **kw):
-        out = original(path, **kw)
-        state["mode"] = min(state["mode"] + 1, 2)
-        time.sleep(0.5)
-        return out
-    plan_mod.check_capture = checked
-    try:
-        with sd.OutputStream(samplerate=FS, channels=2, dtype="float32", device=DEVICE, callback=source):
-            time.sleep(0.5)
-            rc = main(["measure", str(plan), "--yes"])
-    finally:
-        plan_mod.check_capture = original
+    rc = run_plan_stepping(plan, source, state, fs=FS)
     assert rc == 0
     assert "Split the DUT output to both inputs" in capsys.readouterr().out  # the caution is shown
     r = json.loads((tmp_path / "run" / "results.json").read_text())

@@ -225,6 +225,18 @@ def test_the_station_study_page_shows_the_study(browser, tmp_path):
     assert colours > 20 and off > 0.05
 
 
+def _start_live(browser, url, **fields):
+    """Open the live view on the loopback at 1 V per full scale, fill `fields` in, start it."""
+    _open(browser, url)
+    browser.find_element(By.CSS_SELECTOR, "[data-view=live]").click()
+    _wait(browser, lambda d: d.find_elements(By.CSS_SELECTOR, f"#live-device option[value='{DEVICE}']"))
+    Select(browser.find_element(By.ID, "live-device")).select_by_value(DEVICE)
+    browser.find_element(By.CSS_SELECTOR, "#live-form [name=volts_per_fs]").send_keys("1.0")
+    for name, value in fields.items():
+        browser.find_element(By.CSS_SELECTOR, f"#live-form [name={name}]").send_keys(value)
+    browser.find_element(By.ID, "live-start").click()
+
+
 @loopback
 def test_live_cross_spectrum_mode_measures_under_each_input(browser, bench, tmp_path):
     # Played (INVENTED DATA): a common noise (the "DUT") and, on each channel, its own noise 10 dB above it.
@@ -238,13 +250,7 @@ def test_live_cross_spectrum_mode_measures_under_each_input(browser, bench, tmp_
                                       common + rng.normal(0.0, sigma * np.sqrt(10), frames)]).astype(np.float32)
     with running_desk(bench) as (_proc, url), sd.OutputStream(samplerate=48_000, channels=2, dtype="float32",
                                                                device=DEVICE, callback=source):
-        _open(browser, url)
-        browser.find_element(By.CSS_SELECTOR, "[data-view=live]").click()
-        _wait(browser, lambda d: d.find_elements(By.CSS_SELECTOR, f"#live-device option[value='{DEVICE}']"))
-        Select(browser.find_element(By.ID, "live-device")).select_by_value(DEVICE)
-        browser.find_element(By.CSS_SELECTOR, "#live-form [name=volts_per_fs]").send_keys("1.0")
-        browser.find_element(By.CSS_SELECTOR, "#live-form [name=cross_channel]").send_keys("1")
-        browser.find_element(By.ID, "live-start").click()
+        _start_live(browser, url, cross_channel="1")
         _wait(browser, lambda d: d.find_element(By.ID, "live-plot").get_attribute("data-resolved") == "true", 20.0)
         time.sleep(3.0)  # a few more seconds of averaging
         band = browser.find_element(By.ID, "live-band").text
@@ -272,13 +278,7 @@ def test_live_reference_mode_shows_the_share_through_the_reference(browser, benc
         outdata[:] = np.column_stack([rng.normal(0.0, 1e-3, frames) + 0.5 * rail, rail]).astype(np.float32)
     with running_desk(bench) as (_proc, url), sd.OutputStream(samplerate=48_000, channels=2, dtype="float32",
                                                                device=DEVICE, callback=source):
-        _open(browser, url)
-        browser.find_element(By.CSS_SELECTOR, "[data-view=live]").click()
-        _wait(browser, lambda d: d.find_elements(By.CSS_SELECTOR, f"#live-device option[value='{DEVICE}']"))
-        Select(browser.find_element(By.ID, "live-device")).select_by_value(DEVICE)
-        browser.find_element(By.CSS_SELECTOR, "#live-form [name=volts_per_fs]").send_keys("1.0")
-        browser.find_element(By.CSS_SELECTOR, "#live-form [name=reference_channel]").send_keys("1")
-        browser.find_element(By.ID, "live-start").click()
+        _start_live(browser, url, reference_channel="1")
         _wait(browser, lambda d: d.find_element(By.ID, "live-plot").get_attribute("data-share"), 10.0)
         time.sleep(3.0)
         share = float(browser.find_element(By.ID, "live-plot").get_attribute("data-share"))

@@ -169,17 +169,20 @@ class LiveFeed:
         }
 
 
+def _shown(snap: Any, step: int, *densities: np.ndarray) -> list[list[float]]:
+    """Densities as the browser draws them: referred to the input through a stated gain, as amplitudes."""
+    from ..acquire.live import referred_to_input
+    return [np.sqrt(d[1::step] if snap.gain_db is None else referred_to_input(d[1::step], snap.gain_db)).tolist()
+            for d in densities]
+
+
 def _reference_payload(snap: Any, step: int) -> dict[str, Any] | None:
     """The reference mode's extras: the output coherent with the reference, the output without it, the share."""
     r = snap.reference
     if r is None:
         return None
-    coherent, conditioned = r.coherent_density, r.conditioned_density
-    if snap.gain_db is not None:
-        from ..acquire.live import referred_to_input
-        coherent, conditioned = referred_to_input(coherent, snap.gain_db), referred_to_input(conditioned, snap.gain_db)
-    return {"coherent_y": np.sqrt(coherent[1::step]).tolist(), "conditioned_y": np.sqrt(conditioned[1::step]).tolist(),
-            "band_share": r.band_share}
+    coherent, conditioned = _shown(snap, step, r.coherent_density, r.conditioned_density)
+    return {"coherent_y": coherent, "conditioned_y": conditioned, "band_share": r.band_share}
 
 
 def _cross_payload(snap: Any, f: np.ndarray, step: int) -> dict[str, Any] | None:
@@ -188,12 +191,9 @@ def _cross_payload(snap: Any, f: np.ndarray, step: int) -> dict[str, Any] | None
     c = snap.cross
     if c is None:
         return None
-    own, floor = c.own_density, c.resolution_density
-    if snap.gain_db is not None:
-        from ..acquire.live import referred_to_input
-        own, floor = referred_to_input(own, snap.gain_db), referred_to_input(floor, snap.gain_db)
-    return {"own_y": np.sqrt(own[1::step]).tolist(), "floor_y": np.sqrt(floor[1::step]).tolist(),
-            "own_rms": c.own_rms, "band_u95_db": c.band_u95_db, "band_upper_rms": c.band_upper_rms}
+    own, floor = _shown(snap, step, c.own_density, c.resolution_density)
+    return {"own_y": own, "floor_y": floor, "own_rms": c.own_rms, "band_u95_db": c.band_u95_db,
+            "band_upper_rms": c.band_upper_rms}
 
 
 def reference_trace(kind: str, path: Path | None, *, settings: LiveSettings, profile_mask: Any = None

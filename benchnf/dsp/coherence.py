@@ -27,13 +27,13 @@ import numpy as np
 from numpy.typing import NDArray
 
 from ..errors import MeasurementError, ParameterError
-from .psd import make_window, welch_dof, window_bin_correlation, window_enbw_bins
+from .psd import HannSegments, make_window, welch_dof
 
 __all__ = ["SpectralMatrix", "spectral_matrix"]
 
 
 @dataclass(frozen=True)
-class SpectralMatrix:
+class SpectralMatrix(HannSegments):
     """Batch sums of ``X_k* X_l`` (shape batches x K x K x bins) and what turns them into densities."""
 
     frequency_hz: NDArray[np.float64]
@@ -52,13 +52,6 @@ class SpectralMatrix:
     def dof(self) -> float:
         return welch_dof(make_window("hann", self.segment_length), self.hop, self.n_averages)
 
-    @property
-    def correlation_kernel(self) -> tuple[float, ...]:
-        return window_bin_correlation("hann", self.segment_length)
-
-    @property
-    def enbw_hz(self) -> float:
-        return window_enbw_bins(make_window("hann", self.segment_length)) * self.sample_rate_hz / self.segment_length
 
     def density(self, leave_out: int | None = None) -> NDArray[np.complex128]:
         """The K x K x bins density matrix, of all batches or of all but one."""

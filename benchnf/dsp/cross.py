@@ -35,7 +35,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from ..errors import ParameterError
-from .psd import Psd, make_window, welch_dof, window_bin_correlation, window_enbw_bins
+from .psd import HannSegments, Psd, make_window, welch_dof
 from .spectrum import WINDOW_SUPPORT_RTOL, BatchRfft, check_segmenting, require_segments, segment_means
 
 __all__ = ["CrossAccumulator", "CrossSpectra"]
@@ -44,7 +44,7 @@ _BATCH = 8  # segments transformed at once (measured fastest here: the batch's s
 
 
 @dataclass(frozen=True)
-class CrossSpectra:
+class CrossSpectra(HannSegments):
     """Averaged auto- and cross-spectral densities of two channels (one-sided, V²/Hz once scaled)."""
 
     frequency_hz: NDArray[np.float64]
@@ -103,13 +103,6 @@ class CrossSpectra:
                    segment_length=self.segment_length, hop=self.hop, window="hann", enbw_hz=self.enbw_hz,
                    n_averages=self.n_averages, dof=nu, bin_variance=var)
 
-    @property
-    def correlation_kernel(self) -> tuple[float, ...]:
-        return window_bin_correlation("hann", self.segment_length)
-
-    @property
-    def enbw_hz(self) -> float:
-        return window_enbw_bins(make_window("hann", self.segment_length)) * self.sample_rate_hz / self.segment_length
 
 
 class CrossAccumulator:

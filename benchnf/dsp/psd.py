@@ -118,6 +118,22 @@ def default_segment_length(sample_rate_hz: float) -> int:
     return int(2 ** math.ceil(math.log2(max(sample_rate_hz / 3.0, 16.0))))
 
 
+class HannSegments:
+    """What an estimate from Hann segments at 50 % overlap knows of itself (a mixin for the dataclasses that
+    carry ``segment_length`` and ``sample_rate_hz``): how its bins correlate, and its RBW."""
+
+    segment_length: int
+    sample_rate_hz: float
+
+    @property
+    def correlation_kernel(self) -> tuple[float, ...]:
+        return window_bin_correlation("hann", self.segment_length)
+
+    @property
+    def enbw_hz(self) -> float:
+        return window_enbw_bins(make_window("hann", self.segment_length)) * self.sample_rate_hz / self.segment_length
+
+
 @dataclass(frozen=True)
 class Psd:
     """A one-sided power spectral density and how it was estimated.

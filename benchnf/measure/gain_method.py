@@ -428,7 +428,9 @@ def _spectra_out(spec: Spectra, lines: Lines, fl: FloorStep, bf: BandFigures, g:
         output_variance_v4_per_hz2=spec.term.bin_variance,
         unconditioned_output_v2_per_hz=spec.attributed.unconditioned.psd_per_hz if spec.attributed else None,
         coherence=tuple(zip((a.reference for a in spec.attributed.references), spec.attributed.coherence))
-        if spec.attributed else ())
+        if spec.attributed else (),
+        first_input_v2_per_hz=spec.cross.spectra.s_xx if spec.cross else None,
+        resolution_v2_per_hz=spec.cross.spectra.resolution_floor if spec.cross else None)
 
 
 def _assemble(prep: Prepared, spec: Spectra, lines: Lines, fl: FloorStep, bf: BandFigures, g: GainEstimate, *,

@@ -111,6 +111,8 @@ class AnalysisSpectra:
     output_variance_v4_per_hz2: NDArray[np.float64] | None = None  # each bin's, for a cross-spectrum estimate
     unconditioned_output_v2_per_hz: NDArray[np.float64] | None = None  # before the references were removed
     coherence: tuple[tuple[str, NDArray[np.float64]], ...] = ()  # each reference's coherence with the output
+    first_input_v2_per_hz: NDArray[np.float64] | None = None  # cross-spectrum: the first input alone
+    resolution_v2_per_hz: NDArray[np.float64] | None = None  # cross-spectrum: the density one bin resolves
 
 
 @dataclass(frozen=True)

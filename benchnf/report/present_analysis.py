@@ -148,6 +148,7 @@ def _spot_table(r: AnalysisResult) -> Table:
     return Table("Spot values (one-third-octave band means; U: expanded, k=2, from the Welch statistics)",
                  ("f (Hz)", "input (nV/√Hz)", "U (dB)", "NF (dB)", "U (dB)", "floor margin (dB)",
                   "shorted en (nV/√Hz)"), rows,
+                 "-: not resolved in the cross-spectrum in that band" if r.cross is not None else
                  "-: not resolved above the analyzer floor in that band")
 
 
@@ -190,9 +191,13 @@ def _plots(r: AnalysisResult) -> tuple[Plot, ...]:
                 return values(np.sqrt(np.where(a[1:] >= 0, a[1:], np.nan)), _NV)
         if s.unconditioned_output_v2_per_hz is not None:
             out_traces.append(Trace("DUT output, as recorded", values(f), rt(s.unconditioned_output_v2_per_hz)))
-        out_traces.append(Trace("DUT output, as measured" if s.unconditioned_output_v2_per_hz is None else
-                                "DUT output, the references' coherent parts removed", values(f),
-                                rt(s.output_v2_per_hz)))
+        out_traces.append(Trace("DUT output, the references' coherent parts removed"
+                                if s.unconditioned_output_v2_per_hz is not None else
+                                "DUT output, cross-spectrum of the two inputs" if s.resolution_v2_per_hz is not None
+                                else "DUT output, as measured", values(f), rt(s.output_v2_per_hz)))
+        if s.first_input_v2_per_hz is not None and s.resolution_v2_per_hz is not None:
+            out_traces += [Trace("first input alone", values(f), rt(s.first_input_v2_per_hz)),
+                           Trace("one bin resolves", values(f), rt(s.resolution_v2_per_hz))]
         if s.floor_v2_per_hz is not None:
             out_traces += [Trace("analyzer floor", values(f), rt(s.floor_v2_per_hz)),
                            Trace("DUT output, floor subtracted", values(f), rt(s.output_corrected_v2_per_hz))]
