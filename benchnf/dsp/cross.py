@@ -38,7 +38,7 @@ from ..errors import ParameterError
 from .psd import HannSegments, Psd, make_window, welch_dof
 from .spectrum import WINDOW_SUPPORT_RTOL, BatchRfft, check_segmenting, require_segments, segment_means
 
-__all__ = ["CrossAccumulator", "CrossSpectra"]
+__all__ = ["CrossAccumulator", "CrossSpectra", "co_spectrum_psd"]
 
 _BATCH = 8  # segments transformed at once (measured fastest here: the batch's spectra stay in cache)
 
@@ -95,14 +95,24 @@ class CrossSpectra(HannSegments):
                 raise ParameterError("the background's cross-spectrum has other bins than the DUT's: record both "
                                      "at one sample rate and analyse them with one segment length")
             co, var = co - background.co, var + background.co_variance
-        inner = slice(1, -1)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            ratio = np.where((co[inner] > 0) & (var[inner] > 0), 2.0 * co[inner] ** 2 / var[inner], 0.0)
-        nu = float(min(max(float(np.median(ratio)), 1.0), self.dof))
-        return Psd(frequency_hz=self.frequency_hz, psd_per_hz=co, unit="V", sample_rate_hz=self.sample_rate_hz,
-                   segment_length=self.segment_length, hop=self.hop, window="hann", enbw_hz=self.enbw_hz,
-                   n_averages=self.n_averages, dof=nu, bin_variance=var)
+        return co_spectrum_psd(self.frequency_hz, co, var, sample_rate_hz=self.sample_rate_hz,
+                               segment_length=self.segment_length, hop=self.hop, n_averages=self.n_averages,
+                               dof=self.dof)
 
+
+
+def co_spectrum_psd(frequency_hz: NDArray[np.float64], co: NDArray[np.float64], var: NDArray[np.float64], *,
+                    sample_rate_hz: float, segment_length: int, hop: int, n_averages: int, dof: float) -> Psd:
+    """A co-spectrum estimate (V²/Hz) with each bin's variance as a :class:`Psd` of Hann segments; its ``dof``
+    is the median bin's equivalent ``2 C² / var`` (at least 1, at most `dof`), for the line search only."""
+    inner = slice(1, -1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = np.where((co[inner] > 0) & (var[inner] > 0), 2.0 * co[inner] ** 2 / var[inner], 0.0)
+    nu = float(min(max(float(np.median(ratio)), 1.0), dof))
+    enbw = HannSegments.enbw_of(segment_length, sample_rate_hz)
+    return Psd(frequency_hz=frequency_hz, psd_per_hz=co, unit="V", sample_rate_hz=sample_rate_hz,
+               segment_length=segment_length, hop=hop, window="hann", enbw_hz=enbw, n_averages=n_averages, dof=nu,
+               bin_variance=var)
 
 
 class CrossAccumulator:

@@ -131,7 +131,12 @@ class HannSegments:
 
     @property
     def enbw_hz(self) -> float:
-        return window_enbw_bins(make_window("hann", self.segment_length)) * self.sample_rate_hz / self.segment_length
+        return self.enbw_of(self.segment_length, self.sample_rate_hz)
+
+    @staticmethod
+    def enbw_of(segment_length: int, sample_rate_hz: float) -> float:
+        """The RBW of Hann segments of this length, Hz."""
+        return window_enbw_bins(make_window("hann", segment_length)) * sample_rate_hz / segment_length
 
 
 @dataclass(frozen=True)

@@ -112,14 +112,17 @@ class Attributed:
     coherence: tuple[NDArray[np.float64], ...]  # each reference's ordinary coherence with the output
 
 
-def _matrix(output: Capture, refs: Sequence[Reference], segment_length: int, progress: Any) -> SpectralMatrix:
-    caps = [output, *(r.capture for r in refs)]
+def _matrix(outputs: Sequence[Capture], refs: Sequence[Reference], segment_length: int,
+            progress: Any) -> SpectralMatrix:
+    """The spectral matrix of the output channel(s) (one, or two inputs on one output) and the references."""
+    output = outputs[0]
+    caps = [*outputs, *(r.capture for r in refs)]
     for r in refs:
         if r.capture.n_frames != output.n_frames or r.capture.sample_rate_hz != output.sample_rate_hz:
             raise CaptureError(f"reference {r.name!r} is not a channel of {output.label}: the references must be "
                                f"recorded with the output, in one recording")
-        if r.capture.channel == output.channel:
-            raise ParameterError(f"reference {r.name!r} is the output's own channel {output.channel}: give the "
+        if r.capture.channel in {o.channel for o in outputs}:
+            raise ParameterError(f"reference {r.name!r} is an output channel ({r.capture.channel}): give the "
                                  f"channel that carries the reference")
 
     def blocks() -> Any:
@@ -127,63 +130,71 @@ def _matrix(output: Capture, refs: Sequence[Reference], segment_length: int, pro
             if progress is not None:
                 progress(parts[0].size)
             yield np.stack(parts, axis=1)
-    scales = np.array([output.volts_per_fs_or_raise("the attribution"), *([1.0] * len(refs))])
+    scales = np.array([*(o.volts_per_fs_or_raise("the attribution") for o in outputs), *([1.0] * len(refs))])
     return spectral_matrix(blocks(), n_frames=output.n_frames, sample_rate_hz=output.sample_rate_hz,
                            segment_length=segment_length, batches=BATCHES, scales=scales)
 
 
-def _coherent(g: NDArray[np.complex128], refs: Sequence[int]) -> NDArray[np.float64]:
-    """``S_yr S_rr^-1 S_ry`` per bin for output 0 and the reference indices `refs` (empty: zero)."""
+def _coherent(g: NDArray[np.complex128], refs: Sequence[int], pair: tuple[int, int]) -> NDArray[np.complex128]:
+    """``S_ar S_rr^-1 S_rb`` per bin for the output channels ``pair = (a, b)`` and the reference indices `refs`
+    (zero without references): what a and b share through the references."""
     if not refs:
-        return np.zeros(g.shape[-1])
-    idx = list(refs)
+        return np.zeros(g.shape[-1], dtype=np.complex128)
+    idx, (a, b) = list(refs), pair
     srr = np.moveaxis(g[np.ix_(idx, idx)], -1, 0)  # (bins, q, q)
-    sry = np.moveaxis(g[idx, 0], -1, 0)  # (bins, q)
     scale = np.einsum("fii->f", srr).real / len(idx)
     srr = srr + (1e-12 * scale + 1e-300)[:, None, None] * np.eye(len(idx))  # DC: the means were removed
-    sol = np.linalg.solve(srr, sry[..., None])[..., 0]
-    return np.einsum("fq,fq->f", sry.conj(), sol).real
+    sol = np.linalg.solve(srr, np.moveaxis(g[idx, b], -1, 0)[..., None])[..., 0]
+    return np.einsum("fq,fq->f", np.moveaxis(g[idx, a], -1, 0).conj(), sol)
 
 
-def _conditioned(g: NDArray[np.complex128], refs: Sequence[int], n: float) -> NDArray[np.float64]:
-    """The output conditioned on `refs`, corrected for the estimate's bias (n - q) / n."""
-    return (g[0, 0].real - _coherent(g, refs)) * (n / (n - len(refs)))
+def _conditioned(g: NDArray[np.complex128], refs: Sequence[int], n: float,
+                 pair: tuple[int, int]) -> NDArray[np.complex128]:
+    """``S_ab|r``: the output's (co-)spectrum conditioned on `refs`, corrected for the bias (n - q) / n."""
+    a, b = pair
+    return (g[a, b] - _coherent(g, refs, pair)) * (n / (n - len(refs)))
 
 
-def _fractions(g: NDArray[np.complex128], q: int, n: float, noise_w: NDArray[np.float64],
-               lines: Sequence[tuple[int, int]]) -> NDArray[np.float64]:
-    """[total, unique_1..q, ordinary_1..q, then per line: unique_1..q] as fractions of the output power."""
-    syy = g[0, 0].real
-    everyone = list(range(1, q + 1))
-    cond_all = _conditioned(g, everyone, n)
-    parts = [syy - cond_all]
-    parts += [_conditioned(g, [j for j in everyone if j != i], n) - cond_all for i in everyone]
-    parts += [syy - _conditioned(g, [i], n) for i in everyone]
-    out = [float(np.dot(noise_w, p)) / float(np.dot(noise_w, syy)) for p in parts]
+def _fractions(g: NDArray[np.complex128], refs: Sequence[int], n: float, noise_w: NDArray[np.float64],
+               lines: Sequence[tuple[int, int]], pair: tuple[int, int]) -> NDArray[np.float64]:
+    """[total, unique_1..q, ordinary_1..q, then per line: unique_1..q] as fractions of the output power (the
+    co-spectrum's for two inputs on one output)."""
+    out_power = g[pair].real
+    everyone = list(refs)
+    cond_all = _conditioned(g, everyone, n, pair).real
+    parts = [out_power - cond_all]
+    parts += [_conditioned(g, [j for j in everyone if j != i], n, pair).real - cond_all for i in everyone]
+    parts += [out_power - _conditioned(g, [i], n, pair).real for i in everyone]
+    out = [float(np.dot(noise_w, p)) / float(np.dot(noise_w, out_power)) for p in parts]
     for lo, hi in lines:
-        total = float(syy[lo:hi + 1].sum())
-        out += [float(p[lo:hi + 1].sum()) / total for p in parts[1:q + 1]]
+        total = float(out_power[lo:hi + 1].sum())
+        out += [float(p[lo:hi + 1].sum()) / total for p in parts[1:len(everyone) + 1]]
     return np.asarray(out)
 
 
 def attribute(output: Capture, refs: Sequence[Reference], *, segment_length: int, noise_weights: Callable[[Psd], Any],
-              lines_of: Callable[[Psd], Sequence[tuple[float, int, int]]], progress: Any = None) -> Attributed:
+              lines_of: Callable[[Psd], Sequence[tuple[float, int, int]]], progress: Any = None,
+              other: Capture | None = None) -> Attributed:
     """The output conditioned on the references, and what each explains (see the module's docstring).
 
     `noise_weights(psd)` gives the band's weights with the hum lines' bins at zero, and `lines_of(psd)` the
-    hum lines ``(frequency, first bin, last bin)``, both on the unconditioned output.
+    hum lines ``(frequency, first bin, last bin)``, both on the unconditioned output. With `other` (a second
+    input on the same output) the output is the two inputs' co-spectrum, conditioned as ``S_xy|r`` with the
+    variance of a co-spectrum of the conditioned channels (``nu (n - q) / n`` degrees of freedom).
     """
-    sm = _matrix(output, refs, segment_length, progress)
-    q = len(refs)
+    outputs = [output] if other is None else [output, other]
+    sm = _matrix(outputs, refs, segment_length, progress)
+    q, pair = len(refs), ((0, 0) if other is None else (0, 1))
+    ref_idx = list(range(len(outputs), len(outputs) + q))
     g = sm.density()
     n_full = sm.dof / 2.0
-    unconditioned = _psd(sm, g[0, 0].real, sm.dof)
+    unconditioned = _output_psd(sm, g, [], n_full, pair)
     w = np.asarray(noise_weights(unconditioned), dtype=np.float64)
     lines = list(lines_of(unconditioned))
     bins = [(lo, hi) for _f, lo, hi in lines]
-    full = _fractions(g, q, n_full, w, bins)
+    full = _fractions(g, ref_idx, n_full, w, bins, pair)
     b = sm.n_batches
-    leave = np.array([_fractions(sm.density(k), q, n_full * (1 - sm.counts[k] / sm.n_averages), w, bins)
+    leave = np.array([_fractions(sm.density(k), ref_idx, n_full * (1 - sm.counts[k] / sm.n_averages), w, bins, pair)
                       for k in range(b)])
     from scipy.stats import t as student_t
     k95 = float(student_t.ppf(0.975, b - 1))  # the jackknife variance has b - 1 degrees of freedom
@@ -194,12 +205,26 @@ def attribute(output: Capture, refs: Sequence[Reference], *, segment_length: int
                        for j, (f, _lo, _hi) in enumerate(lines))
         atts.append(Attribution(ref.name, ref.capture.channel, float(full[1 + i]), float(u95[1 + i]),
                                 float(full[1 + q + i]), shares))
-    cond = _conditioned(g, list(range(1, q + 1)), n_full)
-    coherence = tuple(np.abs(g[i, 0]) ** 2 / np.maximum(g[i, i].real * g[0, 0].real, 1e-300)
-                      for i in range(1, q + 1))
-    return Attributed(conditioned=_psd(sm, cond, 2.0 * (n_full - q)), unconditioned=unconditioned,
+    coherence = tuple(np.abs(g[i, 0]) ** 2 / np.maximum(g[i, i].real * g[0, 0].real, 1e-300) for i in ref_idx)
+    return Attributed(conditioned=_output_psd(sm, g, ref_idx, n_full, pair), unconditioned=unconditioned,
                       references=tuple(atts), total=AttributionTotal(float(full[0]), float(u95[0]), b),
                       coherence=coherence)
+
+
+def _output_psd(sm: SpectralMatrix, g: NDArray[np.complex128], refs: Sequence[int], n: float,
+                pair: tuple[int, int]) -> Psd:
+    """The output conditioned on `refs` as a spectrum: a chi-square auto-spectrum (2 (n - q) degrees of
+    freedom), or for two inputs the co-spectrum with each bin's variance."""
+    q = len(refs)
+    cond = _conditioned(g, refs, n, pair)
+    if pair[0] == pair[1]:
+        return _psd(sm, cond.real, 2.0 * (n - q))
+    from ..dsp.cross import co_spectrum_psd
+    sxx, syy = (_conditioned(g, refs, n, (k, k)).real for k in pair)
+    nu = sm.dof * (n - q) / n
+    var = np.maximum(sxx * syy + cond.real ** 2 - cond.imag ** 2, 0.0) / nu
+    return co_spectrum_psd(sm.frequency_hz, cond.real, var, sample_rate_hz=sm.sample_rate_hz,
+                           segment_length=sm.segment_length, hop=sm.hop, n_averages=sm.n_averages, dof=nu)
 
 
 def _psd(sm: SpectralMatrix, density: NDArray[np.float64], dof: float) -> Psd:
@@ -228,7 +253,7 @@ def describe(total: AttributionTotal, refs: Sequence[Attribution]) -> str:
 
 
 def attributed_output(output: Capture, refs: Sequence[Reference], *, segment_length: int, band: Any, weighting: str,
-                      mains_hz: float | None, progress: Any = None) -> Attributed:
+                      mains_hz: float | None, progress: Any = None, other: Capture | None = None) -> Attributed:
     """:func:`attribute` over the analysis band's noise bins (its weighting applied, hum lines left out) and
     the hum lines found on the unconditioned output."""
     from ..dsp.integrate import band_bin_weights
@@ -244,5 +269,5 @@ def attributed_output(output: Capture, refs: Sequence[Reference], *, segment_len
         return [(ln.freq_hz, ln.bins[0], ln.bins[1]) for ln in find_lines(psd, mains_hz=mains_hz).lines
                 if band.low_hz <= ln.freq_hz <= band.high_hz]
     return attribute(output, refs, segment_length=segment_length, noise_weights=noise_weights, lines_of=lines_of,
-                     progress=progress)
+                     progress=progress, other=other)
 

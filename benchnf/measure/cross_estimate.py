@@ -29,8 +29,9 @@ from ..errors import CaptureError, MeasurementError, ParameterError
 from ..noise.floor import correlated_sum_variance
 from ..noise.uncertainty import Budget
 
-__all__ = ["CrossSetup", "CrossSummary", "CrossOutput", "check_cross_inputs", "check_multichannel", "cross_output",
-           "cross_spectra", "summarise_cross", "check_cross_resolved", "advice", "second_input_term", "WANTED_U95_DB"]
+__all__ = ["CrossSetup", "CrossSummary", "CrossOutput", "check_cross_inputs", "check_multichannel", "less_background",
+           "cross_output", "cross_spectra", "summarise_cross", "check_cross_resolved", "advice", "second_input_term",
+           "WANTED_U95_DB"]
 
 #: The uncertainty (k=2, of the band's output noise as an amplitude, Welch part) the advice aims at.
 WANTED_U95_DB = 0.5
@@ -96,9 +97,6 @@ def check_multichannel(*, cross: CrossSetup | None, references: Sequence[Any], d
     if (cross is not None or references) and detector == "qp":
         raise ParameterError("the quasi-peak meter reads one channel's waveform: it cannot take the cross-spectrum "
                              "or the reference-conditioned estimate; use --detector rms")
-    if references and cross is not None:
-        raise ParameterError("--reference-channel does not yet condition the cross-spectrum estimate: run the "
-                             "attribution without --cross")
     if references and (isinstance(terminated, (list, tuple)) and len(terminated) != 1):
         raise ParameterError("--reference-channel takes one terminated recording that holds the references too, "
                              "not repeats")
@@ -119,6 +117,17 @@ def cross_output(run: Capture, cross: CrossSetup, *, segment_length: int,
     path = cross.background[0].path if cross.background is not None else None
     return CrossOutput(spectra.dut_psd(background), spectra, background, (run.channel, other.channel),
                        str(path) if path is not None else None, other.volts_per_fs)
+
+
+def less_background(dut: Psd, background: CrossSpectra | None) -> Psd:
+    """A co-spectrum estimate less the background's co-spectrum (independent estimates: variances add)."""
+    if background is None:
+        return dut
+    from ..dsp.cross import co_spectrum_psd
+    var = dut.bin_variance if dut.bin_variance is not None else np.zeros_like(dut.psd_per_hz)
+    return co_spectrum_psd(dut.frequency_hz, dut.psd_per_hz - background.co, var + background.co_variance,
+                           sample_rate_hz=dut.sample_rate_hz, segment_length=dut.segment_length, hop=dut.hop,
+                           n_averages=dut.n_averages, dof=background.dof)
 
 
 def cross_spectra(x: Capture, y: Capture, *, segment_length: int, progress: Any = None) -> CrossSpectra:

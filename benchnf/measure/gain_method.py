@@ -18,6 +18,7 @@ See docs/method.md for every equation.
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 from collections.abc import Sequence
 from typing import Any
 
@@ -56,6 +57,7 @@ from .cross_estimate import (
     check_multichannel,
     check_cross_resolved,
     cross_output,
+    less_background,
     second_input_term,
     summarise_cross,
 )
@@ -236,15 +238,18 @@ def _prepare(*, terminated: NoiseInput | Sequence[NoiseInput], floor: NoiseInput
 def _spectra(prep: Prepared, *, progress: Progress | None, cross: CrossSetup | None = None,
              references: Sequence[Reference] = (), band: Band = Band(20.0, 20_000.0), weighting: str = "none",
              mains_hz: float | None = None) -> Spectra:
-    if references:
-        att = attributed_output(prep.runs[0], references, segment_length=prep.seg, band=band,  # type: ignore[arg-type]
-                                weighting=weighting, mains_hz=mains_hz, progress=progress)
+    att = (attributed_output(prep.runs[0], references, segment_length=prep.seg, band=band,  # type: ignore[arg-type]
+                             weighting=weighting, mains_hz=mains_hz, progress=progress,
+                             other=cross.other if cross is not None else None) if references else None)
+    if cross is not None:
+        out = cross_output(prep.runs[0], cross, segment_length=prep.seg, progress=progress)  # type: ignore[arg-type]
+        if att is not None:  # the co-spectrum conditioned on the references, less the background's
+            out = replace(out, dut=less_background(att.conditioned, out.background))
+        return Spectra(runs=[out.dut], term=out.dut, floor=None, short=None, cross=out, attributed=att)
+    if att is not None:
         p_floor = capture_psd(prep.floor, segment_length=prep.seg, progress=progress) if prep.floor else None
         p_short = capture_psd(prep.shorted, segment_length=prep.seg, progress=progress) if prep.shorted else None
         return Spectra(runs=[att.conditioned], term=att.conditioned, floor=p_floor, short=p_short, attributed=att)
-    if cross is not None:
-        out = cross_output(prep.runs[0], cross, segment_length=prep.seg, progress=progress)  # type: ignore[arg-type]
-        return Spectra(runs=[out.dut], term=out.dut, floor=None, short=None, cross=out)
     p_runs = [capture_psd(r, segment_length=prep.seg, progress=progress) for r in prep.runs]
     p_term = pool_psds(p_runs)
     p_floor = capture_psd(prep.floor, segment_length=prep.seg, progress=progress) if prep.floor is not None else None
