@@ -3,8 +3,8 @@ benchnf/measure/attribution.py). INVENTED DATA: seeded noise of known truth.
 
 Outside checks: the spectral matrix against scipy.signal.csd and scipy.signal.coherence (PyPI, the reference
 implementation); the conditioned (partial) spectra against a hand computation from their definitions for two
-correlated references (Bendat and Piersol, Random Data, 4th ed., 2010, §7.3); the stated U of a share against
-the scatter seen over seeds.
+correlated references (Bendat and Piersol, Random Data, 4th ed., 2010, §7.3 (section from memory)); the
+stated U of a share against the scatter seen over seeds.
 """
 
 from __future__ import annotations

@@ -2,7 +2,7 @@
 known truth). Two channels see a common white noise (the DUT) and each its own, 0, 10 and 20 dB above it
 (the second channel 3.5 dB louder than the first); the band power of the averaged co-spectrum with its
 standard uncertainty from var C = (Sxx Syy + C² - Q²) / nu (Bendat and Piersol, Random Data, 4th ed.,
-§9.2.2) and the window's bin correlation must cover the truth at k=2 in 93-97 % of 600 seeds, the
+§9.2.2 (section from memory)) and the window's bin correlation must cover the truth at k=2 in 93-97 % of 600 seeds, the
 scatter over seeds being 0.9-1.1 times the stated standard uncertainty (the targets of issue 21)."""
 
 import numpy as np

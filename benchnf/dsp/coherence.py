@@ -7,7 +7,7 @@ For channels ``x_1..x_K`` and Hann-windowed, mean-removed segment transforms ``X
 form a Hermitian K x K matrix per bin. The sums are kept per batch of consecutive segments, so that a
 figure computed from the whole matrix can be recomputed with one batch left out (the delete-one-group
 jackknife gives its standard uncertainty without a formula for each nonlinear figure: Efron and Tibshirani,
-An Introduction to the Bootstrap, 1993, ch. 11; Bendat and Piersol, Random Data, 4th ed., 2010, §9.3, for
+An Introduction to the Bootstrap, 1993, ch. 11; Bendat and Piersol, Random Data, 4th ed., 2010, §9.3 (section from memory), for
 the same idea in spectral estimates). Conditioning on some channels and coherence are in
 :mod:`benchnf.measure.attribution`.
 

@@ -13,7 +13,7 @@ co-spectrum's variance is
 
     var(Ĉ) = (S_xx S_yy + C² - Q²) / (2 m)
 
-(Bendat and Piersol, *Random Data*, 4th ed., §9.2.2, the variance of the co-spectrum estimate), written
+(Bendat and Piersol, *Random Data*, 4th ed., §9.2.2 (section from memory), the variance of the co-spectrum estimate), written
 here with the Welch equivalent degrees of freedom ``ν`` of overlapping Hann segments in place of ``2 m``.
 Neighbouring bins correlate as in the single-channel estimate (the window's kernel). The coherence is
 ``γ² = |S_xy|² / (S_xx S_yy)``.

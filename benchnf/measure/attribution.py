@@ -2,11 +2,11 @@
 them (the DUT's own noise with the references' contributions removed).
 
 With the output ``y`` and q references ``r`` (a probe on the supply rail through a blocking capacitor, a
-mains pick-up loop) recorded together, per bin (Bendat and Piersol, *Random Data*, 4th ed., 2010, §7.3):
+mains pick-up loop) recorded together, per bin (Bendat and Piersol, *Random Data*, 4th ed., 2010, §7.3 (section from memory)):
 
 - the part of the output coherent with all references, ``S_y:r = S_yr S_rr^-1 S_ry``, and the conditioned
   output ``S_yy|r = S_yy - S_y:r``; the estimate of the conditioned spectrum from n averages is biased low by
-  ``(n - q) / n`` and is corrected by its inverse (ibid. §9.3.4, with n = nu / 2 for Welch's nu);
+  ``(n - q) / n`` and is corrected by its inverse (ibid. §9.3.4 (section from memory), with n = nu / 2 for Welch's nu);
 - one reference's ordinary coherent output ``gamma^2_iy S_yy``, and its part not shared with the other
   references, ``S_yy|(r without i) - S_yy|r`` (the conditioned spectra separate sources that are partly
   coherent with each other);

@@ -9,7 +9,7 @@ own noise, the time more recording needs for a wanted uncertainty). Equations: d
 References
 ----------
 .. [1] E. Rubiola and F. Vernotte, "The cross-spectrum experimental method", arXiv:1003.0113 (2010).
-.. [2] J. S. Bendat and A. G. Piersol, Random Data, 4th ed., Wiley 2010, §9.2 (variance of the co-spectrum).
+.. [2] J. S. Bendat and A. G. Piersol, Random Data, 4th ed., Wiley 2010, §9.2 (section from memory) (variance of the co-spectrum).
 """
 
 from __future__ import annotations

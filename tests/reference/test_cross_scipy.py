@@ -1,6 +1,6 @@
 """The two-channel cross-spectrum (benchnf/dsp/cross.py) against scipy.signal.csd, welch and coherence
 (PyPI, the reference implementation), and its co-spectrum variance against the scatter seen over seeds
-(Bendat and Piersol, Random Data, 4th ed., §9.2.2: var C = (Sxx Syy + C² - Q²) / (2 m)). Signals are seeded
+(Bendat and Piersol, Random Data, 4th ed., §9.2.2 (section from memory): var C = (Sxx Syy + C² - Q²) / (2 m)). Signals are seeded
 noise of known truth (INVENTED DATA)."""
 
 import numpy as np
