@@ -288,3 +288,26 @@ def test_live_reference_mode_shows_the_share_through_the_reference(browser, benc
     assert share == pytest.approx(0.5, abs=0.03), share
     assert "coherent with the reference" in legend and "without the reference" in legend
     assert "% of the band noise coherent with the reference" in caption
+
+
+def test_a_cross_spectrum_result_with_a_reference_shows_where_the_noise_comes_from(browser, tmp_path):
+    # A two-input recording with a rail channel (INVENTED DATA, test_attribution's generator), analysed with
+    # --cross and --reference-channel into the desk's folder: its view re-runs the analysis for its spectra and
+    # shows the attribution table and the coherence plot.
+    from benchnf.cli import main
+    from test_attribution import _cross_with_rail
+    folder = tmp_path / "bench"
+    folder.mkdir()
+    _cross_with_rail(folder / "split.wav", 16)
+    assert main(["analyze", "--terminated", str(folder / "split.wav"), "--cross", "--cross-volts-per-fs", "1e-2",
+                 "--volts-per-fs", "1e-2", "--reference-channel", "2=rail", "--gain-db", "40", "--rs", "200",
+                 "--temperature-k", "290", "--json", str(folder / "cross.json"), "--quiet"]) == 0
+    with running_desk(folder, "--open", "cross.json") as (_proc, url):
+        _open(browser, url)
+        _wait(browser, lambda d: d.find_element(By.ID, "result").get_attribute("data-ready"))
+        _wait(browser, lambda d: d.find_elements(By.ID, "plot-coherence"), 30.0)
+        text = browser.find_element(By.ID, "result").text
+        browser.save_screenshot(str(tmp_path / "cross_result.png"))
+    print(f"screenshot {tmp_path / 'cross_result.png'}")
+    assert "Where the output noise comes from" in text and "rail" in text
+    assert "cross-spectrum of channels 0 and 1" in text

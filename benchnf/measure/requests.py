@@ -237,6 +237,8 @@ def request_from_result(result: Any, *, locate: Callable[[str, str], Path]) -> G
     return GainMethodRequest(
         cross=cross is not None, cross_channels=tuple(cross.channels) if cross is not None else None,
         references=tuple((a.channel, a.reference) for a in (result.attribution or ())),
+        # Without a tone capture the gain was stated: state it again, where it held.
+        gain_db=result.gain_db if "tone" not in named else None, gain_frequency_hz=result.gain_frequency_hz,
         cross_volts_per_fs=cross.second_volts_per_fs if cross is not None else None,
         background=one("background"),
         terminated=tuple(locate("terminated", n) for n in named["terminated"]), floor=one("floor"),
