@@ -27,7 +27,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from ..errors import MeasurementError, ParameterError
-from .psd import HannSegments, make_window, welch_dof
+from .psd import HannSegments, make_window, one_sided_scale, welch_dof
 
 __all__ = ["SpectralMatrix", "spectral_matrix"]
 
@@ -111,10 +111,7 @@ def spectral_matrix(blocks: Iterable[NDArray[np.float64]], *, n_frames: int, sam
         tail = data[m * hop:]
     if sums is None or done == 0:
         raise MeasurementError("no analysis segment could be read from the recording")
-    norm = np.full(n // 2 + 1, 2.0 / (sample_rate_hz * float(np.dot(window, window))))
-    norm[0] /= 2.0
-    if n % 2 == 0:
-        norm[-1] /= 2.0
+    norm = one_sided_scale(n, sample_rate_hz, window)
     if sums.shape[1] < 2:
         raise ParameterError("the spectral matrix needs at least two channels")
     freq = np.asarray(np.fft.rfftfreq(n, 1.0 / sample_rate_hz), dtype=np.float64)

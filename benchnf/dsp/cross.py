@@ -35,7 +35,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from ..errors import ParameterError
-from .psd import HannSegments, Psd, make_window, welch_dof
+from .psd import HannSegments, Psd, make_window, one_sided_scale, welch_dof
 from .spectrum import WINDOW_SUPPORT_RTOL, BatchRfft, check_segmenting, require_segments, segment_means
 
 __all__ = ["CrossAccumulator", "CrossSpectra", "co_spectrum_psd"]
@@ -216,10 +216,7 @@ class CrossAccumulator:
         self._flush()
         require_segments(self._count, self.segment_length, self.sample_rate_hz)
         n = self.segment_length
-        norm = np.full(n // 2 + 1, 2.0 / (self._count * self.sample_rate_hz * float(np.dot(self.window, self.window))))
-        norm[0] /= 2.0
-        if n % 2 == 0:
-            norm[-1] /= 2.0
+        norm = one_sided_scale(n, self.sample_rate_hz, self.window) / self._count
         sxx = self._sxx.reshape(-1, 2).sum(axis=1)
         syy = self._syy.reshape(-1, 2).sum(axis=1)
         sxy = self._sxy

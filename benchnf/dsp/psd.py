@@ -118,6 +118,16 @@ def default_segment_length(sample_rate_hz: float) -> int:
     return int(2 ** math.ceil(math.log2(max(sample_rate_hz / 3.0, 16.0))))
 
 
+def one_sided_scale(segment_length: int, sample_rate_hz: float, window: NDArray[np.float64]) -> NDArray[np.float64]:
+    """Per bin, what turns one segment's ``X_k* X_l`` into a one-sided density: ``2 / (fs sum w^2)``, not
+    doubled at DC nor, for an even length, at Nyquist (scipy.signal.welch and csd's convention)."""
+    scale = np.full(segment_length // 2 + 1, 2.0 / (sample_rate_hz * float(np.dot(window, window))))
+    scale[0] /= 2.0
+    if segment_length % 2 == 0:
+        scale[-1] /= 2.0
+    return scale
+
+
 class HannSegments:
     """What an estimate from Hann segments at 50 % overlap knows of itself (a mixin for the dataclasses that
     carry ``segment_length`` and ``sample_rate_hz``): how its bins correlate, and its RBW."""
