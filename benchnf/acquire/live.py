@@ -177,7 +177,7 @@ class CrossLiveAnalyzer:
         self._frames += pair.shape[0]
 
     def snapshot(self) -> LiveSnapshot | None:
-        from ..noise.floor import correlated_sum_variance
+        from ..noise.floor import band_std
         if self._acc.n_averages < 2:
             return None
         spectra = self._acc.result(scale_x=self.volts_per_fs or 1.0, scale_y=self.second_volts_per_fs or 1.0)
@@ -185,7 +185,7 @@ class CrossLiveAnalyzer:
         w = band_bin_weights(dut.frequency_hz, self.band, weighting=self.weighting)
         power = float(np.dot(w, dut.psd_per_hz))
         variance = dut.bin_variance if dut.bin_variance is not None else np.zeros_like(w)
-        std = math.sqrt(correlated_sum_variance(w * np.sqrt(variance), dut.correlation_kernel))
+        std = band_std(w, variance, dut.correlation_kernel)
         resolved = power > 3.0 * std
         lines = find_lines(dut).lines if resolved and dut.n_averages >= 4 else ()
         top = lines[0] if lines else None

@@ -26,7 +26,7 @@ from ..capture import Capture
 from ..dsp.cross import CrossSpectra
 from ..dsp.spectrum import Psd
 from ..errors import CaptureError, MeasurementError, ParameterError
-from ..noise.floor import correlated_sum_variance
+from ..noise.floor import band_std
 from ..noise.uncertainty import Budget
 
 __all__ = ["CrossSetup", "CrossSummary", "CrossOutput", "check_cross_inputs", "check_multichannel", "less_background",
@@ -142,10 +142,6 @@ def cross_spectra(x: Capture, y: Capture, *, segment_length: int, progress: Any 
     return acc.result(scale_x=vx, scale_y=vy)
 
 
-def _band_std(w: NDArray[np.float64], variance: NDArray[np.float64], kernel: tuple[float, ...]) -> float:
-    return math.sqrt(correlated_sum_variance(w * np.sqrt(variance), kernel))
-
-
 def check_cross_resolved(dut: Psd, w: NDArray[np.float64], clean: NDArray[np.float64],
                          variance: NDArray[np.float64], *, what: str) -> None:
     """Refuse a band whose cross-spectrum estimate lies within three standard deviations of zero (the DUT
@@ -155,7 +151,7 @@ def check_cross_resolved(dut: Psd, w: NDArray[np.float64], clean: NDArray[np.flo
     ------
     MeasurementError
     """
-    power, std = float(np.dot(w, clean)), _band_std(w, variance, dut.correlation_kernel)
+    power, std = float(np.dot(w, clean)), band_std(w, variance, dut.correlation_kernel)
     if power > 3.0 * std:
         return
     hop_s = dut.hop / dut.sample_rate_hz
@@ -173,7 +169,7 @@ def summarise_cross(out: CrossOutput, w: NDArray[np.float64], clean: NDArray[np.
     used = w > 0
     kernel = dut.correlation_kernel
     power = float(np.dot(w, clean))
-    rel = _band_std(w, variance, kernel) / power
+    rel = band_std(w, variance, kernel) / power
     wanted_rel = WANTED_U95_DB / (20.0 / math.log(10.0))  # U(k=2) of an amplitude = 2 * 8.686 * rel / 2 dB
     more = max(dut.n_averages * ((rel / wanted_rel) ** 2 - 1.0), 0.0) * dut.hop / dut.sample_rate_hz
     nx = float(np.dot(w, spectra.s_xx)) - power
@@ -182,7 +178,7 @@ def summarise_cross(out: CrossOutput, w: NDArray[np.float64], clean: NDArray[np.
     bg = bg_upper = None
     if background is not None:
         bg_power = float(np.dot(w, background.co))
-        bg_std = _band_std(w, background.co_variance, kernel)
+        bg_std = band_std(w, background.co_variance, kernel)
         bg = math.sqrt(bg_power) if bg_power > 2.0 * bg_std else None
         bg_upper = math.sqrt(max(bg_power, 0.0) + 2.0 * bg_std)
     return CrossSummary(channels=channels, averages=spectra.n_averages,

@@ -31,7 +31,7 @@ from numpy.typing import ArrayLike, NDArray
 from ..errors import FloorMarginWarning, MeasurementError
 from ..units import power_db
 
-__all__ = ["floor_correction_db", "subtract_floor", "FloorSubtraction", "band_relative_std",
+__all__ = ["floor_correction_db", "subtract_floor", "FloorSubtraction", "band_relative_std", "band_std",
            "check_band_margin", "LOW_MARGIN_DB"]
 
 #: Below this margin a floor-corrected value is flagged as uncertain.
@@ -100,6 +100,13 @@ def correlated_sum_variance(a: ArrayLike, correlation: Sequence[float]) -> float
     return total
 
 
+def band_std(weights: ArrayLike, variance: ArrayLike, correlation: Sequence[float]) -> float:
+    """Standard deviation of a band sum ``sum_k w_k S_k`` whose bins have the stated `variance` each and
+    correlate by lag as `correlation` (see :func:`band_relative_std`)."""
+    w = np.asarray(weights, dtype=np.float64)
+    return math.sqrt(correlated_sum_variance(w * np.sqrt(np.asarray(variance, dtype=np.float64)), correlation))
+
+
 def band_relative_std(weights: ArrayLike, density: ArrayLike, *, dof: float, correlation: Sequence[float],
                       variance: ArrayLike | None = None) -> float:
     """Relative standard deviation of a Welch band power ``sum_k w_k S_k``.
@@ -130,8 +137,7 @@ def band_relative_std(weights: ArrayLike, density: ArrayLike, *, dof: float, cor
     if not total > 0:
         return np.inf
     if variance is not None:
-        return math.sqrt(correlated_sum_variance(w * np.sqrt(np.asarray(variance, dtype=np.float64)),
-                                                 correlation)) / total
+        return band_std(w, variance, correlation) / total
     return math.sqrt(2.0 / dof * correlated_sum_variance(ws, correlation)) / total
 
 
