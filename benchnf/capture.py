@@ -131,6 +131,20 @@ class Capture:
         """Return a copy with some fields changed (e.g. ``volts_per_fs``, ``channel``)."""
         return dataclasses.replace(self, **changes)
 
+    def window(self, start: int, stop: int) -> "Capture":
+        """Frames `start` to `stop` as a capture of their own (a state of a switched recording)."""
+        if not 0 <= start < stop <= self.n_frames:
+            raise ParameterError(f"frames {start} to {stop} lie outside {self.label} ({self.n_frames} frames)")
+        parent = self._reader
+        if parent is None:
+            raise CaptureError(f"{self.label} has no samples attached")
+
+        def reader(block_frames: int, ch: int, into: BlockSink | None, first: int,
+                   last: int) -> Iterator[NDArray[np.float64]]:
+            return parent(block_frames, ch, into, first + start, last + start)
+
+        return dataclasses.replace(self, n_frames=stop - start, _reader=reader)
+
     # -- reading --------------------------------------------------------------------
     @property
     def duration_s(self) -> float:

@@ -197,6 +197,10 @@ def positive_seconds(text: str) -> float:
     return _number(text, "a duration > 0 s", lambda v: v > 0, ("s",))
 
 
+def non_negative_seconds(text: str) -> float:
+    return _number(text, "a duration >= 0 s", lambda v: v >= 0, ("s",))
+
+
 def channel_count(text: str) -> int:
     return _integer(text, "a number of channels (1, 2, ...)", lambda v: 1 <= v <= 64,
                     " is not a number of channels from 1 to 64")

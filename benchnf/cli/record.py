@@ -15,7 +15,7 @@ from ._common import (
     progress,
     say_rate_note,
 )
-from ._types import channel_count, positive_seconds, resistor_kelvin, source_ohm
+from ._types import channel_count, positive_hz, positive_seconds, resistor_kelvin, source_ohm
 from .status import ExitStatus
 
 
@@ -24,10 +24,18 @@ def add_parser(sub: Any) -> None:
                        description="Streams to a WAV (RF64 past 2 GiB) whose header is kept valid, checks "
                                    "overflows and the clock, and writes a sidecar; never overwrites.")
     device_options(p)
+    p.set_defaults(rate=None)
+    p.add_argument("--sdr", metavar="ADDRESS",
+                   help="record IQ from a receiver instead of the sound card: rtl_tcp://HOST:PORT, or rtlsdr://0 "
+                        "for one on this computer (needs 'benchnf[sdr]'); writes a SigMF recording")
+    p.add_argument("--centre-hz", type=positive_hz, metavar="F", help="--sdr: the receiver's centre frequency")
+    p.add_argument("--gain", metavar="DB", help="--sdr: the tuner's fixed gain in dB (automatic gain is refused)")
+    p.add_argument("--ppm", type=int, default=0, metavar="N", help="--sdr: frequency correction, ppm (0)")
     p.add_argument("--seconds", type=positive_seconds, required=True, metavar="S")
     p.add_argument("--channels", type=channel_count, default=1, metavar="N")
     p.add_argument("--condition", required=True, choices=["floor", "shorted", "terminated", "tone", "hot", "cold",
-                                                           "tap", "reference"])
+                                                           "switched", "tap", "reference"],
+                   help="what the input sees; 'switched': a noise source switched on and off during the recording")
     p.add_argument("--rs", type=source_ohm, metavar="OHM", help="source resistance, for the sidecar (0 = shorted)")
     p.add_argument("--temperature-k", type=resistor_kelvin, metavar="K", help="resistor temperature, for the sidecar")
     calibration_options(p)
@@ -40,6 +48,9 @@ def add_parser(sub: Any) -> None:
 
 
 def run(args: argparse.Namespace, writer: Writer) -> int:
+    if args.sdr is not None:
+        return _run_sdr(args, writer)
+    args.rate = args.rate or 48_000.0
     from ..acquire.record import record_to_file
     from ..io.sidecar import sidecar_candidates
     for p in (args.output, *sidecar_candidates(args.output)):
@@ -71,6 +82,35 @@ def run(args: argparse.Namespace, writer: Writer) -> int:
     if rep.dropouts:
         print("benchnf: warning: the capture has dropouts: analysis will refuse it unless --accept-dropouts",
               file=sys.stderr)
+    return ExitStatus.OK
+
+
+def _run_sdr(args: argparse.Namespace, writer: Writer) -> int:
+    """``record --sdr``: IQ from a receiver into a SigMF recording."""
+    from ..acquire.sdr import SdrSettings, parse_gain
+    from ..acquire.sdr_record import record_sdr
+    from ..errors import ParameterError
+    sound_card_only = [o for o, v in (("--device", args.device), ("--host-api", args.host_api),
+                                      ("--channels", args.channels != 1), ("--calibration", args.calibration),
+                                      ("--volts-per-fs", args.volts_per_fs), ("--input-calibration",
+                                                                              args.input_calibration)) if v]
+    if sound_card_only:
+        raise ParameterError(f"{', '.join(sound_card_only)} belong to sound-card recording, not to --sdr")
+    if args.centre_hz is None or args.gain is None:
+        raise ParameterError("--sdr needs the receiver's --centre-hz F and a fixed tuner --gain DB")
+    settings = SdrSettings(args.centre_hz, args.rate or 2_400_000.0, parse_gain(args.gain), args.ppm)
+    with progress(int(args.seconds * settings.rate_hz), quiet=args.quiet, label="recording") as tick:
+        try:
+            rep = record_sdr(args.output, address=args.sdr, settings=settings, seconds=args.seconds,
+                             condition=args.condition, writer=writer, on_progress=tick)
+        except KeyboardInterrupt:
+            print(f"benchnf: interrupted; what was recorded is kept beside {args.output} (its metadata says so)",
+                  file=sys.stderr)
+            return ExitStatus.INTERRUPTED
+    print(f"{rep.samples} samples ({rep.seconds:.2f} s) from {rep.receiver} written to {rep.meta_path} and its "
+          f".sigmf-data")
+    for n in rep.notes:
+        print(f"benchnf: warning: {n}", file=sys.stderr)
     return ExitStatus.OK
 
 

@@ -16,6 +16,8 @@ from ._types import (
     non_negative_hz,
     non_negative_pct,
     positive_hz,
+    positive_seconds,
+    non_negative_seconds,
     segment_samples,
     whole_count,
 )
@@ -28,6 +30,15 @@ def add_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--cold", type=Path, nargs="+", metavar="FILE", help="capture(s) with the source cold")
     p.add_argument("--annotated", type=Path, metavar="FILE",
                    help="one SigMF recording whose annotations label hot and cold segments")
+    p.add_argument("--switched", type=Path, metavar="FILE",
+                   help="one recording while the noise source was switched on and off: hot and cold are found "
+                        "from the power steps")
+    p.add_argument("--switch-guard", type=non_negative_seconds, default=0.05, metavar="S",
+                   help="--switched: time left out at each switch (default 0.05 s)")
+    p.add_argument("--switch-shortest", type=positive_seconds, default=0.2, metavar="S",
+                   help="--switched: the shortest usable state once the switches are left out (default 0.2 s)")
+    p.add_argument("--switch-block", type=positive_seconds, metavar="S",
+                   help="--switched: the power trace's block (default 0.01 s for IQ, 0.1 s for audio)")
     p.add_argument("--cal-hot", type=Path, metavar="FILE", help="source straight into the receiver, hot")
     p.add_argument("--cal-cold", type=Path, metavar="FILE", help="source straight into the receiver, cold")
     p.add_argument("--floor", type=Path, metavar="FILE",
@@ -68,7 +79,9 @@ def add_options(p: argparse.ArgumentParser) -> None:
 def request_from_args(args: argparse.Namespace) -> Any:
     from ..measure.yfactor_request import YFactorRequest
     return YFactorRequest(
-        hot=tuple(args.hot or ()), cold=tuple(args.cold or ()), annotated=args.annotated, cal_hot=args.cal_hot,
+        hot=tuple(args.hot or ()), cold=tuple(args.cold or ()), annotated=args.annotated, switched=args.switched,
+        switch_block_s=args.switch_block, switch_guard_s=args.switch_guard, switch_shortest_s=args.switch_shortest,
+        cal_hot=args.cal_hot,
         cal_cold=args.cal_cold, floor=args.floor, enr_db=args.enr_db, enr_table=args.enr_table,
         t_hot_k=args.t_hot_k, t_hot_c=args.t_hot_c, t_cold_k=args.t_cold_k, t_cold_c=args.t_cold_c,
         enr_uncertainty_db=args.enr_uncertainty_db, temperature_uncertainty_k=args.temperature_uncertainty_k,

@@ -195,6 +195,10 @@ def open_sigmf(path: str | Path) -> IqCapture:
         total = int(len(rec.read_samples()))
     if total <= 0:
         raise CaptureError(f"{meta_path.name} holds no samples")
+    over = g.get("benchnf:overloaded_fraction", 0)
+    if isinstance(over, (int, float)) and over > 1e-4:
+        raise CaptureError(f"{meta_path.name}: {100 * over:.3f} % of its I/Q values sit at the converter's rails: the "
+                           f"receiver was overloaded, which compresses the hot state; record again with less --gain")
     _check_samples(meta_path, datatype, rec, errors)
     segments = []
     for a in rec.get_annotations():

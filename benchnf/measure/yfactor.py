@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
@@ -34,6 +34,7 @@ from ..noise.yfactor import (
 )
 from ..units import T0_K, power_db
 from .physics import check_noise_factor
+from .yfactor_checks import Y_CAUSES, check_calibration_pair, receiver_notes, refuse_quantisation
 from .yfactor_result import YExcluded, YFactorResult, YFiles, YLoss, YRepeats, YRow
 from .yfactor_model import (
     Model,
@@ -43,12 +44,14 @@ from .yfactor_model import (
     evaluate_budgets,
     open_pairs,
     other_budgets,
+    quantisation_density,
     state_spectrum,
     subbands,
     usable_mask,
 )
 
-__all__ = ["HotColdSource", "Loss", "analyze_yfactor", "SCHEMA_VERSION"]
+__all__ = ["HotColdSource", "Loss", "StateSpectra", "analyze_yfactor", "yfactor_of_spectra", "pair_figures",
+           "SCHEMA_VERSION"]
 
 SCHEMA_VERSION = "1"
 _COMPRESSION_DBFS = -15.0
@@ -132,7 +135,7 @@ def analyze_yfactor(*, hot: Source | Sequence[Source], cold: Source | Sequence[S
                     spot_hz: Sequence[float] = (), loss_before: Loss | None = None,
                     loss_after: Loss | None = None, dc_exclude_hz: float | None = None,
                     edge_fraction: float = 0.1, assumptions: Sequence[str] = (),
-                    progress: Callable[[int], None] | None = None) -> YFactorResult:
+                    progress: Callable[[int], None] | None = None, switching: Any = None) -> YFactorResult:
     """Noise figure, noise temperature and gain of a DUT by the Y-factor method.
 
     Parameters
@@ -165,6 +168,9 @@ def analyze_yfactor(*, hot: Source | Sequence[Source], cold: Source | Sequence[S
         IQ only: half-width excluded around the centre (default the larger of
         3 bins and 0.5 % of the span) and the fraction of each half-span
         excluded at the edges (0.1).
+    switching : Switching, optional
+        The states of one switched recording that `hot` and `cold` were cut from: the result then names
+        them (``segments``), each pair's figures (``pairs``) and the power trace.
 
     Raises
     ------
@@ -181,19 +187,35 @@ def analyze_yfactor(*, hot: Source | Sequence[Source], cold: Source | Sequence[S
     if corrected and (cal_hot is None or cal_cold is None):
         raise ParameterError("the calibration pair needs both --cal-hot and --cal-cold")
     first = _check_states([*hot_l, *cold_l, cal_hot, cal_cold, floor])
-    notes: list[str] = list(assumptions)
+    notes: list[str] = list(assumptions) + receiver_notes([*hot_l, *cold_l, cal_hot, cal_cold, floor])
     sp = _state_spectra(hot_l, cold_l, cal_hot=cal_hot, cal_cold=cal_cold, floor=floor,
                         seg=_segment(first, segment_length), progress=progress, notes=notes)
+    files = YFiles(tuple(_p(h) for h in hot_l), tuple(_p(c) for c in cold_l), _p(cal_hot), _p(cal_cold), _p(floor))
+    return yfactor_of_spectra(sp, first=first, source=source, band=band, n_rows=n_rows, spot_hz=spot_hz,
+                              loss_before=loss_before, loss_after=loss_after, dc_exclude_hz=dc_exclude_hz,
+                              edge_fraction=edge_fraction, files=files, notes=notes, switching=switching)
+
+
+def yfactor_of_spectra(sp: "StateSpectra", *, first: Source, source: HotColdSource, band: Band | None = None,
+                       n_rows: int = 16, spot_hz: Sequence[float] = (), loss_before: Loss | None = None,
+                       loss_after: Loss | None = None, dc_exclude_hz: float | None = None,
+                       edge_fraction: float = 0.1, files: YFiles | None = None, notes: list[str] | None = None,
+                       switching: Any = None) -> YFactorResult:
+    """The Y-factor figures from the states' spectra (:func:`analyze_yfactor` after its spectra; the live
+    view's pairs). `first` is a capture of the recording's kind, rate and centre (its samples are not read)."""
+    notes = [] if notes is None else notes
+    corrected = sp.cal_hot is not None
     f = sp.hot.frequency_hz
     excluded: dict[str, Any] = {}
     usable = usable_mask(f, first, dc_exclude_hz, edge_fraction, excluded)
     band = _headline_band(f, first, band, usable, source)
+    quantum = quantisation_density(first)
 
     def evaluate(b: Band) -> tuple[Powers, Model] | None:
         w = band_bin_weights(f, b) * usable
         if not np.any(w > 0):
             return None
-        pw = band_powers(w, sp.hot, sp.cold, sp.floor, sp.cal_hot, sp.cal_cold)
+        pw = band_powers(w, sp.hot, sp.cold, sp.floor, sp.cal_hot, sp.cal_cold, quantum=quantum)
         centre = math.sqrt(b.low_hz * b.high_hz) if b.low_hz > 0 else (b.low_hz + b.high_hz) / 2
         return pw, Model(source, centre, loss_before, loss_after, corrected)
 
@@ -202,21 +224,46 @@ def analyze_yfactor(*, hot: Source | Sequence[Source], cold: Source | Sequence[S
     width = band.width_hz / n_rows
     spots = tuple(_row(evaluate(Band(max(x - width / 2, 0.0), x + width / 2)), source, corrected,
                        Band(max(x - width / 2, 0.0), x + width / 2), label=x) for x in spot_hz)
-    repeats = _pair_repeats(sp, band_bin_weights(f, band) * usable, head.model, notes)
-    if not corrected and floor is None:
+    w_band = band_bin_weights(f, band) * usable
+    repeats = _pair_repeats(sp, w_band, head.model, notes)
+    if not corrected and sp.floor is None:
         notes.append("no calibration pair: the figures are of the DUT and the receiver together (system "
                      "noise figure); give --cal-hot/--cal-cold for the DUT alone and its gain")
     elif not corrected:
         notes.append("the receiver's own noise was removed by subtracting its floor in linear power; "
                      "without a calibration pair there is no gain figure")
-    files = YFiles(tuple(_p(h) for h in hot_l), tuple(_p(c) for c in cold_l), _p(cal_hot), _p(cal_cold), _p(floor))
-    return _assemble(head, sp, source=source, corrected=corrected, floor=floor, band=band, first=first,
-                     excluded=excluded, loss_before=loss_before, loss_after=loss_after, rows=rows, spots=spots,
-                     repeats=repeats, files=files, notes=notes)
+    switched = {}
+    if switching is not None:
+        from .yfactor_switched import switched_fields
+        switched = switched_fields(switching, pair_figures(sp, w_band, head.model, source, corrected, quantum),
+                                   first.sample_rate_hz)
+    return replace(_assemble(head, sp, source=source, corrected=corrected, floor=sp.floor, band=band, first=first,
+                             excluded=excluded, loss_before=loss_before, loss_after=loss_after, rows=rows,
+                             spots=spots, repeats=repeats, files=files or YFiles((), ()), notes=notes), **switched)
+
+
+def pair_figures(sp: "StateSpectra", w: NDArray[np.float64], model: Model, source: HotColdSource, corrected: bool,
+                 quantum: float = 0.0) -> list[tuple[float, float | None, float | None, float | None, float | None]]:
+    """Y (dB), NF, its U (k = 2), Te and gain of each hot/cold pair on its own."""
+    out = []
+    for ph, pc in zip(sp.hot_runs, sp.cold_runs):
+        pw = band_powers(w, ph, pc, sp.floor, sp.cal_hot, sp.cal_cold, quantum=quantum)
+        try:
+            y12, _f12, _f2, g1, f1 = model.factors(hot=pw.hot, cold=pw.cold, cal_hot=pw.cal_hot, cal_cold=pw.cal_cold)
+            nf_b, _g = evaluate_budgets(model, pw, source, corrected)
+            ok = f1 > 0
+            out.append((float(power_db(y12)), 10 * math.log10(f1) if ok else None, nf_b.expanded_db if ok else None,
+                        float(noise_temperature_from_factor(f1)) if ok else None,
+                        10 * math.log10(g1) if g1 and g1 > 0 else None))
+        except (ValueError, ArithmeticError):
+            out.append((math.nan, None, None, None, None))
+    return out
 
 
 @dataclass(frozen=True)
-class _StateSpectra:
+class StateSpectra:
+    """The spectra of every state: each hot/cold pair's, the pairs pooled, and the calibration pair and floor."""
+
     hot_runs: list[Psd]
     cold_runs: list[Psd]
     hot: Psd
@@ -267,22 +314,26 @@ def _segment(first: Source, segment_length: int | None) -> int:
 
 def _state_spectra(hot_l: list[Source], cold_l: list[Source], *, cal_hot: Source | None, cal_cold: Source | None,
                    floor: Source | None, seg: int, progress: Callable[[int], None] | None,
-                   notes: list[str]) -> _StateSpectra:
+                   notes: list[str]) -> StateSpectra:
     """Spectra of every state (hot/cold pairs pooled), with a note where a state may compress."""
-    hot_ps, cold_ps = [], []
+    hot_ps, cold_ps, loud = [], [], []
     for h, c in zip(hot_l, cold_l):
         ph, lvl = state_spectrum(h, seg, progress)
         pc, _ = state_spectrum(c, seg, progress)
         hot_ps.append(ph)
         cold_ps.append(pc)
         if lvl > _COMPRESSION_DBFS:
-            notes.append(f"{h.label} reaches {lvl:.1f} dBFS: the receiver or the DUT may be compressing, "
-                         f"which lowers Y and raises the NF read; lower the gain or use a lower-ENR source")
+            loud.append((h.label, lvl))
+    if loud:
+        first = loud[0][0] + (f" and {len(loud) - 1} other hot state(s)" if len(loud) > 1 else "")
+        notes.append(f"{first} reach{'es' if len(loud) == 1 else ''} {max(v for _n, v in loud):.1f} dBFS: the "
+                     f"receiver or the DUT may be compressing, which lowers Y and raises the NF read; lower the gain "
+                     f"or use a lower-ENR source")
 
     def one(x: Source | None) -> Psd | None:
         return state_spectrum(x, seg, progress)[0] if x is not None else None
     p_hot, p_cold = pool_psds(hot_ps), pool_psds(cold_ps)
-    return _StateSpectra(hot_ps, cold_ps, p_hot, p_cold, one(cal_hot), one(cal_cold), one(floor))
+    return StateSpectra(hot_ps, cold_ps, p_hot, p_cold, one(cal_hot), one(cal_cold), one(floor))
 
 
 def _headline_band(f: NDArray[np.float64], first: Source, band: Band | None, usable: NDArray[np.bool_],
@@ -313,7 +364,7 @@ def _headline(evaluated: tuple[Powers, Model] | None, band: Band, source: HotCol
     if not (pw.hot > 0 and pw.cold > 0):
         raise MeasurementError("the hot or cold power is not above the subtracted floor")
     if corrected:
-        _check_calibration_pair(pw)
+        check_calibration_pair(pw)
     y12, f12, f2, g1, f1 = model.factors(hot=pw.hot, cold=pw.cold, cal_hot=pw.cal_hot, cal_cold=pw.cal_cold)
     u_y = math.hypot(pw.u_hot, pw.u_cold)
     if y12 - 1 < 3 * u_y * y12:
@@ -322,6 +373,7 @@ def _headline(evaluated: tuple[Powers, Model] | None, band: Band, source: HotCol
     check_noise_factor(f1, math.inf, what="noise factor", causes=Y_CAUSES)  # > 0 before its logarithm
     nf_budget, gain_budget = evaluate_budgets(model, pw, source, corrected)
     check_noise_factor(f1, nf_budget.expanded_db, what="noise figure", causes=Y_CAUSES)
+    refuse_quantisation(nf_budget)
     budgets = {"noise_figure_db": nf_budget}
     if gain_budget is not None:
         budgets["gain_db"] = gain_budget
@@ -329,28 +381,7 @@ def _headline(evaluated: tuple[Powers, Model] | None, band: Band, source: HotCol
     return _Headline(pw, model, y12, f12, f2, g1, f1, budgets)
 
 
-#: What makes a Y-factor noise figure come out below 0 dB (common practice).
-Y_CAUSES = ("an ENR table for another source or in other units (or --enr-db wrong); hot and cold captures "
-            "swapped; a wrong cold temperature; a calibration pair taken at another setting than the DUT "
-            "measurement; a receiver that compresses in the hot state")
-
-
-def _check_calibration_pair(pw: Powers) -> None:
-    """Refuse a calibration pair whose Y cannot be told from 1 (three standard deviations of its scatter):
-    the receiver's own noise swamps the source, and the second-stage correction and the DUT's gain would
-    be noise."""
-    ch, cc = pw.cal_hot or 0.0, pw.cal_cold or 0.0
-    y2 = ch / cc if cc > 0 else 0.0
-    u = math.hypot(pw.u_cal_hot, pw.u_cal_cold)
-    if not (cc > 0 and y2 - 1 > 3 * u * y2):
-        shown = f"{10 * math.log10(y2):.3f} dB" if y2 > 0 else "not above the floor"
-        raise MeasurementError(f"the calibration pair cannot resolve the receiver: its Y is {shown} with a "
-                               f"scatter of {100 * u:.2f} %: the receiver's own noise swamps the source; put a "
-                               f"preamplifier of known gain before the receiver, use a hotter source (higher ENR), "
-                               f"or record the pair longer")
-
-
-def _pair_repeats(sp: _StateSpectra, w: NDArray[np.float64], model: Model, notes: list[str]) -> YRepeats | None:
+def _pair_repeats(sp: StateSpectra, w: NDArray[np.float64], model: Model, notes: list[str]) -> YRepeats | None:
     """Scatter and drift of the NF over repeated hot/cold pairs."""
     if len(sp.hot_runs) < 2:
         return None
@@ -370,7 +401,7 @@ def _pair_repeats(sp: _StateSpectra, w: NDArray[np.float64], model: Model, notes
     return repeats
 
 
-def _assemble(head: _Headline, sp: _StateSpectra, *, source: HotColdSource, corrected: bool, floor: Source | None,
+def _assemble(head: _Headline, sp: StateSpectra, *, source: HotColdSource, corrected: bool, floor: Psd | None,
               band: Band, first: Source, excluded: dict[str, Any], loss_before: Loss | None,
               loss_after: Loss | None, rows: tuple[YRow, ...], spots: tuple[YRow, ...],
               repeats: YRepeats | None, files: YFiles, notes: list[str]) -> YFactorResult:

@@ -88,9 +88,25 @@ class Powers:
     cal_cold: float | None = None
     u_cal_hot: float = 0.0
     u_cal_cold: float = 0.0
+    quantisation: float = 0.0  # the receiver's quantisation noise in the band, same units
 
 
-def band_powers(w, p_hot, p_cold, p_floor, p_ch, p_cc) -> Powers:
+def quantisation_density(src: Any) -> float:
+    """Two-sided density (FS²/Hz) of the quantisation noise of an 8-bit IQ receiver, else 0.
+
+    A uniform quantiser of step Δ adds Δ²/12 to each of I and Q (Bennett 1948; Widrow & Kollár, *Quantization
+    Noise*, 2008, ch. 4: valid while the signal spans many steps), spread evenly over the sample rate:
+    Δ²/(6 fs). SigMF reads ``cu8``/``ci8`` as (x - 128)/128, so Δ = 1/128 full scale. Wider converters are
+    left out: their term is far below the others.
+    """
+    datatype = str(getattr(src, "metadata", {}).get("datatype", ""))
+    if not (isinstance(src, IqCapture) and datatype[:3] in ("cu8", "ci8")):
+        return 0.0
+    step = 1 / 128
+    return step ** 2 / (6 * src.sample_rate_hz)
+
+
+def band_powers(w, p_hot, p_cold, p_floor, p_ch, p_cc, *, quantum: float = 0.0) -> Powers:
     def one(p: Psd | None):
         if p is None:
             return None, 0.0
@@ -109,7 +125,7 @@ def band_powers(w, p_hot, p_cold, p_floor, p_ch, p_cc) -> Powers:
     c, uc = one(p_cold)
     ch, uch = one(p_ch)
     cc, ucc = one(p_cc)
-    return Powers(h, c, uh, uc, ch, cc, uch, ucc)  # type: ignore[arg-type]
+    return Powers(h, c, uh, uc, ch, cc, uch, ucc, quantum * float(np.sum(w)))  # type: ignore[arg-type]
 
 
 class Model:
@@ -120,7 +136,12 @@ class Model:
         self.source, self.f, self.lb, self.la, self.corrected = source, f_centre, loss_before, loss_after, corrected
         self.enr0 = (float(source.enr.at(np.array([f_centre]))[0]) if source.enr is not None else None)
 
-    def factors(self, *, hot, cold, cal_hot=None, cal_cold=None, enr_db=None, t_hot=None, t_cold=None):
+    def factors(self, *, hot, cold, cal_hot=None, cal_cold=None, enr_db=None, t_hot=None, t_cold=None,
+                quantisation=0.0):
+        if quantisation:  # a share of the receiver's quantisation noise taken out of every state
+            hot, cold = hot - quantisation, cold - quantisation
+            if cal_hot is not None:
+                cal_hot, cal_cold = cal_hot - quantisation, cal_cold - quantisation
         th = (float(hot_temperature_from_enr(enr_db if enr_db is not None else self.enr0))
               if self.source.enr is not None else (t_hot if t_hot is not None else self.source.t_hot_k))
         tc = t_cold if t_cold is not None else self.source.cold_k
@@ -185,6 +206,9 @@ def budget_inputs(pw: Powers, source: Any, corrected: bool) -> dict[str, tuple[A
                         f"hot temperature +/-{source.temperature_uncertainty_k:g} K (standard)")
     inp["t_cold"] = (source.cold_k, source.temperature_uncertainty_k,
                      f"cold temperature +/-{source.temperature_uncertainty_k:g} K (standard)")
+    if pw.quantisation > 0:  # not corrected: its whole power is the half-width of a rectangle (GUM 4.3.7)
+        inp["quantisation"] = (0.0, pw.quantisation / math.sqrt(3),
+                               "8-bit quantisation noise, not corrected (rectangular, +/- its whole power)")
     return inp
 
 

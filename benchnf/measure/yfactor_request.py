@@ -22,6 +22,10 @@ class YFactorRequest:
     hot: tuple[Path, ...] = ()
     cold: tuple[Path, ...] = ()
     annotated: Path | None = None
+    switched: Path | None = None  # one recording with the source switched on and off
+    switch_block_s: float | None = None
+    switch_guard_s: float = 0.05
+    switch_shortest_s: float = 0.2
     cal_hot: Path | None = None
     cal_cold: Path | None = None
     floor: Path | None = None
@@ -60,17 +64,26 @@ def _kelvin(k: float | None, c: float | None) -> float | None:
     return k if k is not None else (c + _ZERO_C_K if c is not None else None)
 
 
-def _states(req: YFactorRequest) -> tuple[list[Any], list[Any]]:
+def _states(req: YFactorRequest) -> tuple[list[Any], list[Any], Any]:
+    """The hot and cold captures, paired, and the switching they were found by (None unless --switched)."""
     def one(p: Path) -> Any:
         return open_state(p, iq=req.iq, centre_hz=req.centre_hz, channel=req.channel)
+    given = [n for n, v in (("--hot/--cold", req.hot or req.cold), ("--annotated", req.annotated),
+                            ("--switched", req.switched)) if v]
+    if len(given) > 1:
+        raise ParameterError(f"give the states one way: {' or '.join(given)}, not both")
+    if req.switched is not None:
+        from .yfactor_switched import SwitchSettings, cut_states
+        return cut_states(one(req.switched), SwitchSettings(req.switch_block_s, req.switch_guard_s,
+                                                            req.switch_shortest_s))
     if req.annotated is not None:
         rec = one(req.annotated)
         if not getattr(rec, "segments", ()):
             raise ParameterError(f"{req.annotated} has no annotations labelled hot and cold")
-        return rec.segment("hot"), rec.segment("cold")
+        return rec.segment("hot"), rec.segment("cold"), None
     if not req.hot or not req.cold:
-        raise ParameterError("give --hot and --cold captures (or one --annotated recording)")
-    return [one(p) for p in req.hot], [one(p) for p in req.cold]
+        raise ParameterError("give --hot and --cold captures (or one --annotated or --switched recording)")
+    return [one(p) for p in req.hot], [one(p) for p in req.cold], None
 
 
 def resolve_yfactor(req: YFactorRequest) -> dict[str, Any]:
@@ -78,7 +91,7 @@ def resolve_yfactor(req: YFactorRequest) -> dict[str, Any]:
     from ..dsp.weighting import Band
     from ..noise.yfactor import EnrTable, load_enr_table
     from .yfactor import HotColdSource, Loss
-    hot, cold = _states(req)
+    hot, cold, switching = _states(req)
     enr = EnrTable.constant(req.enr_db) if req.enr_db is not None else (
         load_enr_table(req.enr_table) if req.enr_table is not None else None)
     source = HotColdSource(enr=enr, t_hot_k=_kelvin(req.t_hot_k, req.t_hot_c), t_cold_k=_kelvin(req.t_cold_k, req.t_cold_c),
@@ -90,6 +103,7 @@ def resolve_yfactor(req: YFactorRequest) -> dict[str, Any]:
     from .assumptions import COLD_ASSUMED
     cold_assumed = enr is not None and not enr.cold_stated and source.t_cold_k is None
     return dict(assumptions=(COLD_ASSUMED,) if cold_assumed else (), hot=hot, cold=cold, source=source,
+                switching=switching,
                 cal_hot=state(req.cal_hot), cal_cold=state(req.cal_cold),
                 floor=state(req.floor), band=Band(*req.band_hz) if req.band_hz else None,
                 segment_length=req.segment_length, n_rows=req.rows, spot_hz=req.spot_hz,

@@ -9,7 +9,7 @@ from ..codec import ResultFile, figure
 from ..noise.uncertainty import Budget, Uncertainty
 from .provenance import Provenance
 
-__all__ = ["YRow", "YExcluded", "YLoss", "YRepeats", "YFiles", "YFactorResult"]
+__all__ = ["YRow", "YExcluded", "YLoss", "YRepeats", "YFiles", "YSegment", "YPair", "YPowerTrace", "YFactorResult"]
 
 
 @dataclass(frozen=True)
@@ -68,6 +68,46 @@ class YFiles:
 
 
 @dataclass(frozen=True)
+class YSegment:
+    """One state of a switched recording, times from its first sample (the transitions already left out)."""
+
+    state: Literal["hot", "cold"]
+    start_s: float
+    end_s: float
+    level_dbfs: float | None
+    spread_db: float | None
+    pair: int | None
+    dropped: str | None = figure(default=None, omit_if_none=True)  # why it was not used
+
+
+@dataclass(frozen=True)
+class YPair:
+    """The figures of one hot/cold pair of a switched recording (or of a live run)."""
+
+    RANGES: ClassVar[dict[str, dict[str, Any]]] = {"noise_figure_u95_db": dict(minimum=0)}
+
+    hot: int  # index into segments
+    cold: int
+    mid_s: float
+    y_factor_db: float
+    noise_figure_db: float | None
+    noise_figure_u95_db: float | None
+    noise_temperature_k: float | None
+    gain_db: float | None
+
+
+@dataclass(frozen=True)
+class YPowerTrace:
+    """The recording's power in blocks, as the states were found in it, and the threshold between them."""
+
+    RANGES: ClassVar[dict[str, dict[str, Any]]] = {"interval_s": dict(exclusiveMinimum=0)}
+
+    interval_s: float
+    level_dbfs: tuple[float, ...]
+    threshold_dbfs: float
+
+
+@dataclass(frozen=True)
 class YFactorResult(ResultFile):
     """Everything the Y-factor measurement found, with its conditions."""
 
@@ -105,6 +145,9 @@ class YFactorResult(ResultFile):
     warnings: tuple[str, ...] = ()  # one line each, also on stderr as "benchnf: warning: ..."
     noise_temperature_u95_k: float | None = None  # U (k=2) of the noise temperature, from the NF's
     provenance: Provenance | None = figure(default=None, omit_if_none=True)
+    segments: tuple[YSegment, ...] | None = figure(default=None, omit_if_none=True)  # a switched recording's states
+    pairs: tuple[YPair, ...] | None = figure(default=None, omit_if_none=True)
+    power_trace: YPowerTrace | None = figure(default=None, omit_if_none=True)
 
     @property
     def budgets(self) -> dict[str, Budget]:

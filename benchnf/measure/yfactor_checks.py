@@ -1,0 +1,64 @@
+"""What a Y-factor measurement refuses or notes about its inputs: a receiver recording's own report (overload,
+cut short, lost samples), a calibration pair that cannot resolve the receiver, and a budget the 8-bit
+quantisation dominates."""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+from ..errors import MeasurementError
+from ..noise.uncertainty import Budget
+
+__all__ = ["Y_CAUSES", "receiver_notes", "check_calibration_pair", "refuse_quantisation"]
+
+
+#: What makes a Y-factor noise figure come out below 0 dB (common practice).
+Y_CAUSES = ("an ENR table for another source or in other units (or --enr-db wrong); hot and cold captures "
+            "swapped; a wrong cold temperature; a calibration pair taken at another setting than the DUT "
+            "measurement; a receiver that compresses in the hot state")
+
+
+def receiver_notes(everything: list[Any]) -> list[str]:
+    """What a receiver recording's metadata says went wrong: a note when the recording was cut short or lost
+    samples (an overloaded one is refused when it is opened)."""
+    notes, seen = [], set()
+    for item in everything:
+        meta = getattr(item, "metadata", None) or {}
+        path = getattr(item, "path", None)
+        if path in seen or "benchnf:status" not in meta:
+            continue
+        seen.add(path)
+        name = path.name if path is not None else "the recording"
+        if meta["benchnf:status"] != "complete":
+            notes.append(f"{name} was cut short ({meta['benchnf:status']}): the samples on disk are used")
+        lost = meta.get("benchnf:lost_samples", 0)
+        if isinstance(lost, int) and lost > 0:
+            notes.append(f"{name} lost about {lost} samples on the way: states spanning the loss are a little short")
+    return notes
+
+
+def check_calibration_pair(pw: Any) -> None:
+    """Refuse a calibration pair whose Y cannot be told from 1 (three standard deviations of its scatter):
+    the receiver's own noise swamps the source, and the second-stage correction and the DUT's gain would
+    be noise."""
+    ch, cc = pw.cal_hot or 0.0, pw.cal_cold or 0.0
+    y2 = ch / cc if cc > 0 else 0.0
+    u = math.hypot(pw.u_cal_hot, pw.u_cal_cold)
+    if not (cc > 0 and y2 - 1 > 3 * u * y2):
+        shown = f"{10 * math.log10(y2):.3f} dB" if y2 > 0 else "not above the floor"
+        raise MeasurementError(f"the calibration pair cannot resolve the receiver: its Y is {shown} with a "
+                               f"scatter of {100 * u:.2f} %: the receiver's own noise swamps the source; put a "
+                               f"preamplifier of known gain before the receiver, use a hotter source (higher ENR), "
+                               f"or record the pair longer")
+
+
+def refuse_quantisation(budget: Budget) -> None:
+    """Refuse a noise figure whose budget the receiver's 8-bit quantisation dominates (its term larger than
+    every other together): the receiver's gain is set too low for its converter."""
+    q = [c.u_db for c in budget.contributions if c.name == "quantisation"]
+    rest = math.sqrt(sum(c.u_db ** 2 for c in budget.contributions if c.name != "quantisation"))
+    if q and q[0] > rest:
+        raise MeasurementError(f"the receiver's 8-bit quantisation dominates the noise figure's uncertainty "
+                               f"({q[0]:.3f} dB against {rest:.3f} dB for everything else): its noise spans too few "
+                               f"converter steps; raise the tuner gain (--gain) or add gain ahead of the receiver")
