@@ -53,6 +53,7 @@ class Measurement:
     options: str
     from_args: str
     outputs: str | None = None  # optional: extra files a command writes (args, writer, result) -> None
+    stream: str | None = None  # optional: a live run the command takes with --live, (args, writer) -> exit status
 
     def part(self, which: str) -> Any:
         """One of the parts above, imported now."""
@@ -144,10 +145,11 @@ def read_result(path: str | Path, *, kinds: tuple[str, ...] | None = None) -> An
 
 
 def _builtin(name: str, summary: str, description: str, *, result: str, request: str, run: str, present: str,
-             cli: str, outputs: bool = False) -> Measurement:
+             cli: str, outputs: bool = False, stream: bool = False) -> Measurement:
     return register(Measurement(name, summary, description, result, request, run, present,
                                 options=f"{cli}:add_options", from_args=f"{cli}:request_from_args",
-                                outputs=f"{cli}:write_extra" if outputs else None))
+                                outputs=f"{cli}:write_extra" if outputs else None,
+                                stream=f"{cli}:run_stream" if stream else None))
 
 
 _builtin("analysis", "gain-method noise analysis of captures",
@@ -161,7 +163,7 @@ _builtin("yfactor", "noise figure by the Y-factor (hot/cold) method",
          "temperatures), with the second-stage correction from a calibration pair.",
          result="benchnf.measure.yfactor_result:YFactorResult", request="benchnf.measure.yfactor_request:YFactorRequest",
          run="benchnf.measure.yfactor_request:run_yfactor", present="benchnf.report.present_yfactor:present",
-         cli="benchnf.cli.yfactor")
+         cli="benchnf.cli.yfactor", stream=True)
 _builtin("eni", "amplifier en and in from a source-resistance sweep, NF against Rs",
          "Voltage noise en and current noise in (and their correlation with three or more resistances) per "
          "one-third-octave band, Ropt and NFmin.",

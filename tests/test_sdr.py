@@ -178,3 +178,29 @@ def test_find_states_drops_short_and_unsteady_states():
     assert "shorter than" in (sw.states[2].dropped or "")
     assert "unsteady" in (sw.states[4].dropped or "")
     assert sw.pairs == ((1, 0),)
+
+
+def test_live_follows_a_step_in_the_nf_within_two_pairs(tmp_path, capsys):
+    """The stand-in's NF drops from 3 to 2 dB (a trimmer turned) part-way: every pair before the step reads the
+    old truth within U, and the second pair after it (at the latest) the new one."""
+    sched = Schedule(seed=3, period_s=0.6, step_at_s=4.0, nf_after_db=2.0)
+    out = tmp_path / "live.json"
+    with StandIn(schedule=sched) as s:
+        rc = main(["yfactor", "--live", "--sdr", s.address, "--centre-hz", "145e6", "--rate", str(RATE), "--gain",
+                   "30", "--enr-db", "15", "--t-cold-k", "290", "--seconds", "8", "--json", str(out), "--quiet"])
+    assert rc == ExitStatus.OK
+    lines = [ln for ln in capsys.readouterr().out.splitlines() if ln.startswith("pair")]
+    d = json.loads(out.read_text())
+    assert len(lines) == len(d["pairs"]) >= 5
+    step = 4.0 - SETTLE_S  # in the recording's time
+    before = [p for p in d["pairs"] if d["segments"][p["cold"]]["end_s"] < step and
+              d["segments"][p["hot"]]["end_s"] < step]
+    after = [p for p in d["pairs"] if min(d["segments"][p["cold"]]["start_s"], d["segments"][p["hot"]]["start_s"])
+             > step]
+    assert before and len(after) >= 2
+    for p in before:
+        assert p["noise_figure_db"] == pytest.approx(true_nf_db(sched), abs=p["noise_figure_u95_db"])
+    first_after = d["pairs"].index(after[0])
+    assert first_after - len(before) <= 2  # at most one pair straddles the step
+    for p in after:
+        assert p["noise_figure_db"] == pytest.approx(true_nf_db(sched, 2.0), abs=p["noise_figure_u95_db"])

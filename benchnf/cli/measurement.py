@@ -40,6 +40,8 @@ def _run(kind: str, args: argparse.Namespace, writer: Writer) -> int:
     from ..report.render_png import figures
     from ..report.render_text import render_text
     entry = registry.measurement(kind)
+    if getattr(args, "live", False) and entry.stream is not None:
+        return int(entry.part("stream")(args, writer))
     settle_station(args)
     store = _records(args)
     request = entry.part("from_args")(args)

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import sys
 from pathlib import Path
 from typing import Any
 
@@ -74,6 +75,17 @@ def add_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--edge-fraction", type=fraction, default=0.1, metavar="R",
                    help="IQ: fraction of each half-span excluded at the edges (default 0.1)")
     p.add_argument("--channel", type=channel_index, default=0, metavar="N", help="channel of audio captures")
+    live = p.add_argument_group("live, from a receiver (the noise figure while tuning)")
+    live.add_argument("--live", action="store_true",
+                      help="follow the noise figure pair by pair from a receiver (--sdr) while the source is "
+                           "switched on and off")
+    live.add_argument("--sdr", metavar="ADDRESS", help="rtl_tcp://HOST:PORT, or rtlsdr://0 for one on this computer")
+    live.add_argument("--rate", type=positive_hz, default=2_400_000.0, metavar="S/s",
+                      help="--live: receiver sample rate (2400000)")
+    live.add_argument("--gain", metavar="DB", help="--live: the tuner's fixed gain in dB (automatic gain is refused)")
+    live.add_argument("--ppm", type=int, default=0, metavar="N", help="--live: frequency correction, ppm (0)")
+    live.add_argument("--seconds", type=positive_seconds, metavar="S",
+                      help="--live: stop after this long and write the whole run (default: until Ctrl-C)")
 
 
 def request_from_args(args: argparse.Namespace) -> Any:
@@ -90,3 +102,35 @@ def request_from_args(args: argparse.Namespace) -> Any:
         band_hz=tuple(args.band) if args.band else None, spot_hz=tuple(args.spot or ()), rows=args.rows,
         segment_length=args.segment, iq=args.iq, centre_hz=args.centre_hz, channel=args.channel,
         dc_exclude_hz=args.dc_exclude_hz, edge_fraction=args.edge_fraction)
+
+
+def run_stream(args: argparse.Namespace, writer: Any) -> int:
+    """``yfactor --live``: one line per hot/cold pair from a receiver; the whole run at the end (--json)."""
+    from ..acquire.sdr import SdrSettings, parse_gain
+    from ..acquire.sdr_live import follow_pairs
+    from ..errors import ParameterError
+    from ..measure.yfactor_request import hot_cold_source
+    from ._common import write_outputs
+    from .status import ExitStatus
+    if args.sdr is None or args.centre_hz is None or args.gain is None:
+        raise ParameterError("--live needs a receiver: --sdr rtl_tcp://HOST:PORT --centre-hz F --gain DB")
+    files = [o for o, v in (("--hot/--cold", args.hot or args.cold), ("--annotated", args.annotated),
+                            ("--switched", args.switched), ("--cal-hot/--cal-cold", args.cal_hot or args.cal_cold),
+                            ("--floor", args.floor)) if v]
+    if files:
+        raise ParameterError(f"--live measures from the receiver: {', '.join(files)} belong to recordings")
+    settings = SdrSettings(args.centre_hz, args.rate, parse_gain(args.gain), args.ppm)
+    source = hot_cold_source(request_from_args(args))
+    print(_LIVE_CAUTION)
+    result, interrupted = follow_pairs(args.sdr, settings, source, seconds=args.seconds, out=sys.stdout)
+    if result is not None:
+        from ..report.present_yfactor import present
+        from ..report.render_png import figures
+        view = present(result)
+        write_outputs(args, writer, result, lambda: figures(view))
+    return ExitStatus.INTERRUPTED if interrupted else ExitStatus.OK
+
+
+_LIVE_CAUTION = ("Caution: before connecting a preamplifier to the bench: transmitter and PTT off, antenna "
+                 "disconnected; DC on the coax (bias tee, masthead feed) blocked before the receiver; the noise "
+                 "source's 28 V supply switched with care; follow local codes and licensed practice")

@@ -10,7 +10,7 @@ from typing import Any
 
 from ..errors import ParameterError
 
-__all__ = ["YFactorRequest", "open_state", "resolve_yfactor", "run_yfactor"]
+__all__ = ["YFactorRequest", "hot_cold_source", "open_state", "resolve_yfactor", "run_yfactor"]
 
 _ZERO_C_K = 273.15
 
@@ -86,17 +86,24 @@ def _states(req: YFactorRequest) -> tuple[list[Any], list[Any], Any]:
     return [one(p) for p in req.hot], [one(p) for p in req.cold], None
 
 
+def hot_cold_source(req: YFactorRequest) -> Any:
+    """The noise source the request states: an ENR (constant or a table) or two temperatures."""
+    from ..noise.yfactor import EnrTable, load_enr_table
+    from .yfactor import HotColdSource
+    enr = EnrTable.constant(req.enr_db) if req.enr_db is not None else (
+        load_enr_table(req.enr_table) if req.enr_table is not None else None)
+    return HotColdSource(enr=enr, t_hot_k=_kelvin(req.t_hot_k, req.t_hot_c), t_cold_k=_kelvin(req.t_cold_k, req.t_cold_c),
+                         enr_uncertainty_db=req.enr_uncertainty_db,
+                         temperature_uncertainty_k=req.temperature_uncertainty_k)
+
+
 def resolve_yfactor(req: YFactorRequest) -> dict[str, Any]:
     """Open every state and build the source and losses; the keyword arguments of analyze_yfactor."""
     from ..dsp.weighting import Band
-    from ..noise.yfactor import EnrTable, load_enr_table
-    from .yfactor import HotColdSource, Loss
+    from .yfactor import Loss
     hot, cold, switching = _states(req)
-    enr = EnrTable.constant(req.enr_db) if req.enr_db is not None else (
-        load_enr_table(req.enr_table) if req.enr_table is not None else None)
-    source = HotColdSource(enr=enr, t_hot_k=_kelvin(req.t_hot_k, req.t_hot_c), t_cold_k=_kelvin(req.t_cold_k, req.t_cold_c),
-                           enr_uncertainty_db=req.enr_uncertainty_db,
-                           temperature_uncertainty_k=req.temperature_uncertainty_k)
+    source = hot_cold_source(req)
+    enr = source.enr
 
     def state(p: Path | None) -> Any:
         return open_state(p, iq=req.iq, centre_hz=req.centre_hz, channel=req.channel)
