@@ -311,3 +311,38 @@ def test_a_cross_spectrum_result_with_a_reference_shows_where_the_noise_comes_fr
     print(f"screenshot {tmp_path / 'cross_result.png'}")
     assert "Where the output noise comes from" in text and "rail" in text
     assert "cross-spectrum of channels 0 and 1" in text
+
+
+def test_noise_figure_mode_follows_a_step_from_a_stand_in_receiver(browser, bench, tmp_path):
+    # A stand-in rtl_tcp server (INVENTED DATA, tests/rtl_tcp_standin.py): the source switched by hand every
+    # ~0.6 s; the system NF steps from 3 to 2 dB 5 s in (a trimmer turned). Truth as in tests/test_sdr.py.
+    from rtl_tcp_standin import Schedule, StandIn
+    from test_sdr import true_nf_db
+    sched = Schedule(seed=9, period_s=0.6, step_at_s=5.0, nf_after_db=2.0)
+    with StandIn(schedule=sched) as standin, running_desk(bench) as (_proc, url):
+        _open(browser, url)
+        browser.find_element(By.CSS_SELECTOR, ".rail button[data-view='tuning']").click()
+        form = browser.find_element(By.ID, "tuning-form")
+        for name, value in (("address", standin.address), ("centre_mhz", "145"), ("rate_hz", "1024000"),
+                            ("gain_db", "30"), ("enr_db", "15")):
+            box = form.find_element(By.NAME, name)
+            box.clear()
+            box.send_keys(value)
+        browser.find_element(By.ID, "tuning-start").click()
+        _wait(browser, lambda d: int(d.execute_script("return document.body.dataset.tuningPairs || '0'")) >= 2, 20.0)
+        first = browser.find_element(By.ID, "tuning-nf").text
+        browser.find_element(By.ID, "tuning-note").send_keys("trimmer C3 half a turn")
+        browser.find_element(By.ID, "tuning-mark").click()
+        _wait(browser, lambda d: int(d.execute_script("return document.body.dataset.tuningPairs || '0'")) >= 7, 30.0)
+        latest = browser.find_element(By.ID, "tuning-nf").text
+        state = browser.execute_script("return fetch('/api/tuning/state').then(r => r.json())")
+        png = browser.find_element(By.ID, "tuning-time").screenshot_as_png
+        (tmp_path / "tuning_time.png").write_bytes(png)
+        browser.find_element(By.ID, "tuning-stop").click()
+    nf0, u0 = (float(v) for v in first.replace("dB", "").split("±"))
+    nf1, u1 = (float(v) for v in latest.replace("dB", "").split("±"))
+    assert nf0 == pytest.approx(true_nf_db(sched), abs=u0 + 0.01)  # the text has two decimals
+    assert nf1 == pytest.approx(true_nf_db(sched, 2.0), abs=u1 + 0.01)
+    assert any(p["mark"] == "trimmer C3 half a turn" for p in state["pairs"])
+    colours, inked = _not_blank(png)
+    assert colours > 20 and inked > 0.02, (colours, inked)

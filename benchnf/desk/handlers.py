@@ -333,11 +333,48 @@ class Upload(DeskHandler):
         self.reply({"saved": st.folder.relative(path)})
 
 
+class TuningStart(DeskHandler):
+    def post(self) -> None:
+        from .tuning import TuningSession, tuning_settings
+        st = self.state
+        if st.tuning is None:
+            st.tuning = TuningSession()
+        address, settings, source = tuning_settings(self.body(), st.folder)
+        st.tuning.start(address, settings, source)
+        self.reply({"receiver": st.tuning.receiver})
+
+
+class TuningStop(DeskHandler):
+    def post(self) -> None:
+        if self.state.tuning is not None:
+            self.state.tuning.stop()
+        self.reply({"stopped": True})
+
+
+class TuningAct(DeskHandler):
+    def post(self) -> None:
+        body = self.body()
+        what = str(body.get("what") or "")
+        if what not in ("mark", "calibrate", "restart"):
+            raise BenchError(f"{what!r}: one of mark, calibrate, restart")
+        if self.state.tuning is None:
+            raise BenchError("start the noise-figure view first")
+        self.state.tuning.act(what, str(body.get("text") or ""))
+        self.reply({"done": what})
+
+
+class TuningState(DeskHandler):
+    def get(self) -> None:
+        t = self.state.tuning
+        self.reply(t.payload() if t is not None else {"running": False, "pairs": []})
+
+
 API = {"state": State, "files": Files, "result": Result, "download": Download, "export": Export,
        "analyse": Analyse, "devices": Devices,
        "live/start": LiveStart, "live/stop": LiveStop, "live/reset": LiveReset, "live/reference": LiveReference,
        "live/save": LiveSave, "plan/open": PlanOpen, "plan/record": PlanRecord, "plan/state": PlanState,
-       "plan/finish": PlanFinish, "check": Check, "checks": Checks, "grr": Gauge, "upload": Upload}
+       "plan/finish": PlanFinish, "tuning/start": TuningStart, "tuning/stop": TuningStop,
+       "tuning/act": TuningAct, "tuning/state": TuningState, "check": Check, "checks": Checks, "grr": Gauge, "upload": Upload}
 
 
 def push_live(state: Any) -> None:

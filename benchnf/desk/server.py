@@ -47,6 +47,7 @@ class DeskState:
     live: Any = None
     reference: dict[str, Any] | None = None
     guided: Any = None
+    tuning: Any = None  # the noise-figure mode's receiver session
     sockets: set[Any] = field(default_factory=set)
 
     @staticmethod
@@ -137,7 +138,7 @@ def make_app(state: DeskState) -> tornado.web.Application:
     routes: list[Any] = [
         (r"/", handlers.Page, s),
         (r"/favicon\.ico", handlers.NoIcon, s),
-        (r"/static/(desk\.js|desk\.css)", GuardedStatic, {"path": str(STATIC), "state": state}),
+        (r"/static/(desk\.js|desk\.css|tuning\.js)", GuardedStatic, {"path": str(STATIC), "state": state}),
         (r"/vendor/(plotly\.min\.js)", GuardedStatic, {"path": str(vendor), "state": state}),
         (r"/ws/live", LiveSocket, s),
         *[(rf"/api/{name}", h, s) for name, h in handlers.API.items()],

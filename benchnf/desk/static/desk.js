@@ -41,7 +41,8 @@ function show(view) {
   for (const b of document.querySelectorAll(".rail button")) b.classList.toggle("chosen", b.dataset.view === view);
   for (const s of document.querySelectorAll(".view")) s.hidden = s.id !== "view-" + view;
   say("");
-  ({results: loadResultsList, live: prepareLive, plan: preparePlan, check: prepareCheck, gauge: prepareGauge})[view]();
+  ({results: loadResultsList, live: prepareLive, plan: preparePlan, check: prepareCheck, gauge: prepareGauge,
+    tuning: () => window.prepareTuning && window.prepareTuning()})[view]();
   for (const p of document.querySelectorAll("#view-" + view + " .js-plotly-plot")) Plotly.Plots.resize(p);
 }
 
