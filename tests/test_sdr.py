@@ -204,3 +204,37 @@ def test_live_follows_a_step_in_the_nf_within_two_pairs(tmp_path, capsys):
     assert first_after - len(before) <= 2  # at most one pair straddles the step
     for p in after:
         assert p["noise_figure_db"] == pytest.approx(true_nf_db(sched, 2.0), abs=p["noise_figure_u95_db"])
+
+
+def test_live_calibration_pair_corrects_the_later_pairs():
+    """The session's calibration pair (the source straight into the receiver), then the DUT: the second-stage
+    correction F1 = F12 - (F2 - 1)/G1 (Friis 1944; the team's references) recovers the DUT's NF and gain.
+    Seeded synthetic complex noise (invented data): receiver NF 8 dB, DUT NF 1 dB and gain 20 dB, ENR 15 dB."""
+    from benchnf.measure.yfactor import HotColdSource
+    from benchnf.measure.yfactor_live import YFactorLive
+    from benchnf.noise.yfactor import EnrTable
+    from benchnf.errors import ParameterError
+    rng = np.random.default_rng(21)
+    enr, f2, f1, g1 = 10 ** 1.5, 10 ** 0.8, 10 ** 0.1, 100.0
+    f12 = f1 + (f2 - 1) / g1
+    live = YFactorLive(rate_hz=RATE, centre_hz=145e6, gain_db=30.0, source=HotColdSource(enr=EnrTable.constant(15.0)))
+
+    def states(cold_power: float, y: float, n_pairs: int) -> None:
+        for k in range(2 * n_pairs + 1):
+            p = cold_power * (y if k % 2 else 1.0)
+            z = rng.normal(0, np.sqrt(p / 2), (int(0.6 * RATE), 2)) @ np.array([1, 1j])
+            live.feed(z)
+    live.calibrate_next()
+    states(1e-3, 1 + enr / f2, 1)
+    assert live.calibration is not None and not live.calibrating and not live.pairs
+    assert live.calibration.receiver_nf_db == pytest.approx(8.0, abs=0.1)
+    live.restart()  # the DUT connected
+    states(1e-3 * g1 * f12 / f2, 1 + enr / f12, 3)
+    assert len(live.pairs) >= 2
+    for p in live.pairs:
+        assert p.noise_figure_db == pytest.approx(1.0, abs=p.noise_figure_u95_db)
+        assert p.gain_db == pytest.approx(20.0, abs=0.1)
+    with pytest.raises(ParameterError, match="take a new calibration pair"):
+        live.check_calibration(145e6, RATE, 35.0)
+    r = live.result()
+    assert r.second_stage_corrected and [r.segments[p.hot].state for p in r.pairs] == ["hot"] * len(r.pairs)

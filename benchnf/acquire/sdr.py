@@ -27,9 +27,10 @@ import numpy as np
 from numpy.typing import NDArray
 
 from ..errors import AcquisitionError, ParameterError
+from ..io.sigmf_iq import OVERLOADED
 
 __all__ = ["SdrSettings", "SdrStream", "RtlTcpStream", "LocalRtlStream", "open_sdr", "parse_sdr_address",
-           "TUNERS", "RATE_RANGES_HZ", "to_complex", "overloaded_fraction"]
+           "TUNERS", "RATE_RANGES_HZ", "to_complex", "overloaded_fraction", "live_chunks"]
 
 #: Tuner types as rtl_tcp numbers them (librtlsdr's enum; from memory).
 TUNERS = {0: "unknown", 1: "E4000", 2: "FC0012", 3: "FC0013", 4: "FC2580", 5: "R820T", 6: "R828D"}
@@ -259,3 +260,27 @@ def open_sdr(address: str, settings: SdrSettings, *, timeout_s: float = 5.0) -> 
     if kind == "rtl_tcp":
         return RtlTcpStream(host, port, settings, timeout_s=timeout_s)
     return LocalRtlStream(port, settings)
+
+
+def live_chunks(stream: SdrStream, seconds: float, warn: Any) -> Any:
+    """Complex chunks of `seconds` each from a running receiver, for as long as the caller takes them.
+
+    Each of the receiver's troubles is passed to ``warn(text)`` once (overloaded values, samples lost on the
+    way); a connection that ends raises :class:`AcquisitionError`.
+    """
+    chunk, said = max(1024, int(seconds * stream.settings.rate_hz)), set()
+    while True:
+        raw = stream.read(chunk)
+        if raw.size < 2 * chunk:
+            raise AcquisitionError(f"the connection to {stream.describe} ended after {stream.delivered} samples: "
+                                   f"check the network and that rtl_tcp is still running")
+        for key, bad, text in (
+                ("overload", overloaded_fraction(raw) > OVERLOADED,
+                 "I/Q values at the converter's rails (overload): lower the tuner gain (--gain)"),
+                ("lost", stream.lost_samples() > 0,
+                 f"samples are being lost on the way: the network or this computer is too slow for "
+                 f"{stream.settings.rate_hz:g} samples/s; choose a lower --rate")):
+            if bad and key not in said:
+                said.add(key)
+                warn(text)
+        yield to_complex(raw)

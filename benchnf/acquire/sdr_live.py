@@ -7,8 +7,7 @@ import sys
 import time
 from typing import Any, TextIO
 
-from ..errors import AcquisitionError
-from .sdr import SdrSettings, open_sdr, overloaded_fraction, to_complex
+from .sdr import SdrSettings, live_chunks, open_sdr
 
 __all__ = ["follow_pairs", "pair_line"]
 
@@ -35,28 +34,21 @@ def follow_pairs(address: str, settings: SdrSettings, source: Any, *, seconds: f
     from ..measure.yfactor_live import YFactorLive
     live = YFactorLive(rate_hz=settings.rate_hz, centre_hz=settings.centre_hz, gain_db=settings.gain_db,
                        source=source)
-    chunk = int(_READ_S * settings.rate_hz)
     best = previous = None
-    interrupted, warned = False, set[str]()
+    interrupted = False
     print(f"following the noise figure at {settings.centre_hz / 1e6:.4f} MHz; switch the noise source on and off, "
           f"a second or more each", file=out, flush=True)
     t0 = time.monotonic()
     with open_sdr(address, settings) as stream:
         try:
-            while seconds is None or time.monotonic() - t0 < seconds:
-                raw = stream.read(chunk)
-                if raw.size < 2 * chunk:
-                    raise AcquisitionError(f"the receiver's connection ended after {time.monotonic() - t0:.1f} s: "
-                                           f"check the network and that rtl_tcp is still running")
-                _warn_once(warned, "overload", overloaded_fraction(raw) > 1e-4,
-                           "I/Q values at the converter's rails (overload): lower the tuner gain (--gain)")
-                _warn_once(warned, "lost", stream.lost_samples() > 0,
-                           f"samples are being lost on the way: the network or this computer is too slow for "
-                           f"{settings.rate_hz:g} samples/s; choose a lower --rate")
-                for pair in live.feed(to_complex(raw)):
+            for iq in live_chunks(stream, _READ_S, lambda text: print(f"benchnf: warning: {text}", file=sys.stderr,
+                                                                       flush=True)):
+                for pair in live.feed(iq):
                     print(pair_line(pair, best, previous), file=out, flush=True)
                     previous = pair.noise_figure_db
                     best = previous if best is None else min(best, previous)
+                if seconds is not None and time.monotonic() - t0 >= seconds:
+                    break
         except KeyboardInterrupt:
             interrupted = True
     if not live.pairs:
@@ -67,8 +59,3 @@ def follow_pairs(address: str, settings: SdrSettings, source: Any, *, seconds: f
                                "second or more) while the receiver runs, or run longer (--seconds)")
     return live.result(), interrupted
 
-
-def _warn_once(warned: set[str], key: str, condition: bool, text: str) -> None:
-    if condition and key not in warned:
-        warned.add(key)
-        print(f"benchnf: warning: {text}", file=sys.stderr, flush=True)

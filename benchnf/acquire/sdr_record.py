@@ -19,12 +19,12 @@ from typing import Any
 
 from ..errors import AcquisitionError, CaptureError
 from ..write import Writer
+from ..io.sigmf_iq import OVERLOADED
 from .sdr import SdrSettings, SdrStream, open_sdr
 
 __all__ = ["SdrRecording", "sigmf_paths", "record_sdr"]
 
 _CHUNK_S = 0.05  # samples read and appended at a time
-_OVERLOAD = 1e-4  # a larger fraction of I/Q values at the converter's rails is reported (common practice)
 
 
 @dataclass(frozen=True)
@@ -97,7 +97,8 @@ def record_sdr(output: str | Path, *, address: str, settings: SdrSettings, secon
                 if stop is not None and stop.is_set():
                     interrupted = True
                     break
-                raw = stream.read(min(chunk, target - written))
+                want = min(chunk, target - written)
+                raw = stream.read(want)
                 try:
                     fh.write(raw.tobytes())
                     fh.flush()
@@ -107,7 +108,7 @@ def record_sdr(output: str | Path, *, address: str, settings: SdrSettings, secon
                 written += raw.size // 2
                 if on_progress:
                     on_progress(raw.size // 2)
-                if raw.size < 2 * min(chunk, target - written + raw.size // 2):
+                if raw.size < 2 * want:
                     dropped = True
                     break
     except KeyboardInterrupt:
@@ -134,7 +135,7 @@ def _finish(meta_path: Path, started: dict[str, Any], stream: SdrStream, *, writ
     if dropped:
         notes.append(f"the receiver's connection ended after {written / rate:.2f} s: the {written} samples received "
                      f"are kept in {data_path.name}; check the network and that rtl_tcp is still running")
-    if overloaded > _OVERLOAD:
+    if overloaded > OVERLOADED:
         notes.append(f"{100 * overloaded:.3f} % of the I/Q values sit at the converter's rails (overload): lower the "
                      f"tuner gain (--gain) and record again")
     if lost:

@@ -333,9 +333,30 @@ class Upload(DeskHandler):
         self.reply({"saved": st.folder.relative(path)})
 
 
+def tuning_settings(data: dict[str, Any], folder: Any) -> tuple[str, Any, Any]:
+    """The receiver address, its settings and the noise source from the "NF while tuning" form."""
+    from ..acquire.sdr import SdrSettings, parse_gain, parse_sdr_address
+    from ..measure.yfactor_request import YFactorRequest, hot_cold_source
+    address = str(data.get("address") or "").strip()
+    parse_sdr_address(address)
+    centre = _number(data, "centre_mhz", low=1.0, high=2500.0)
+    if centre is None:
+        raise BenchError("give the receiver's centre frequency (MHz)")
+    settings = SdrSettings(centre * 1e6, _number(data, "rate_hz", low=1.0, high=1e7, default=2_400_000.0),
+                           parse_gain(str(data.get("gain_db") or "")),
+                           int(_number(data, "ppm", low=-1000, high=1000, default=0)))
+    table = str(data.get("enr_table") or "").strip()
+    enr = None if table else _number(data, "enr_db", low=-10.0, high=50.0)
+    if enr is None and not table:
+        raise BenchError("give the noise source's ENR (dB) or its ENR table")
+    req = YFactorRequest(enr_db=enr, enr_table=folder.resolve(table) if table else None,
+                         t_cold_k=_number(data, "t_cold_k", low=1.0, high=1000.0, default=290.0))
+    return address, settings, hot_cold_source(req)
+
+
 class TuningStart(DeskHandler):
     def post(self) -> None:
-        from .tuning import TuningSession, tuning_settings
+        from .tuning import TuningSession
         st = self.state
         if st.tuning is None:
             st.tuning = TuningSession()

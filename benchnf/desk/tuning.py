@@ -14,35 +14,9 @@ import numpy as np
 
 from ..errors import BenchError
 
-__all__ = ["TuningSession", "tuning_settings"]
+__all__ = ["TuningSession"]
 
 _READ_S = 0.05
-
-
-def tuning_settings(data: dict[str, Any], folder: Any) -> tuple[str, Any, Any]:
-    """The receiver address, its settings and the noise source from the page's form."""
-    from ..acquire.sdr import SdrSettings, parse_gain, parse_sdr_address
-    from ..measure.yfactor_request import YFactorRequest, hot_cold_source
-
-    def number(key: str, default: float | None = None) -> float:
-        text = str(data.get(key) or "").strip()
-        if not text:
-            if default is None:
-                raise BenchError(f"give the {key.replace('_', ' ')}")
-            return default
-        try:
-            return float(text)
-        except ValueError:
-            raise BenchError(f"{key.replace('_', ' ')} {text!r} is not a number") from None
-    address = str(data.get("address") or "").strip()
-    parse_sdr_address(address)
-    settings = SdrSettings(number("centre_mhz") * 1e6, number("rate_hz", 2_400_000.0),
-                           parse_gain(str(data.get("gain_db") or "")), int(number("ppm", 0.0)))
-    table = str(data.get("enr_table") or "").strip()
-    req = YFactorRequest(enr_db=None if table else number("enr_db"),
-                         enr_table=folder.resolve(table) if table else None,
-                         t_cold_k=number("t_cold_k", 290.0))
-    return address, settings, hot_cold_source(req)
 
 
 class TuningSession:
@@ -54,7 +28,6 @@ class TuningSession:
         self.receiver = ""
         self.error: str | None = None
         self.warnings: list[str] = []
-        self._calibration: Any = None
         self._lock = threading.Lock()
         self._stop = threading.Event()
         self._thread: threading.Thread | None = None
@@ -70,7 +43,7 @@ class TuningSession:
             raise BenchError("the noise-figure view is running already: stop it to change its settings")
         live = YFactorLive(rate_hz=settings.rate_hz, centre_hz=settings.centre_hz, gain_db=settings.gain_db,
                            source=source)
-        live.calibration = self._calibration
+        live.calibration = self.live.calibration if self.live is not None else None  # kept for the session
         live.check_calibration(settings.centre_hz, settings.rate_hz, settings.gain_db)
         stream = open_sdr(address, settings)
         self.live, self.settings, self.receiver = live, settings, stream.describe
@@ -80,30 +53,21 @@ class TuningSession:
         self._thread.start()
 
     def _run(self, stream: Any) -> None:
-        from ..acquire.sdr import overloaded_fraction, to_complex
-        chunk = int(_READ_S * self.settings.rate_hz)
+        from ..acquire.sdr import live_chunks
         try:
             with stream:
-                while not self._stop.is_set():
-                    raw = stream.read(chunk)
-                    if raw.size < 2 * chunk:
-                        self.error = "the receiver's connection ended: check the network and that rtl_tcp still runs"
+                for iq in live_chunks(stream, _READ_S, self._warn):
+                    if self._stop.is_set():
                         return
-                    if overloaded_fraction(raw) > 1e-4:
-                        self._warn("I/Q values at the converter's rails (overload): lower the tuner gain")
-                    if stream.lost_samples() > 0:
-                        self._warn("samples are being lost on the way: choose a lower sample rate")
                     with self._lock:
-                        self.live.feed(to_complex(raw))
-                        self._calibration = self.live.calibration
+                        self.live.feed(iq)
         except BenchError as err:
             self.error = str(err)
         except Exception as err:  # a fault of the stream's thread: said on the page, not lost
             self.error = f"the receiver stopped ({type(err).__name__}: {err})"
 
     def _warn(self, text: str) -> None:
-        if text not in self.warnings:
-            self.warnings.append(text)
+        self.warnings.append(text)
 
     def stop(self) -> None:
         self._stop.set()
@@ -130,7 +94,7 @@ class TuningSession:
         with self._lock:
             pairs = list(self.live.pairs)
             cal = self.live.calibration
-            waiting = self.live._want_calibration
+            waiting = self.live.calibrating
         rows = []
         if pairs:
             rows = [{"freq_hz": r.freq_hz, "nf_db": r.noise_figure_db, "u95_db": r.noise_figure_expanded_db}
@@ -147,9 +111,21 @@ class TuningSession:
         return {"running": self.running, "receiver": self.receiver, "error": self.error, "warnings": self.warnings,
                 "settings": {"centre_hz": self.settings.centre_hz, "rate_hz": self.settings.rate_hz,
                              "gain_db": self.settings.gain_db},
-                "calibration": None if cal is None else {"receiver_nf_db": cal.receiver_nf_db,
-                                                         "gain_db": cal.settings[2]},
+                "calibration": None if cal is None else {
+                    "receiver_nf_db": cal.receiver_nf_db, "gain_db": cal.settings[2],
+                    "text": f"receiver NF {_q(cal.receiver_nf_db, 'dB', 2)} at gain {_q(cal.settings[2], 'dB', 1)}"},
                 "calibrating": waiting, "best": best, "rows": rows, "enr_points": enr_points,
                 "pairs": [{"index": p.index, "t_s": p.mid_s, "nf_db": p.noise_figure_db,
                            "u95_db": p.noise_figure_u95_db, "gain_db": p.gain_db,
-                           "te_k": p.noise_temperature_k, "mark": p.mark} for p in pairs]}
+                           "te_k": p.noise_temperature_k, "mark": p.mark, "text": _worded(p)} for p in pairs]}
+
+
+def _q(value: float | None, unit: str, digits: int, u: float | None = None) -> str:
+    from ..quantity import Quantity
+    return Quantity(value, unit, u, digits=digits).text()
+
+
+def _worded(p: Any) -> dict[str, str]:
+    """A pair's figures as every front end words them (:mod:`benchnf.quantity`)."""
+    return {"nf": _q(p.noise_figure_db, "dB", 2, p.noise_figure_u95_db), "gain": _q(p.gain_db, "dB", 2),
+            "te": _q(p.noise_temperature_k, "K", 0)}

@@ -23,9 +23,11 @@ from numpy.typing import NDArray
 from .._optional import require
 from ..errors import CaptureError, ParameterError
 
-__all__ = ["IqCapture", "open_sigmf", "open_wav_iq", "write_sigmf"]
+__all__ = ["IqCapture", "open_sigmf", "open_wav_iq", "write_sigmf", "OVERLOADED"]
 
 _BLOCK = 1 << 16
+#: A larger fraction of a receiver's I/Q values at the converter's rails is an overload (common practice).
+OVERLOADED = 1e-4
 
 
 @dataclass(frozen=True)
@@ -196,7 +198,7 @@ def open_sigmf(path: str | Path) -> IqCapture:
     if total <= 0:
         raise CaptureError(f"{meta_path.name} holds no samples")
     over = g.get("benchnf:overloaded_fraction", 0)
-    if isinstance(over, (int, float)) and over > 1e-4:
+    if isinstance(over, (int, float)) and over > OVERLOADED:
         raise CaptureError(f"{meta_path.name}: {100 * over:.3f} % of its I/Q values sit at the converter's rails: the "
                            f"receiver was overloaded, which compresses the hot state; record again with less --gain")
     _check_samples(meta_path, datatype, rec, errors)

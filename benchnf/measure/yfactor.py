@@ -189,7 +189,7 @@ def analyze_yfactor(*, hot: Source | Sequence[Source], cold: Source | Sequence[S
     first = _check_states([*hot_l, *cold_l, cal_hot, cal_cold, floor])
     notes: list[str] = list(assumptions) + receiver_notes([*hot_l, *cold_l, cal_hot, cal_cold, floor])
     sp = _state_spectra(hot_l, cold_l, cal_hot=cal_hot, cal_cold=cal_cold, floor=floor,
-                        seg=_segment(first, segment_length), progress=progress, notes=notes)
+                        seg=segment_length_for(first, segment_length), progress=progress, notes=notes)
     files = YFiles(tuple(_p(h) for h in hot_l), tuple(_p(c) for c in cold_l), _p(cal_hot), _p(cal_cold), _p(floor))
     return yfactor_of_spectra(sp, first=first, source=source, band=band, n_rows=n_rows, spot_hz=spot_hz,
                               loss_before=loss_before, loss_after=loss_after, dc_exclude_hz=dc_exclude_hz,
@@ -225,7 +225,10 @@ def yfactor_of_spectra(sp: "StateSpectra", *, first: Source, source: HotColdSour
     spots = tuple(_row(evaluate(Band(max(x - width / 2, 0.0), x + width / 2)), source, corrected,
                        Band(max(x - width / 2, 0.0), x + width / 2), label=x) for x in spot_hz)
     w_band = band_bin_weights(f, band) * usable
-    repeats = _pair_repeats(sp, w_band, head.model, notes)
+    figures = []
+    if len(sp.hot_runs) > 1 or switching is not None:
+        figures = pair_figures(sp, w_band, head.model, source, corrected, quantum)
+    repeats = _pair_repeats([nf if nf is not None else math.nan for _y, nf, *_rest in figures], notes)
     if not corrected and sp.floor is None:
         notes.append("no calibration pair: the figures are of the DUT and the receiver together (system "
                      "noise figure); give --cal-hot/--cal-cold for the DUT alone and its gain")
@@ -235,8 +238,7 @@ def yfactor_of_spectra(sp: "StateSpectra", *, first: Source, source: HotColdSour
     switched = {}
     if switching is not None:
         from .yfactor_switched import switched_fields
-        switched = switched_fields(switching, pair_figures(sp, w_band, head.model, source, corrected, quantum),
-                                   first.sample_rate_hz)
+        switched = switched_fields(switching, figures, first.sample_rate_hz)
     return replace(_assemble(head, sp, source=source, corrected=corrected, floor=sp.floor, band=band, first=first,
                              excluded=excluded, loss_before=loss_before, loss_after=loss_after, rows=rows,
                              spots=spots, repeats=repeats, files=files or YFiles((), ()), notes=notes), **switched)
@@ -303,7 +305,8 @@ def _check_states(everything: list[Source | None]) -> Source:
     return first
 
 
-def _segment(first: Source, segment_length: int | None) -> int:
+def segment_length_for(first: Source, segment_length: int | None = None) -> int:
+    """The Welch segment of a Y-factor state: the one asked for, else about fs/500 for IQ (256 to 4096)."""
     fs = first.sample_rate_hz
     if segment_length:
         return int(segment_length)
@@ -381,17 +384,10 @@ def _headline(evaluated: tuple[Powers, Model] | None, band: Band, source: HotCol
     return _Headline(pw, model, y12, f12, f2, g1, f1, budgets)
 
 
-def _pair_repeats(sp: StateSpectra, w: NDArray[np.float64], model: Model, notes: list[str]) -> YRepeats | None:
-    """Scatter and drift of the NF over repeated hot/cold pairs."""
-    if len(sp.hot_runs) < 2:
+def _pair_repeats(nfs: list[float], notes: list[str]) -> YRepeats | None:
+    """Scatter and drift of the NF over repeated hot/cold pairs (each pair's NF, NaN where it has none)."""
+    if len(nfs) < 2:
         return None
-    nfs = []
-    for ph, pc in zip(sp.hot_runs, sp.cold_runs):
-        pwr = band_powers(w, ph, pc, sp.floor, sp.cal_hot, sp.cal_cold)
-        try:
-            nfs.append(model.nf_db(hot=pwr.hot, cold=pwr.cold, cal_hot=pwr.cal_hot, cal_cold=pwr.cal_cold))
-        except (ValueError, ArithmeticError):
-            nfs.append(math.nan)
     arr = np.array(nfs)
     slope = float(np.polyfit(np.arange(arr.size), arr, 1)[0]) if np.all(np.isfinite(arr)) else math.nan
     repeats = YRepeats(len(nfs), tuple(nfs), float(np.nanstd(arr, ddof=1)), slope)

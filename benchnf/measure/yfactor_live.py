@@ -11,7 +11,6 @@ receiver) may be taken first and is kept for the session; it is refused once the
 
 from __future__ import annotations
 
-import math
 from collections import deque
 from dataclasses import dataclass, replace
 from typing import Any
@@ -23,7 +22,7 @@ from ..dsp.spectrum import Psd, pool_psds, welch_iq_psd
 from ..dsp.switched import block_powers, find_states
 from ..errors import MeasurementError, ParameterError
 from ..io.sigmf_iq import IqCapture
-from .yfactor import HotColdSource, StateSpectra, yfactor_of_spectra
+from .yfactor import HotColdSource, StateSpectra, segment_length_for, yfactor_of_spectra
 from .yfactor_result import YFactorResult, YPair, YSegment
 from .yfactor_switched import SwitchSettings
 
@@ -67,13 +66,15 @@ class YFactorLive:
         self.rows, self.edge_fraction = rows, edge_fraction
         self.first = IqCapture(rate_hz, centre_hz, 0, "live", metadata={"datatype": "cu8"})
         self.block = self.switch.block_frames(self.first)
-        self.segment = min(4096, max(256, 1 << int(math.log2(rate_hz / 500))))
+        self.segment = segment_length_for(self.first)
         self.calibration: ReceiverCalibration | None = None
         self._want_calibration = False
         self.pairs: list[LivePair] = []
         self.segments: list[YSegment] = []
         self._spectra: list[tuple[Psd, Psd]] = []
+        self._pairs_of: list[tuple[int, int]] = []  # (hot, cold) index into segments, per pair
         self._pending_mark: str | None = None
+        self._blocks_seen = 0  # blocks since the start: the session's clock
         self.restart()
 
     # -- the session ---------------------------------------------------------------------------------
@@ -82,10 +83,12 @@ class YFactorLive:
         self._tail = np.zeros(0, dtype=np.complex64)
         self._trace: list[float] = []
         self._psds: deque[tuple[int, Psd]] = deque()
-        self._offset = 0  # block index of the trace's first entry
-        self._used_until = 0  # block index before which every state has been used or passed
-        self._t0_blocks = getattr(self, "_blocks_seen", 0)
-        self._blocks_seen = self._t0_blocks
+        self._offset = self._used_until = self._blocks_seen  # the trace starts now; nothing before is used
+
+    @property
+    def calibrating(self) -> bool:
+        """True while the next pair is to be the calibration pair."""
+        return self._want_calibration
 
     def calibrate_next(self) -> None:
         """Take the next pair as the calibration pair (the source straight into the receiver)."""
@@ -161,7 +164,6 @@ class YFactorLive:
 
     def _evaluate(self, hot_state: Any, cold_state: Any) -> LivePair | None:
         hot, cold = self._pooled(hot_state), self._pooled(cold_state)
-        t = lambda blocks: (blocks + self._offset) * self.block / self.rate_hz  # noqa: E731
         if self._want_calibration:
             self._keep_calibration(hot, cold)
             return None
@@ -170,21 +172,25 @@ class YFactorLive:
         try:
             r = yfactor_of_spectra(sp, first=self.first, source=self.source, n_rows=self.rows,
                                    edge_fraction=self.edge_fraction)
-        except (MeasurementError, ParameterError) as err:
-            self._skipped = str(err)
-            return None
-        mid = (t(min(hot_state.start, cold_state.start)) + t(max(hot_state.stop, cold_state.stop))) / 2
+        except (MeasurementError, ParameterError):
+            return None  # a pair the figures refuse (Y not resolved, NF below 0) is left out
+        mid = (self._time(min(hot_state.start, cold_state.start)) + self._time(max(hot_state.stop, cold_state.stop))) / 2
         pair = LivePair(len(self.pairs), mid, r.noise_figure_db, r.budgets["noise_figure_db"].expanded_db, r.gain_db,
                         r.noise_temperature_k, r.y_factor_db, r, self._pending_mark)
         self._pending_mark = None
-        i = len(self.segments)
-        for st in (hot_state, cold_state):
-            self.segments.append(YSegment(st.state, t(st.start), t(st.stop), round(st.level_db, 4),
+        first = min((hot_state, cold_state), key=lambda st: st.start)
+        for st in (first, cold_state if first is hot_state else hot_state):  # in time order
+            self.segments.append(YSegment(st.state, self._time(st.start), self._time(st.stop), round(st.level_db, 4),
                                           round(st.spread_db, 4), len(self.pairs)))
+        i = len(self.segments) - 2
+        self._pairs_of.append((i, i + 1) if first is hot_state else (i + 1, i))
         self.pairs.append(pair)
         self._spectra.append((hot, cold))
-        self._seg_index = (i, i + 1)
         return pair
+
+    def _time(self, blocks: int) -> float:
+        """Seconds since the session started of a block index in the current trace."""
+        return (blocks + self._offset) * self.block / self.rate_hz
 
     def _keep_calibration(self, hot: Psd, cold: Psd) -> None:
         sp = StateSpectra([hot], [cold], hot, cold, None, None, None)
@@ -206,9 +212,7 @@ class YFactorLive:
                           cal.cold if cal else None, None)
         r = yfactor_of_spectra(sp, first=self.first, source=self.source, n_rows=self.rows,
                                edge_fraction=self.edge_fraction)
-        pairs = tuple(YPair(2 * p.index if self.segments[2 * p.index].state == "hot" else 2 * p.index + 1,
-                            2 * p.index + 1 if self.segments[2 * p.index].state == "hot" else 2 * p.index,
-                            p.mid_s, p.y_factor_db, p.noise_figure_db, p.noise_figure_u95_db, p.noise_temperature_k,
-                            p.gain_db) for p in self.pairs)
+        pairs = tuple(YPair(h, c, p.mid_s, p.y_factor_db, p.noise_figure_db, p.noise_figure_u95_db,
+                            p.noise_temperature_k, p.gain_db) for p, (h, c) in zip(self.pairs, self._pairs_of))
         notes = r.notes + tuple(f"pair {p.index}: {p.mark}" for p in self.pairs if p.mark)
         return replace(r, segments=tuple(self.segments), pairs=pairs, notes=notes)

@@ -6,23 +6,19 @@ const tuning = {timer: null, held: null, latest: null};
 function tuningForm() {
   return Object.fromEntries(new FormData($("#tuning-form")).entries());
 }
-function fmtDb(v, u) {
-  if (v === null || v === undefined) return "–";
-  return v.toFixed(2) + " dB" + (u === null || u === undefined ? "" : " ± " + u.toFixed(2) + " dB");
-}
 function drawTuning(p) {
   tuning.latest = p;
   const pairs = p.pairs || [];
   const last = pairs.length ? pairs[pairs.length - 1] : null;
-  $("#tuning-nf").textContent = last ? fmtDb(last.nf_db, last.u95_db) : "–";
-  $("#tuning-nf-cond").textContent = last ? `pair ${last.index} at ${last.t_s.toFixed(1)} s; Te ${last.te_k.toFixed(0)} K (U at k=2)`
+  $("#tuning-nf").textContent = last ? last.text.nf : "–";
+  $("#tuning-nf-cond").textContent = last ? `pair ${last.index} at ${last.t_s.toFixed(1)} s; Te ${last.text.te} (U at k=2)`
     : (p.running ? "waiting for a hot and a cold state" : "switch the source on and off");
-  $("#tuning-gain").textContent = last && last.gain_db !== null ? fmtDb(last.gain_db, null) : "–";
+  $("#tuning-gain").textContent = last ? last.text.gain : "–";
   $("#tuning-cal-state").textContent = p.calibrating ? "taking the next pair as the calibration pair"
-    : (p.calibration ? `corrected: receiver NF ${p.calibration.receiver_nf_db.toFixed(2)} dB at gain ${p.calibration.gain_db} dB`
+    : (p.calibration ? `corrected: ${p.calibration.text}`
       : "no calibration pair: system figures");
   const best = p.best === null || p.best === undefined ? null : pairs[p.best];
-  $("#tuning-best").textContent = best ? fmtDb(best.nf_db, best.u95_db) : "–";
+  $("#tuning-best").textContent = best ? best.text.nf : "–";
   $("#tuning-pairs").textContent = `${pairs.length} pair${pairs.length === 1 ? "" : "s"}` + (best ? `; best is pair ${best.index}` : "");
   $("#tuning-receiver").textContent = p.running ? "running" : (p.error ? "stopped" : "idle");
   $("#tuning-warn").textContent = p.error || (p.warnings || []).join("; ") || p.receiver || "";
