@@ -37,7 +37,7 @@ _PUBLIC = {
     "RepeatSummary": "benchnf.measure.results",
     "analyze_yfactor": "benchnf.measure.yfactor",
     "HotColdSource": "benchnf.measure.yfactor",
-    "Loss": "benchnf.measure.yfactor",
+    "PassiveStage": "benchnf.measure.yfactor_passive",
     "YFactorResult": "benchnf.measure.yfactor_result",
     "YRow": "benchnf.measure.yfactor_result",
     "measured_budget": "benchnf.measure.stages",

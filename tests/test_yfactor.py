@@ -13,14 +13,17 @@ from benchnf.cli import ExitStatus, main
 from benchnf.errors import CaptureError, MeasurementError
 from benchnf.io.sigmf_iq import open_sigmf, write_sigmf
 from benchnf.noise.yfactor import EnrTable
-from benchnf.measure.yfactor import HotColdSource, Loss, analyze_yfactor
+from benchnf.measure.yfactor import HotColdSource, analyze_yfactor
+from benchnf.measure.yfactor_passive import PassiveStage, side_loss
 
 T0 = 290.0
 
 
 def _chain(seed=0, fs=48_000.0, seconds=4.0, enr_db=15.0, tc=296.0, nf1_db=2.0, g1_db=20.0, nf2_db=12.0,
-           loss_after_db=0.0):
-    """Noise powers in kelvin (times a scale) through DUT (Te1, G1), a loss, and a receiver (Te2)."""
+           loss_after_db=0.0, source_side=(), receiver_side=()):
+    """Noise powers in kelvin (times a scale) through the passive stages (dB, K) on the source side, the
+    DUT (Te1, G1), a loss at T0 and the passive stages on the receiver side, and a receiver (Te2); each
+    matched passive stage passes T/L and adds T_phys (1 - 1/L) (common practice)."""
     rng = np.random.default_rng(seed)
     th = T0 * (1 + 10 ** (enr_db / 10))
     te1, te2 = T0 * (10 ** (nf1_db / 10) - 1), T0 * (10 ** (nf2_db / 10) - 1)
@@ -28,9 +31,15 @@ def _chain(seed=0, fs=48_000.0, seconds=4.0, enr_db=15.0, tc=296.0, nf1_db=2.0, 
     n = int(fs * seconds)
     scale = 1e-10
 
-    def through(ts):  # source -> DUT -> loss at T0 -> receiver
-        at_loss_out = g1 * (ts + te1) / la + T0 * (1 - 1 / la)
-        return at_loss_out + te2
+    def passive(t, stages):
+        for db, tk in stages:
+            loss = 10 ** (db / 10)
+            t = t / loss + tk * (1 - 1 / loss)
+        return t
+
+    def through(ts):  # source -> passives -> DUT -> loss at T0 -> passives -> receiver
+        at_loss_out = g1 * (passive(ts, source_side) + te1) / la + T0 * (1 - 1 / la)
+        return passive(at_loss_out, receiver_side) + te2
 
     def cap(kelvin):
         return Capture.from_array(rng.normal(0, math.sqrt(scale * kelvin), n), sample_rate_hz=fs)
@@ -64,9 +73,51 @@ def test_loss_after_the_dut_is_de_embedded():
     c = _chain(loss_after_db=3.0, seed=4)
     r = analyze_yfactor(hot=c["hot"], cold=c["cold"], cal_hot=c["cal_hot"], cal_cold=c["cal_cold"],
                         source=HotColdSource(enr=EnrTable.constant(15.0, cold_k=296.0)),
-                        loss_after=Loss(3.0, T0))
+                        passives=[PassiveStage("pad", "receiver", 3.0, T0)])
     assert r.noise_figure_db == pytest.approx(2.0, abs=0.06)
     assert r.gain_db == pytest.approx(20.0, abs=0.06)
+
+
+# Two stages on each side at different temperatures (a cooled cable among them, INVENTED DATA).
+_SOURCE_SIDE = ((0.8, 296.0), (0.5, 77.0))
+_RECEIVER_SIDE = ((2.0, 320.0), (1.0, 296.0))
+
+
+def test_passive_stages_on_both_sides_are_de_embedded_in_signal_order():
+    c = _chain(seed=7, source_side=_SOURCE_SIDE, receiver_side=_RECEIVER_SIDE)
+    stages = [PassiveStage(f"s{i}", "source", db, k) for i, (db, k) in enumerate(_SOURCE_SIDE)]
+    stages += [PassiveStage(f"r{i}", "receiver", db, k) for i, (db, k) in enumerate(_RECEIVER_SIDE)]
+    r = analyze_yfactor(hot=c["hot"], cold=c["cold"], cal_hot=c["cal_hot"], cal_cold=c["cal_cold"],
+                        source=HotColdSource(enr=EnrTable.constant(15.0, cold_k=296.0)), passives=stages)
+    u = r.uncertainty["noise_figure_db"]
+    assert r.noise_figure_db == pytest.approx(2.0, abs=u)
+    assert r.gain_db == pytest.approx(20.0, abs=r.uncertainty["gain_db"])
+    assert [(p.name, p.side) for p in r.passive_stages] == [("s0", "source"), ("s1", "source"),
+                                                           ("r0", "receiver"), ("r1", "receiver")]
+    reversed_order = stages[1::-1] + stages[2:]  # the same stages in the wrong order on the source side
+    wrong = analyze_yfactor(hot=c["hot"], cold=c["cold"], cal_hot=c["cal_hot"], cal_cold=c["cal_cold"],
+                            source=HotColdSource(enr=EnrTable.constant(15.0, cold_k=296.0)),
+                            passives=reversed_order)
+    # The order matters and is kept: in the wrong order the source side's Te (by hand, Friis) differs by
+    # d, and the DUT's Te by d / L.
+    (la, ta), (lb, tb) = [(10 ** (db / 10), k) for db, k in _SOURCE_SIDE]
+    d = ((lb - 1) * tb + (la - 1) * ta * lb) - ((la - 1) * ta + (lb - 1) * tb * la)
+    te_wrong = r.noise_temperature_k - d / (la * lb)
+    assert wrong.noise_figure_db == pytest.approx(10 * math.log10(1 + te_wrong / T0), abs=1e-6)
+    assert abs(wrong.noise_figure_db - r.noise_figure_db) > 0.03
+
+
+def test_passive_stages_together_are_one_loss_by_friis():
+    # Friis 1944 for passive stages: two 3 dB pads at 290 K are one 6 dB pad at 290 K (F = L);
+    # 1 dB at 290 K then 3 dB at 77 K: Te = (L1-1) 290 + (L2-1) 77 L1, by hand.
+    both = side_loss([PassiveStage("a", "source", 3.0, 290.0), PassiveStage("b", "source", 3.0, 290.0)], "source")
+    assert both.loss_db == pytest.approx(6.0, abs=1e-12) and both.temperature_k == pytest.approx(290.0)
+    l1, l2 = 10 ** 0.1, 10 ** 0.3
+    te = (l1 - 1) * 290.0 + (l2 - 1) * 77.0 * l1
+    mixed = side_loss([PassiveStage("a", "receiver", 1.0, 290.0), PassiveStage("b", "receiver", 3.0, 77.0)],
+                      "receiver")
+    assert (10 ** (mixed.loss_db / 10) - 1) * mixed.temperature_k == pytest.approx(te, rel=1e-12)
+    assert side_loss([PassiveStage("a", "receiver", 1.0, 290.0)], "source") is None
 
 
 def test_repeats_give_scatter():
@@ -139,6 +190,28 @@ def test_cli_on_sigmf_excludes_dc_and_edges_and_writes_json(tmp_path, capsys):
     assert data["excluded"]["dc_spike_hz"][0] < 145e6 < data["excluded"]["dc_spike_hz"][1]
     assert "DC spike" in capsys.readouterr().out
     assert (tmp_path / "p" / "yfactor.png").is_file()
+
+
+def test_cli_chain_file_gives_the_same_figures_as_the_side_options(tmp_path):
+    f = _iq_files(tmp_path)
+    chain = tmp_path / "bench.toml"  # INVENTED DATA: the set-up in signal order around the DUT
+    chain.write_text('temperature_k = 296.0\n[[stage]]\nname = "source cable"\nloss_db = 0.4\n'
+                     '[[stage]]\nname = "preamp"\n'
+                     '[[stage]]\nname = "dc block"\nloss_db = 0.2\ntemperature_k = 310.0\n'
+                     '[[stage]]\nname = "receiver cable"\nloss_db = 0.5\n')
+    base = ["yfactor", "--hot", str(f["hot"]), "--cold", str(f["cold"]), "--cal-hot", str(f["cal_hot"]),
+            "--cal-cold", str(f["cal_cold"]), "--enr-db", "5.5", "--t-cold-k", "297", "--quiet"]
+    assert main([*base, "--chain", str(chain), "--json", str(tmp_path / "a.json")]) == ExitStatus.OK
+    assert main([*base, "--source-side", "0.4", "296", "--receiver-side", "0.2", "310", "--receiver-side", "0.5",
+                 "296", "--json", str(tmp_path / "b.json")]) == ExitStatus.OK
+    a, b = (json.loads((tmp_path / n).read_text()) for n in ("a.json", "b.json"))
+    assert a["noise_figure_db"] == pytest.approx(b["noise_figure_db"], abs=1e-9)
+    assert a["gain_db"] == pytest.approx(b["gain_db"], abs=1e-9)
+    assert [(s["name"], s["side"]) for s in a["passive_stages"]] == [
+        ("source cable", "source"), ("dc block", "receiver"), ("receiver cable", "receiver")]
+    assert main([*base, "--json", str(tmp_path / "c.json")]) == ExitStatus.OK
+    plain = json.loads((tmp_path / "c.json").read_text())  # without them the gain reads low by every loss
+    assert a["gain_db"] - plain["gain_db"] == pytest.approx(0.4 + 0.2 + 0.5, abs=1e-9)
 
 
 @pytest.mark.parametrize("case", ["rates differ", "centres differ", "enr table short", "below 0 K",

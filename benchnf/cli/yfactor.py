@@ -59,10 +59,15 @@ def add_options(p: argparse.ArgumentParser) -> None:
                    help="ENR standard uncertainty, dB (default: the table's, else 0.1)")
     p.add_argument("--temperature-uncertainty-k", type=non_negative_pct, default=0.5, metavar="U",
                    help="standard uncertainty of each physical temperature, K (default 0.5)")
-    p.add_argument("--loss-before", type=finite_number, nargs=2, metavar=("DB", "K"),
-                   help="matched loss between source and DUT: dB and physical temperature in K")
-    p.add_argument("--loss-after", type=finite_number, nargs=2, metavar=("DB", "K"),
-                   help="matched loss between DUT and receiver: dB and physical temperature in K")
+    chain = p.add_argument_group("passive stages around the DUT (de-embedded; docs/yfactor.md)")
+    chain.add_argument("--source-side", type=finite_number, nargs=2, action="append", metavar=("DB", "K"),
+                       help="a passive stage between the noise source and the DUT: loss in dB and physical "
+                            "temperature in K (repeatable, in signal order)")
+    chain.add_argument("--receiver-side", type=finite_number, nargs=2, action="append", metavar=("DB", "K"),
+                       help="a passive stage between the DUT and the receiver (repeatable, in signal order)")
+    chain.add_argument("--chain", type=Path, metavar="FILE",
+                       help="a chain file (as for cascade): passive stages with loss_db around one active "
+                            "stage, the DUT")
     p.add_argument("--band", type=non_negative_hz, nargs=2, metavar=("LO", "HI"),
                    help="band of the headline figures, absolute Hz (default: the usable span)")
     p.add_argument("--spot", type=positive_hz, nargs="+", metavar="F", help="spot frequencies, Hz")
@@ -97,8 +102,8 @@ def request_from_args(args: argparse.Namespace) -> Any:
         cal_cold=args.cal_cold, floor=args.floor, enr_db=args.enr_db, enr_table=args.enr_table,
         t_hot_k=args.t_hot_k, t_hot_c=args.t_hot_c, t_cold_k=args.t_cold_k, t_cold_c=args.t_cold_c,
         enr_uncertainty_db=args.enr_uncertainty_db, temperature_uncertainty_k=args.temperature_uncertainty_k,
-        loss_before=tuple(args.loss_before) if args.loss_before else None,
-        loss_after=tuple(args.loss_after) if args.loss_after else None,
+        source_side=tuple(tuple(x) for x in args.source_side or ()),
+        receiver_side=tuple(tuple(x) for x in args.receiver_side or ()), chain=args.chain,
         band_hz=tuple(args.band) if args.band else None, spot_hz=tuple(args.spot or ()), rows=args.rows,
         segment_length=args.segment, iq=args.iq, centre_hz=args.centre_hz, channel=args.channel,
         dc_exclude_hz=args.dc_exclude_hz, edge_fraction=args.edge_fraction)

@@ -22,7 +22,7 @@ _LAZY = {
     "AnalysisResult": "results", "AnalysisSpectra": "results", "SpotValue": "results", "SpurValue": "results",
     "RepeatSummary": "results",
     "analyze_gain_method": "gain_method",
-    "analyze_yfactor": "yfactor", "HotColdSource": "yfactor", "Loss": "yfactor", "YFactorResult": "yfactor",
+    "analyze_yfactor": "yfactor", "HotColdSource": "yfactor", "PassiveStage": "yfactor_passive", "YFactorResult": "yfactor",
     "YRow": "yfactor",
     "measured_budget": "stages", "BudgetResult": "stages", "TapResult": "stages", "extract_en_in": "stages",
     "EniResult": "stages",

@@ -29,13 +29,13 @@ from ..noise.yfactor import (
     EnrTable,
     check_temperature,
     hot_temperature_from_enr,
-    loss_noise_factor,
     noise_temperature_from_factor,
 )
 from ..units import T0_K, power_db
 from .physics import check_noise_factor
 from .yfactor_checks import Y_CAUSES, check_calibration_pair, receiver_notes, refuse_quantisation
-from .yfactor_result import YExcluded, YFactorResult, YFiles, YLoss, YRepeats, YRow
+from .yfactor_passive import PassiveStage, side_loss
+from .yfactor_result import YExcluded, YFactorResult, YFiles, YPassive, YRepeats, YRow
 from .yfactor_model import (
     Model,
     Powers,
@@ -50,7 +50,7 @@ from .yfactor_model import (
     usable_mask,
 )
 
-__all__ = ["HotColdSource", "Loss", "StateSpectra", "analyze_yfactor", "yfactor_of_spectra", "pair_figures",
+__all__ = ["HotColdSource", "PassiveStage", "StateSpectra", "analyze_yfactor", "yfactor_of_spectra", "pair_figures",
            "SCHEMA_VERSION"]
 
 SCHEMA_VERSION = "1"
@@ -118,22 +118,11 @@ class HotColdSource:
         return float(hot_temperature_from_enr(self.enr.at(np.array([frequency_hz]))[0]))  # type: ignore[union-attr]
 
 
-@dataclass(frozen=True)
-class Loss:
-    """A matched loss (cable, pad) in dB at a physical temperature in K."""
-
-    loss_db: float
-    temperature_k: float = T0_K
-
-    def __post_init__(self) -> None:
-        loss_noise_factor(self.loss_db, self.temperature_k)  # validates
-
-
 def analyze_yfactor(*, hot: Source | Sequence[Source], cold: Source | Sequence[Source], source: HotColdSource,
                     cal_hot: Source | None = None, cal_cold: Source | None = None, floor: Source | None = None,
                     band: Band | None = None, segment_length: int | None = None, n_rows: int = 16,
-                    spot_hz: Sequence[float] = (), loss_before: Loss | None = None,
-                    loss_after: Loss | None = None, dc_exclude_hz: float | None = None,
+                    spot_hz: Sequence[float] = (), passives: Sequence[PassiveStage] = (),
+                    dc_exclude_hz: float | None = None,
                     edge_fraction: float = 0.1, assumptions: Sequence[str] = (),
                     progress: Callable[[int], None] | None = None, switching: Any = None) -> YFactorResult:
     """Noise figure, noise temperature and gain of a DUT by the Y-factor method.
@@ -162,8 +151,9 @@ def analyze_yfactor(*, hot: Source | Sequence[Source], cold: Source | Sequence[S
         Spot frequencies (each evaluated over one row's width).
     assumptions : sequence of str
         Notes from the resolution of the inputs (e.g. a cold temperature nobody stated), listed first.
-    loss_before, loss_after : Loss, optional
-        Matched losses between source and DUT, and between DUT and receiver.
+    passives : sequence of PassiveStage
+        Matched passive stages (cables, pads) on the source side of the DUT and on its receiver side, in
+        signal order: de-embedded (:mod:`benchnf.measure.yfactor_passive`).
     dc_exclude_hz, edge_fraction :
         IQ only: half-width excluded around the centre (default the larger of
         3 bins and 0.5 % of the span) and the fraction of each half-span
@@ -192,13 +182,13 @@ def analyze_yfactor(*, hot: Source | Sequence[Source], cold: Source | Sequence[S
                         seg=segment_length_for(first, segment_length), progress=progress, notes=notes)
     files = YFiles(tuple(_p(h) for h in hot_l), tuple(_p(c) for c in cold_l), _p(cal_hot), _p(cal_cold), _p(floor))
     return yfactor_of_spectra(sp, first=first, source=source, band=band, n_rows=n_rows, spot_hz=spot_hz,
-                              loss_before=loss_before, loss_after=loss_after, dc_exclude_hz=dc_exclude_hz,
+                              passives=passives, dc_exclude_hz=dc_exclude_hz,
                               edge_fraction=edge_fraction, files=files, notes=notes, switching=switching)
 
 
 def yfactor_of_spectra(sp: "StateSpectra", *, first: Source, source: HotColdSource, band: Band | None = None,
-                       n_rows: int = 16, spot_hz: Sequence[float] = (), loss_before: Loss | None = None,
-                       loss_after: Loss | None = None, dc_exclude_hz: float | None = None,
+                       n_rows: int = 16, spot_hz: Sequence[float] = (),
+                       passives: Sequence[PassiveStage] = (), dc_exclude_hz: float | None = None,
                        edge_fraction: float = 0.1, files: YFiles | None = None, notes: list[str] | None = None,
                        switching: Any = None) -> YFactorResult:
     """The Y-factor figures from the states' spectra (:func:`analyze_yfactor` after its spectra; the live
@@ -210,6 +200,7 @@ def yfactor_of_spectra(sp: "StateSpectra", *, first: Source, source: HotColdSour
     usable = usable_mask(f, first, dc_exclude_hz, edge_fraction, excluded)
     band = _headline_band(f, first, band, usable, source)
     quantum = quantisation_density(first)
+    source_side, receiver_side = side_loss(passives, "source"), side_loss(passives, "receiver")
 
     def evaluate(b: Band) -> tuple[Powers, Model] | None:
         w = band_bin_weights(f, b) * usable
@@ -217,7 +208,7 @@ def yfactor_of_spectra(sp: "StateSpectra", *, first: Source, source: HotColdSour
             return None
         pw = band_powers(w, sp.hot, sp.cold, sp.floor, sp.cal_hot, sp.cal_cold, quantum=quantum)
         centre = math.sqrt(b.low_hz * b.high_hz) if b.low_hz > 0 else (b.low_hz + b.high_hz) / 2
-        return pw, Model(source, centre, loss_before, loss_after, corrected)
+        return pw, Model(source, centre, source_side, receiver_side, corrected)
 
     head = _headline(evaluate(band), band, source, corrected, notes)
     rows = tuple(_row(evaluate(sub), source, corrected, sub) for sub in subbands(band, n_rows))
@@ -240,7 +231,7 @@ def yfactor_of_spectra(sp: "StateSpectra", *, first: Source, source: HotColdSour
         from .yfactor_switched import switched_fields
         switched = switched_fields(switching, figures, first.sample_rate_hz)
     return replace(_assemble(head, sp, source=source, corrected=corrected, floor=sp.floor, band=band, first=first,
-                             excluded=excluded, loss_before=loss_before, loss_after=loss_after, rows=rows,
+                             excluded=excluded, passives=passives, rows=rows,
                              spots=spots, repeats=repeats, files=files or YFiles((), ()), notes=notes), **switched)
 
 
@@ -398,8 +389,8 @@ def _pair_repeats(nfs: list[float], notes: list[str]) -> YRepeats | None:
 
 
 def _assemble(head: _Headline, sp: StateSpectra, *, source: HotColdSource, corrected: bool, floor: Psd | None,
-              band: Band, first: Source, excluded: dict[str, Any], loss_before: Loss | None,
-              loss_after: Loss | None, rows: tuple[YRow, ...], spots: tuple[YRow, ...],
+              band: Band, first: Source, excluded: dict[str, Any], passives: Sequence[PassiveStage],
+              rows: tuple[YRow, ...], spots: tuple[YRow, ...],
               repeats: YRepeats | None, files: YFiles, notes: list[str]) -> YFactorResult:
     f1, f12, f2, g1, model, budgets = head.f1, head.f12, head.f2, head.g1, head.model, head.budgets
     return YFactorResult(
@@ -417,8 +408,7 @@ def _assemble(head: _Headline, sp: StateSpectra, *, source: HotColdSource, corre
         band_hz=(band.low_hz, band.high_hz),
         centre_hz=first.centre_hz if isinstance(first, IqCapture) else None,
         excluded=YExcluded(**excluded),
-        loss_before=YLoss(loss_before.loss_db, loss_before.temperature_k) if loss_before else None,
-        loss_after=YLoss(loss_after.loss_db, loss_after.temperature_k) if loss_after else None,
+        passive_stages=tuple(YPassive(p.name, p.side, p.loss_db, p.temperature_k) for p in passives),
         rows=rows, spots=spots, uncertainty=Uncertainty(budgets),
         repeats=repeats, rbw_hz=sp.hot.enbw_hz, n_averages=sp.hot.n_averages, files=files,
         notes=tuple(notes))

@@ -131,9 +131,12 @@ def band_powers(w, p_hot, p_cold, p_floor, p_ch, p_cc, *, quantum: float = 0.0) 
 class Model:
     """The whole chain of equations for one (sub-)band, as a function of its inputs (for the budget)."""
 
-    def __init__(self, source: Any, f_centre: float, loss_before: Any,
-                 loss_after: Any, corrected: bool) -> None:
-        self.source, self.f, self.lb, self.la, self.corrected = source, f_centre, loss_before, loss_after, corrected
+    def __init__(self, source: Any, f_centre: float, source_side: Any,
+                 receiver_side: Any, corrected: bool) -> None:
+        """`source_side`, `receiver_side`: the passive stages on each side of the DUT as one equivalent loss
+        each (:func:`benchnf.measure.yfactor_passive.side_loss`), or None."""
+        self.source, self.f, self.corrected = source, f_centre, corrected
+        self.source_side, self.receiver_side = source_side, receiver_side
         self.enr0 = (float(source.enr.at(np.array([f_centre]))[0]) if source.enr is not None else None)
 
     def factors(self, *, hot, cold, cal_hot=None, cal_cold=None, enr_db=None, t_hot=None, t_cold=None,
@@ -154,14 +157,16 @@ class Model:
             f2 = 1 + float(noise_temperature_from_y(y2, t_hot_k=th, t_cold_k=tc)) / T0_K
             g1 = (hot - cold) / (cal_hot - cal_cold)
             f2_eff = f2
-            if self.la is not None:
-                f2_eff = float(join_output_loss(f2, self.la.loss_db, self.la.temperature_k))
-                g1 = g1 * 10 ** (self.la.loss_db / 10)
+            if self.receiver_side is not None:
+                rs = self.receiver_side
+                f2_eff = float(join_output_loss(f2, rs.loss_db, rs.temperature_k))
+                g1 = g1 * 10 ** (rs.loss_db / 10)
             f1 = f12 - (f2_eff - 1) / g1
-        if self.lb is not None:
-            f1 = float(remove_input_loss(f1, self.lb.loss_db, self.lb.temperature_k))
+        if self.source_side is not None:
+            ss = self.source_side
+            f1 = float(remove_input_loss(f1, ss.loss_db, ss.temperature_k))
             if g1 is not None:
-                g1 = g1 * 10 ** (self.lb.loss_db / 10)
+                g1 = g1 * 10 ** (ss.loss_db / 10)
         return y12, f12, f2, g1, f1
 
     def nf_db(self, **kw) -> float:

@@ -1,6 +1,6 @@
 """What a user asks of a Y-factor measurement, resolved: hot/cold states opened the same way (SigMF IQ,
 two-channel audio as I/Q, or one real audio channel), the source from an ENR or two temperatures, and
-the losses. Every front end builds a :class:`YFactorRequest` and calls :func:`resolve_yfactor`."""
+the passive stages around the DUT. Every front end builds a :class:`YFactorRequest` and calls :func:`resolve_yfactor`."""
 
 from __future__ import annotations
 
@@ -10,7 +10,7 @@ from typing import Any
 
 from ..errors import ParameterError
 
-__all__ = ["YFactorRequest", "hot_cold_source", "open_state", "resolve_yfactor", "run_yfactor"]
+__all__ = ["YFactorRequest", "hot_cold_source", "passive_stages", "open_state", "resolve_yfactor", "run_yfactor"]
 
 _ZERO_C_K = 273.15
 
@@ -37,8 +37,9 @@ class YFactorRequest:
     t_cold_c: float | None = None
     enr_uncertainty_db: float | None = None
     temperature_uncertainty_k: float = 0.5
-    loss_before: tuple[float, float] | None = None
-    loss_after: tuple[float, float] | None = None
+    source_side: tuple[tuple[float, float], ...] = ()  # passive stages (dB, K) source -> DUT, in order
+    receiver_side: tuple[tuple[float, float], ...] = ()  # passive stages (dB, K) DUT -> receiver, in order
+    chain: Path | None = None  # a chain file: passive stages around one active stage (the DUT)
     band_hz: tuple[float, float] | None = None
     spot_hz: tuple[float, ...] = ()
     rows: int = 16
@@ -97,10 +98,19 @@ def hot_cold_source(req: YFactorRequest) -> Any:
                          temperature_uncertainty_k=req.temperature_uncertainty_k)
 
 
+def passive_stages(req: YFactorRequest) -> tuple[Any, ...]:
+    """The passive stages around the DUT, from the chain file or the --source-side/--receiver-side values."""
+    from .yfactor_passive import passives_from_chain, passives_from_options
+    if req.chain is not None:
+        if req.source_side or req.receiver_side:
+            raise ParameterError("give the passive stages one way: --chain FILE, or --source-side/--receiver-side")
+        return passives_from_chain(req.chain)
+    return passives_from_options(req.source_side, req.receiver_side)
+
+
 def resolve_yfactor(req: YFactorRequest) -> dict[str, Any]:
     """Open every state and build the source and losses; the keyword arguments of analyze_yfactor."""
     from ..dsp.weighting import Band
-    from .yfactor import Loss
     hot, cold, switching = _states(req)
     source = hot_cold_source(req)
     enr = source.enr
@@ -114,8 +124,7 @@ def resolve_yfactor(req: YFactorRequest) -> dict[str, Any]:
                 cal_hot=state(req.cal_hot), cal_cold=state(req.cal_cold),
                 floor=state(req.floor), band=Band(*req.band_hz) if req.band_hz else None,
                 segment_length=req.segment_length, n_rows=req.rows, spot_hz=req.spot_hz,
-                loss_before=Loss(*req.loss_before) if req.loss_before else None,
-                loss_after=Loss(*req.loss_after) if req.loss_after else None,
+                passives=passive_stages(req),
                 dc_exclude_hz=req.dc_exclude_hz, edge_fraction=req.edge_fraction)
 
 

@@ -9,7 +9,7 @@ from ..codec import ResultFile, figure
 from ..noise.uncertainty import Budget, Uncertainty
 from .provenance import Provenance
 
-__all__ = ["YRow", "YExcluded", "YLoss", "YRepeats", "YFiles", "YSegment", "YPair", "YPowerTrace", "YFactorResult"]
+__all__ = ["YRow", "YExcluded", "YPassive", "YRepeats", "YFiles", "YSegment", "YPair", "YPowerTrace", "YFactorResult"]
 
 
 @dataclass(frozen=True)
@@ -35,11 +35,14 @@ class YExcluded:
 
 
 @dataclass(frozen=True)
-class YLoss:
-    """A matched loss ahead of or behind the DUT, as the result states it."""
+class YPassive:
+    """A passive stage de-embedded on one side of the DUT (source side: between the noise source and the
+    DUT; receiver side: between the DUT and the receiver), in signal order."""
 
     RANGES: ClassVar[dict[str, dict[str, Any]]] = {"loss_db": dict(minimum=0), "temperature_k": dict(exclusiveMinimum=0)}
 
+    name: str
+    side: Literal["source", "receiver"]
     loss_db: float
     temperature_k: float
 
@@ -132,8 +135,7 @@ class YFactorResult(ResultFile):
     band_hz: tuple[float, float]
     centre_hz: float | None
     excluded: YExcluded
-    loss_before: YLoss | None
-    loss_after: YLoss | None
+    passive_stages: tuple[YPassive, ...]
     rows: tuple[YRow, ...]
     spots: tuple[YRow, ...]
     uncertainty: Uncertainty

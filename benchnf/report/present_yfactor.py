@@ -27,9 +27,11 @@ def _conditions(r: YFactorResult) -> tuple[tuple[str, str], ...]:
     if ex.dc_spike_hz and ex.edges_hz:
         out.append(("excluded", f"DC spike {_hz(ex.dc_spike_hz[0])} to {_hz(ex.dc_spike_hz[1])}, band edges below "
                                 f"{_hz(ex.edges_hz[0][1])} and above {_hz(ex.edges_hz[1][0])}"))
-    for name, loss in (("loss before the DUT", r.loss_before), ("loss after the DUT", r.loss_after)):
-        if loss:
-            out.append((name, f"{loss.loss_db:g} dB at {loss.temperature_k:g} K, de-embedded"))
+    for side in ("source", "receiver"):
+        stages = [p for p in r.passive_stages if p.side == side]
+        if stages:
+            out.append((f"{side} side of the DUT", "; ".join(
+                f"{p.name}: {p.loss_db:g} dB at {p.temperature_k:g} K" for p in stages) + ", de-embedded"))
     return tuple(out)
 
 
