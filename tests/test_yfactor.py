@@ -254,3 +254,39 @@ def test_cli_bad_input(case, tmp_path, capsys):
     assert rc == ExitStatus.BAD_INPUT
     assert len(err) == 1 and err[0].startswith("benchnf: error:")
     assert re.search(pattern, err[0]), err[0]
+
+
+def _cu8(path, level_dbfs, seed, n=400_000):
+    """An 8-bit recording as an RTL2832U-class receiver writes it (INVENTED DATA, seeded): Gaussian noise at a
+    given RMS level, I and Q as (x + 1) * 128 rounded and clipped to 0..255 (the rails)."""
+    rng = np.random.default_rng(seed)
+    sigma = math.sqrt(10 ** (level_dbfs / 10) / 2)
+    raw = np.clip(np.round(rng.normal(0, sigma, 2 * n) * 128 + 128), 0, 255).astype(np.uint8)
+    raw.tofile(path.with_suffix(".sigmf-data"))
+    path.with_suffix(".sigmf-meta").write_text(json.dumps({
+        "global": {"core:datatype": "cu8", "core:sample_rate": 1.0e6, "core:version": "1.0.0"},
+        "captures": [{"core:sample_start": 0, "core:frequency": 145e6}], "annotations": []}))
+    return path.with_suffix(".sigmf-meta")
+
+
+@pytest.mark.parametrize("hot_dbfs, rails, level", [(-12.0, False, False), (-8.0, True, False)])
+def test_8_bit_compression_note_looks_at_the_rails_not_the_level(tmp_path, hot_dbfs, rails, level):
+    # At -12 dBFS RMS, 8-bit noise peaks stay 5.6 sigma under the rails: nothing clips (the old -15 dBFS rule
+    # noted compression here); at -8 dBFS about 1e-4 of the values reach the rails (Gaussian tail).
+    hot, cold = _cu8(tmp_path / "hot", hot_dbfs, 1), _cu8(tmp_path / "cold", hot_dbfs - 8.0, 2)
+    r = analyze_yfactor(hot=open_sigmf(hot), cold=open_sigmf(cold), source=HotColdSource(enr=EnrTable.constant(15.0)))
+    assert any("converter's rails" in n for n in r.notes) is rails
+    assert any("may be compressing" in n for n in r.notes) is level
+
+
+def test_floating_point_iq_keeps_the_level_rule(tmp_path):
+    rng = np.random.default_rng(3)
+
+    def noise(level):
+        s = math.sqrt(10 ** (level / 10) / 2)
+        return rng.normal(0, s, 200_000) + 1j * rng.normal(0, s, 200_000)
+    for name, lvl in (("hot", -12.0), ("cold", -20.0)):
+        write_sigmf(tmp_path / name, noise(lvl), sample_rate_hz=1e6, centre_hz=145e6, datatype="cf32_le")
+    r = analyze_yfactor(hot=open_sigmf(tmp_path / "hot.sigmf-meta"), cold=open_sigmf(tmp_path / "cold.sigmf-meta"),
+                        source=HotColdSource(enr=EnrTable.constant(15.0)))
+    assert any("reaches -12.0 dBFS" in n and "may be compressing" in n for n in r.notes)

@@ -64,6 +64,16 @@ class IqCapture:
             count = min(block_frames, self.start + self.n_frames - s)
             yield self._read(s, count)
 
+    @property
+    def rails(self) -> tuple[float, float] | None:
+        """The lowest and highest values the converter's integer codes give after scaling to full scale
+        (cu8/ci8: -1 and 127/128), or None for floating-point samples, which have no rails."""
+        match = _DATATYPE.match(str(self.metadata.get("datatype", "")))
+        if match is None or match.group(2)[0] == "f":
+            return None
+        half = 2.0 ** (int(match.group(2)[1:]) - 1)
+        return -1.0, (half - 1) / half
+
     def segment(self, label: str) -> list["IqCapture"]:
         """The annotated segments with this label, as captures of their own."""
         from dataclasses import replace

@@ -33,7 +33,7 @@ from ..noise.yfactor import (
 )
 from ..units import T0_K, power_db
 from .physics import check_noise_factor
-from .yfactor_checks import Y_CAUSES, check_calibration_pair, receiver_notes, refuse_quantisation
+from .yfactor_checks import Y_CAUSES, check_calibration_pair, compression_notes, receiver_notes, refuse_quantisation
 from .yfactor_passive import PassiveStage, side_loss
 from .yfactor_result import YExcluded, YFactorResult, YFiles, YPassive, YRepeats, YRow
 from .yfactor_model import (
@@ -54,7 +54,6 @@ __all__ = ["HotColdSource", "PassiveStage", "StateSpectra", "analyze_yfactor", "
            "SCHEMA_VERSION"]
 
 SCHEMA_VERSION = "1"
-_COMPRESSION_DBFS = -15.0
 
 
 @dataclass(frozen=True)
@@ -316,13 +315,8 @@ def _state_spectra(hot_l: list[Source], cold_l: list[Source], *, cal_hot: Source
         pc, _ = state_spectrum(c, seg, progress)
         hot_ps.append(ph)
         cold_ps.append(pc)
-        if lvl > _COMPRESSION_DBFS:
-            loud.append((h.label, lvl))
-    if loud:
-        first = loud[0][0] + (f" and {len(loud) - 1} other hot state(s)" if len(loud) > 1 else "")
-        notes.append(f"{first} reach{'es' if len(loud) == 1 else ''} {max(v for _n, v in loud):.1f} dBFS: the "
-                     f"receiver or the DUT may be compressing, which lowers Y and raises the NF read; lower the gain "
-                     f"or use a lower-ENR source")
+        loud.append((h.label, lvl))
+    notes += compression_notes(loud)
 
     def one(x: Source | None) -> Psd | None:
         return state_spectrum(x, seg, progress)[0] if x is not None else None

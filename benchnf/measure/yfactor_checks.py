@@ -10,13 +10,42 @@ from typing import Any
 from ..errors import MeasurementError
 from ..noise.uncertainty import Budget
 
-__all__ = ["Y_CAUSES", "receiver_notes", "check_calibration_pair", "refuse_quantisation"]
+__all__ = ["Y_CAUSES", "compression_notes", "receiver_notes", "check_calibration_pair", "refuse_quantisation"]
 
 
 #: What makes a Y-factor noise figure come out below 0 dB (common practice).
 Y_CAUSES = ("an ENR table for another source or in other units (or --enr-db wrong); hot and cold captures "
             "swapped; a wrong cold temperature; a calibration pair taken at another setting than the DUT "
             "measurement; a receiver that compresses in the hot state")
+
+
+#: A state louder than this (RMS, dBFS) may be compressing where its samples have no rails to count
+#: (floating point, audio): noise peaks about 4 sigma above its RMS reach full scale near -12 dBFS (common practice).
+COMPRESSION_DBFS = -15.0
+#: More than this fraction of an integer recording's I/Q values at the converter's rails: clipped peaks
+#: (a recording above io.sigmf_iq.OVERLOADED is refused when it is opened).
+AT_RAILS = 1e-6
+
+
+def compression_notes(loud: list[tuple[str, Any]]) -> list[str]:
+    """A note where a hot state may compress: values at the converter's rails (integer IQ), else a level
+    above COMPRESSION_DBFS. `loud`: (label, yfactor_model.Loudness) of each hot state."""
+    railed = [(name, x.at_rails) for name, x in loud if x.at_rails is not None and x.at_rails > AT_RAILS]
+    hot = [(name, x.level_dbfs) for name, x in loud if x.at_rails is None and x.level_dbfs > COMPRESSION_DBFS]
+    notes = []
+    if railed:
+        notes.append(f"{_names(railed)}: up to {100 * max(v for _n, v in railed):.4f} % of the I/Q values sit at "
+                     f"the converter's rails: the receiver clips the hot state's peaks, which lowers Y and raises "
+                     f"the NF read; lower the gain or use a lower-ENR source")
+    if hot:
+        notes.append(f"{_names(hot)} reach{'es' if len(hot) == 1 else ''} {max(v for _n, v in hot):.1f} dBFS: the "
+                     f"receiver or the DUT may be compressing, which lowers Y and raises the NF read; lower the gain "
+                     f"or use a lower-ENR source")
+    return notes
+
+
+def _names(items: list[tuple[str, float]]) -> str:
+    return items[0][0] + (f" and {len(items) - 1} other hot state(s)" if len(items) > 1 else "")
 
 
 def receiver_notes(everything: list[Any]) -> list[str]:

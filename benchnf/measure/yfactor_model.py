@@ -23,20 +23,33 @@ from ..noise.yfactor import hot_temperature_from_enr, join_output_loss, noise_te
 from ..streaming import stream_spectrum
 from ..units import T0_K, fs_to_dbfs
 
-__all__ = ["Source", "state_spectrum", "usable_mask", "subbands", "Powers", "band_powers", "Model",
+__all__ = ["Source", "Loudness", "state_spectrum", "usable_mask", "subbands", "Powers", "band_powers", "Model",
            "budget_inputs", "evaluate_budgets", "open_pairs"]
 
 Source = Union[Capture, IqCapture]
 
 
-def state_spectrum(src: Source, seg: int, progress: Callable[[int], None] | None) -> tuple[Psd, float]:
-    """PSD in full-scale units (a ratio method needs no volts) and the RMS level in dBFS."""
+@dataclass(frozen=True)
+class Loudness:
+    """How loud a state is: its RMS level in dBFS and, for integer IQ, the fraction of its I and Q values at
+    the converter's rails (None where the samples have no rails: floating point, audio)."""
+
+    level_dbfs: float
+    at_rails: float | None = None
+
+
+def state_spectrum(src: Source, seg: int, progress: Callable[[int], None] | None) -> tuple[Psd, Loudness]:
+    """PSD in full-scale units (a ratio method needs no volts) and how loud the state is."""
     if isinstance(src, IqCapture):
-        power = [0.0, 0]
+        rails = src.rails
+        power, count, railed = [0.0], [0], [0]
 
         def note(block):
             power[0] += float(np.sum(block.real ** 2 + block.imag ** 2))
-            power[1] += block.size
+            count[0] += block.size
+            if rails is not None:
+                parts = np.concatenate([block.real, block.imag])
+                railed[0] += int(np.count_nonzero((parts <= rails[0] + 1e-9) | (parts >= rails[1] - 1e-9)))
             if progress is not None:
                 progress(block.size)
 
@@ -45,10 +58,11 @@ def state_spectrum(src: Source, seg: int, progress: Callable[[int], None] | None
         if power[0] == 0:
             raise CaptureError(f"{src.label} is silent (every sample is zero)")
         # IQ full scale: |z| = 1, so a full-scale complex sine has power 1 (0 dBFS).
-        return psd, float(10 * math.log10(power[0] / power[1]))
+        return psd, Loudness(float(10 * math.log10(power[0] / count[0])),
+                             railed[0] / (2 * count[0]) if rails is not None else None)
     acc, stats = stream_spectrum(src, segment_length=seg, progress=progress)
     stats.check_noise()
-    return acc.result(), float(fs_to_dbfs(stats.rms_fs))
+    return acc.result(), Loudness(float(fs_to_dbfs(stats.rms_fs)))
 
 
 def usable_mask(f: NDArray[np.float64], src: Source, dc_exclude_hz: float | None,
