@@ -23,7 +23,8 @@ import numpy as np
 class Schedule:
     """How the noise source is switched: states of roughly `period_s` each, their lengths jittered by up to
     `jitter_s` (a hand on the switch), with a `ramp_s` transition; after `step_at_s` the system NF changes to
-    `nf_after_db` (a trimmer turned)."""
+    `nf_after_db` (a trimmer turned). From `dut_at_s` on (:meth:`StandIn.insert_dut`), `nf_db` is the
+    receiver's own and a DUT of `dut_gain_db` and `dut_nf_db` sits ahead of it."""
 
     enr_db: float = 15.0
     nf_db: float = 3.0
@@ -35,12 +36,31 @@ class Schedule:
     nf_after_db: float | None = None
     cold_lsb: float = 4.0
     seed: int = 0
+    dut_at_s: float | None = None  # a DUT connected ahead of the receiver from this time on (nf_db: the receiver)
+    dut_gain_db: float = 10.0
+    dut_nf_db: float = 1.0
+
+    def _system(self, t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """The noise factor seen at times `t` and the cold noise power relative to the receiver's alone."""
+        t = np.asarray(t)
+        after = self.nf_after_db if self.nf_after_db is not None else self.nf_db
+        f = 10 ** (np.where(t >= (self.step_at_s if self.step_at_s is not None else np.inf), after,
+                            self.nf_db) / 10)
+        if self.dut_at_s is None:
+            return f, np.ones_like(f)
+        # Friis 1944: F12 = F1 + (F2 - 1)/G1; the cold power grows from k T0 F2 to k T0 G1 F12 (cold at T0).
+        g1, f1 = 10 ** (self.dut_gain_db / 10), 10 ** (self.dut_nf_db / 10)
+        f12 = f1 + (f - 1) / g1
+        inside = t >= self.dut_at_s
+        return np.where(inside, f12, f), np.where(inside, g1 * f12 / f, 1.0)
 
     def y_at(self, t: np.ndarray) -> np.ndarray:
         """Y at times `t` (s)."""
-        after = self.nf_after_db if self.nf_after_db is not None else self.nf_db
-        nf = np.where(np.asarray(t) >= (self.step_at_s if self.step_at_s is not None else np.inf), after, self.nf_db)
-        return 1 + 10 ** (self.enr_db / 10) / 10 ** (nf / 10)
+        return 1 + 10 ** (self.enr_db / 10) / self._system(t)[0]
+
+    def cold_at(self, t: np.ndarray) -> np.ndarray:
+        """The cold state's standard deviation per component at times `t`, in converter steps."""
+        return self.cold_lsb * np.sqrt(self._system(t)[1])
 
 
 @dataclass
@@ -61,6 +81,7 @@ class StandIn:
         self.commands: list[tuple[int, int]] = []
         self.transitions: list[tuple[str, float]] = []  # (state, start time s) as streamed
         self.rate_hz = 2_048_000.0
+        self.streamed_s = 0.0
         self._srv = socket.socket(socket.AF_INET, socket.SOCK_STREAM)
         self._srv.setsockopt(socket.SOL_SOCKET, socket.SO_REUSEADDR, 1)
         self._srv.bind(("127.0.0.1", 0))
@@ -84,6 +105,11 @@ class StandIn:
 
     def __exit__(self, *exc: object) -> None:
         self.close()
+
+    def insert_dut(self) -> float:
+        """Connect the schedule's DUT from now on (the stream's time); that time in seconds."""
+        self.schedule.dut_at_s = self.streamed_s
+        return self.schedule.dut_at_s
 
     def gain_db(self) -> float | None:
         vals = [v for c, v in self.commands if c == 0x04]
@@ -125,10 +151,11 @@ class StandIn:
             self._states.append("hot" if self._states[-1] == "cold" else "cold")
             self.transitions.append((self._states[-1], self._bounds[-1]))
         k = np.searchsorted(np.asarray(self._bounds), t, side="right") - 1
-        hot = np.sqrt(s.y_at(t)) * s.cold_lsb
+        cold = s.cold_at(t)
+        hot = np.sqrt(s.y_at(t)) * cold
         is_hot = np.array([st == "hot" for st in self._states])
-        now = np.where(is_hot[k], hot, s.cold_lsb)
-        before = np.where(is_hot[np.maximum(k - 1, 0)], hot, s.cold_lsb)
+        now = np.where(is_hot[k], hot, cold)
+        before = np.where(is_hot[np.maximum(k - 1, 0)], hot, cold)
         since = t - np.asarray(self._bounds)[k]
         frac = np.clip(since / s.ramp_s, 0, 1) if s.ramp_s > 0 else np.ones_like(t)
         frac[k == 0] = 1.0
@@ -160,6 +187,7 @@ class StandIn:
             except OSError:
                 return
             n_sent += chunk
+            self.streamed_s = n_sent / rate
             if self.paced:
                 ahead = n_sent / (rate * self.speed) - (time.monotonic() - t0)
                 if ahead > 0:

@@ -238,3 +238,47 @@ def test_live_calibration_pair_corrects_the_later_pairs():
         live.check_calibration(145e6, RATE, 35.0)
     r = live.result()
     assert r.second_stage_corrected and [r.segments[p.hot].state for p in r.pairs] == ["hot"] * len(r.pairs)
+
+
+def test_terminal_calibration_pair_then_the_dut_with_a_note(tmp_path):
+    """`yfactor --live --calibrate-first` as a user runs it: the first pair with the source straight into the
+    receiver (NF 8 dB); at the prompt the DUT (NF 1 dB, gain 10 dB) is connected and Enter pressed; a typed
+    note marks the next pair. Every DUT pair reads the DUT's NF and gain within U (second-stage correction,
+    Friis 1944; the 8-bit Δ²/12 is taken out by the budget's quantisation term). Seeded stand-in: invented data."""
+    import subprocess
+    import sys
+    import time
+    sched = Schedule(seed=5, period_s=0.6, nf_db=8.0, cold_lsb=3.0, dut_gain_db=10.0, dut_nf_db=1.0)
+    out = tmp_path / "cal.json"
+    with StandIn(schedule=sched) as s:
+        proc = subprocess.Popen(
+            [sys.executable, "-m", "benchnf", "yfactor", "--live", "--calibrate-first", "--sdr", s.address,
+             "--centre-hz", "145e6", "--rate", str(RATE), "--gain", "30", "--enr-db", "15", "--t-cold-k", "290",
+             "--seconds", "16", "--json", str(out), "--quiet"],
+            stdin=subprocess.PIPE, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, bufsize=1)
+        seen, pairs = [], 0
+        for line in proc.stdout:
+            seen.append(line.rstrip())
+            if line.startswith("calibration pair kept"):
+                s.insert_dut()
+                time.sleep(0.4)  # the DUT in, then Enter, as a user does
+                proc.stdin.write("\n")
+                proc.stdin.flush()
+            elif line.startswith("pair"):
+                pairs += 1
+                if pairs == 2:
+                    proc.stdin.write("bias resistor 2k2\n")
+                    proc.stdin.flush()
+        rc = proc.wait(timeout=60)
+        err = proc.stderr.read()
+    assert rc == ExitStatus.OK, (seen, err)
+    kept = next(ln for ln in seen if ln.startswith("calibration pair kept"))
+    assert float(re.search(r"receiver NF ([\d.]+) dB", kept).group(1)) == pytest.approx(true_nf_db(sched), abs=0.2)
+    assert any(ln.startswith("noted for the next pair: bias resistor 2k2") for ln in seen)
+    d = json.loads(out.read_text())
+    assert d["second_stage_corrected"] and len(d["pairs"]) >= 4
+    for p in d["pairs"]:
+        assert p["noise_figure_db"] == pytest.approx(1.0, abs=p["noise_figure_u95_db"])
+        assert p["gain_db"] == pytest.approx(10.0, abs=0.15)
+    assert any("pair 2: bias resistor 2k2" in n for n in d["notes"])
+    assert [ln for ln in seen if ln.startswith("pair")][2].endswith("[bias resistor 2k2]")

@@ -89,12 +89,21 @@ def add_options(p: argparse.ArgumentParser) -> None:
                       help="--live: receiver sample rate (2400000)")
     live.add_argument("--gain", metavar="DB", help="--live: the tuner's fixed gain in dB (automatic gain is refused)")
     live.add_argument("--ppm", type=int, default=0, metavar="N", help="--live: frequency correction, ppm (0)")
+    live.add_argument("--calibrate-first", action="store_true",
+                      help="--live: take the first pair with the noise source straight into the receiver (the "
+                           "second-stage correction, kept for the run), then wait for Enter while the DUT is connected")
     live.add_argument("--seconds", type=positive_seconds, metavar="S",
                       help="--live: stop after this long and write the whole run (default: until Ctrl-C)")
 
 
 def request_from_args(args: argparse.Namespace) -> Any:
     from ..measure.yfactor_request import YFactorRequest
+    live_only = [o for o, v in (("--sdr", args.sdr), ("--gain", args.gain), ("--seconds", args.seconds),
+                                ("--calibrate-first", args.calibrate_first)) if v]
+    if live_only and not args.live:
+        from ..errors import ParameterError
+        raise ParameterError(f"{', '.join(live_only)} belong{'s' if len(live_only) == 1 else ''} to a live run "
+                             f"from a receiver: add --live (recordings are read with --hot/--cold, --switched ...)")
     return YFactorRequest(
         hot=tuple(args.hot or ()), cold=tuple(args.cold or ()), annotated=args.annotated, switched=args.switched,
         switch_block_s=args.switch_block, switch_guard_s=args.switch_guard, switch_shortest_s=args.switch_shortest,
@@ -112,7 +121,7 @@ def request_from_args(args: argparse.Namespace) -> Any:
 def run_stream(args: argparse.Namespace, writer: Any) -> int:
     """``yfactor --live``: one line per hot/cold pair from a receiver; the whole run at the end (--json)."""
     from ..acquire.sdr import SdrSettings, parse_gain
-    from ..acquire.sdr_live import follow_pairs
+    from ..acquire.sdr_live import follow_pairs, typed_lines
     from ..errors import ParameterError
     from ..measure.yfactor_request import hot_cold_source
     from ._common import write_outputs
@@ -127,7 +136,8 @@ def run_stream(args: argparse.Namespace, writer: Any) -> int:
     settings = SdrSettings(args.centre_hz, args.rate, parse_gain(args.gain), args.ppm)
     source = hot_cold_source(request_from_args(args))
     print(_LIVE_CAUTION)
-    result, interrupted = follow_pairs(args.sdr, settings, source, seconds=args.seconds, out=sys.stdout)
+    result, interrupted = follow_pairs(args.sdr, settings, source, seconds=args.seconds,
+                                       calibrate_first=args.calibrate_first, lines=typed_lines(), out=sys.stdout)
     if result is not None:
         from ..report.present_yfactor import present
         from ..report.render_png import figures

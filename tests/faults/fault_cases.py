@@ -184,6 +184,7 @@ def _absurd_numbers() -> list[Case]:
         ("yfactor --source-side nan", nothing, [*YFACTOR, "--source-side", "nan", "290"], 2),
         ("yfactor --receiver-side -3 dB", nothing, [*YFACTOR, "--receiver-side", "-3", "290"], 2),
         ("yfactor --chain with three active stages", nothing, [*YFACTOR, "--chain", "{d}/head_amp_chain.toml"], 2),
+        ("yfactor --calibrate-first without --live", nothing, [*YFACTOR, "--calibrate-first"], 2),
         ("yfactor --chain and --source-side", nothing, [*YFACTOR, "--chain", "{d}/head_amp_chain.toml",
                                                         "--source-side", "1", "290"], 2),
         ("yfactor --t-hot-c below absolute zero", nothing,
