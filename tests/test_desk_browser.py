@@ -313,6 +313,23 @@ def test_a_cross_spectrum_result_with_a_reference_shows_where_the_noise_comes_fr
     assert "cross-spectrum of channels 0 and 1" in text
 
 
+def _start_tuning(browser, url, address):
+    """Open the noise-figure view and start it on a stand-in receiver (1.024 MS/s, gain 30 dB, ENR 15 dB)."""
+    _open(browser, url)
+    browser.find_element(By.CSS_SELECTOR, ".rail button[data-view='tuning']").click()
+    form = browser.find_element(By.ID, "tuning-form")
+    for name, value in (("address", address), ("centre_mhz", "145"), ("rate_hz", "1024000"),
+                        ("gain_db", "30"), ("enr_db", "15")):
+        box = form.find_element(By.NAME, name)
+        box.clear()
+        box.send_keys(value)
+    browser.find_element(By.ID, "tuning-start").click()
+
+
+def _tuning_pairs(driver) -> int:
+    return int(driver.execute_script("return document.body.dataset.tuningPairs || '0'"))
+
+
 def test_noise_figure_mode_follows_a_step_from_a_stand_in_receiver(browser, bench, tmp_path):
     # A stand-in rtl_tcp server (INVENTED DATA, tests/rtl_tcp_standin.py): the source switched by hand every
     # ~0.6 s; the system NF steps from 3 to 2 dB 5 s in (a trimmer turned). Truth as in tests/test_sdr.py.
@@ -320,20 +337,12 @@ def test_noise_figure_mode_follows_a_step_from_a_stand_in_receiver(browser, benc
     from test_sdr import true_nf_db
     sched = Schedule(seed=9, period_s=0.6, step_at_s=5.0, nf_after_db=2.0)
     with StandIn(schedule=sched) as standin, running_desk(bench) as (_proc, url):
-        _open(browser, url)
-        browser.find_element(By.CSS_SELECTOR, ".rail button[data-view='tuning']").click()
-        form = browser.find_element(By.ID, "tuning-form")
-        for name, value in (("address", standin.address), ("centre_mhz", "145"), ("rate_hz", "1024000"),
-                            ("gain_db", "30"), ("enr_db", "15")):
-            box = form.find_element(By.NAME, name)
-            box.clear()
-            box.send_keys(value)
-        browser.find_element(By.ID, "tuning-start").click()
-        _wait(browser, lambda d: int(d.execute_script("return document.body.dataset.tuningPairs || '0'")) >= 2, 20.0)
+        _start_tuning(browser, url, standin.address)
+        _wait(browser, lambda d: _tuning_pairs(d) >= 2, 20.0)
         first = browser.find_element(By.ID, "tuning-nf").text
         browser.find_element(By.ID, "tuning-note").send_keys("trimmer C3 half a turn")
         browser.find_element(By.ID, "tuning-mark").click()
-        _wait(browser, lambda d: int(d.execute_script("return document.body.dataset.tuningPairs || '0'")) >= 7, 30.0)
+        _wait(browser, lambda d: _tuning_pairs(d) >= 7, 30.0)
         latest = browser.find_element(By.ID, "tuning-nf").text
         state = browser.execute_script("return fetch('/api/tuning/state').then(r => r.json())")
         png = browser.find_element(By.ID, "tuning-time").screenshot_as_png
@@ -346,3 +355,35 @@ def test_noise_figure_mode_follows_a_step_from_a_stand_in_receiver(browser, benc
     assert any(p["mark"] == "trimmer C3 half a turn" for p in state["pairs"])
     colours, inked = _not_blank(png)
     assert colours > 20 and inked > 0.02, (colours, inked)
+
+
+def test_noise_figure_mode_calibration_pair_then_the_dut(browser, bench, tmp_path):
+    # The stand-in receiver alone (NF 8 dB) for the calibration pair, then a DUT (NF 1 dB, gain 10 dB)
+    # connected ahead of it and detection restarted: every later pair is the DUT's own, corrected by the
+    # kept pair (F1 = F12 - (F2 - 1)/G1, Friis 1944). Seeded stand-in: INVENTED DATA.
+    from rtl_tcp_standin import Schedule, StandIn
+    sched = Schedule(seed=11, period_s=0.6, nf_db=8.0, cold_lsb=3.0, dut_gain_db=10.0, dut_nf_db=1.0)
+    with StandIn(schedule=sched) as standin, running_desk(bench) as (_proc, url):
+        _start_tuning(browser, url, standin.address)
+        _wait(browser, lambda d: d.execute_script("return fetch('/api/tuning/state').then(r => r.json())")
+              .get("running"), 10.0)
+        browser.find_element(By.ID, "tuning-cal").click()
+        _wait(browser, lambda d: d.find_element(By.ID, "tuning-cal-state").text.startswith("corrected"), 20.0)
+        kept = browser.find_element(By.ID, "tuning-cal-state").text
+        standin.insert_dut()
+        time.sleep(0.4)  # the DUT in, then detection restarted, as a user does
+        before = _tuning_pairs(browser)
+        browser.find_element(By.ID, "tuning-restart").click()
+        _wait(browser, lambda d: _tuning_pairs(d) >= before + 3, 30.0)
+        state = browser.execute_script("return fetch('/api/tuning/state').then(r => r.json())")
+        gain_text = browser.find_element(By.ID, "tuning-gain").text
+        (tmp_path / "tuning_cal.png").write_bytes(browser.find_element(By.ID, "tuning-readouts").screenshot_as_png)
+        browser.find_element(By.ID, "tuning-stop").click()
+    assert "receiver NF 8." in kept and "gain 30" in kept
+    assert state["calibration"]["receiver_nf_db"] == pytest.approx(8.0, abs=0.2)
+    dut = state["pairs"][before:]
+    assert len(dut) >= 3
+    for p in dut:
+        assert p["nf_db"] == pytest.approx(1.0, abs=p["u95_db"])
+        assert p["gain_db"] == pytest.approx(10.0, abs=0.15)
+    assert float(gain_text.split()[0]) == pytest.approx(10.0, abs=0.15) and gain_text.endswith("dB")
