@@ -7,6 +7,7 @@ import queue
 import sys
 import threading
 import time
+from contextlib import ExitStack
 from typing import Any, TextIO
 
 from .sdr import SdrSettings, live_chunks, open_sdr
@@ -78,19 +79,26 @@ class _Terminal:
 
 def follow_pairs(address: str, settings: SdrSettings, source: Any, *, seconds: float | None,
                  calibrate_first: bool = False, lines: "queue.Queue[str | None] | None" = None,
-                 out: TextIO = sys.stdout) -> tuple[Any, bool]:
+                 out: TextIO = sys.stdout, drive: Any = None) -> tuple[Any, bool]:
     """Stream until `seconds` (or Ctrl-C), printing each pair; the whole run's result (None without a pair)
     and whether it was interrupted. `lines`: what the user types (None once input is closed): a note on the
-    next pair, or, after a calibration pair (`calibrate_first`), that the DUT is connected."""
+    next pair, or, after a calibration pair (`calibrate_first`), that the DUT is connected. `drive`: key the
+    noise source from a sound-card output meanwhile (:mod:`benchnf.acquire.source_drive`)."""
     from ..measure.yfactor_live import YFactorLive
     live = YFactorLive(rate_hz=settings.rate_hz, centre_hz=settings.centre_hz, gain_db=settings.gain_db,
                        source=source)
-    print(f"following the noise figure at {settings.centre_hz / 1e6:.4f} MHz; switch the noise source on and off, "
-          f"a second or more each; type a note and Enter to mark an adjustment", file=out, flush=True)
+    how = "benchnf keys the noise source" if drive is not None else "switch the noise source on and off, a second or more each"
+    print(f"following the noise figure at {settings.centre_hz / 1e6:.4f} MHz; {how}; type a note and Enter to mark "
+          f"an adjustment", file=out, flush=True)
     term = _Terminal(live, out, calibrate_first)
     interrupted = False
     t0 = time.monotonic()
-    with open_sdr(address, settings) as stream:
+    with ExitStack() as keyed:
+        if drive is not None:
+            from .source_drive import SourceDrive
+            keyed.enter_context(SourceDrive(drive))
+            term.say(f"keying the noise source: {drive.state_s:g} s states, a {drive.tone_hz:g} Hz tone while hot")
+        stream = keyed.enter_context(open_sdr(address, settings))
         try:
             for iq in live_chunks(stream, _READ_S, lambda text: print(f"benchnf: warning: {text}", file=sys.stderr,
                                                                        flush=True)):

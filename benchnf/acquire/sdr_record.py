@@ -13,6 +13,7 @@ import datetime as _dt
 import threading
 import time
 from collections.abc import Callable
+from contextlib import ExitStack
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -21,6 +22,7 @@ from ..errors import AcquisitionError, CaptureError
 from ..write import Writer
 from ..io.sigmf_iq import OVERLOADED
 from .sdr import SdrSettings, SdrStream, open_sdr
+from .source_drive import SourceDrive
 
 __all__ = ["SdrRecording", "sigmf_paths", "record_sdr"]
 
@@ -66,8 +68,9 @@ def _metadata(settings: SdrSettings, stream: SdrStream, condition: str | None, s
 def record_sdr(output: str | Path, *, address: str, settings: SdrSettings, seconds: float,
                condition: str | None = None, writer: Writer | None = None,
                on_progress: Callable[[int], None] | None = None, stop: threading.Event | None = None,
-               timeout_s: float = 5.0) -> SdrRecording:
-    """Record `seconds` of IQ from the receiver `address` names into a SigMF recording.
+               timeout_s: float = 5.0, drive: Any = None) -> SdrRecording:
+    """Record `seconds` of IQ from the receiver `address` names into a SigMF recording; with `drive`
+    (:class:`benchnf.acquire.source_drive.DriveSettings`) the noise source is keyed meanwhile.
 
     Raises
     ------
@@ -84,10 +87,22 @@ def record_sdr(output: str | Path, *, address: str, settings: SdrSettings, secon
         if p.exists():
             raise CaptureError(f"{p} exists already: choose another name (nothing was overwritten)")
         writer.target(p)
-    stream = open_sdr(address, settings, timeout_s=timeout_s)
-    started = _metadata(settings, stream, condition, "recording", {})
-    writer.json(meta_path, started)
-    target, chunk = int(round(seconds * settings.rate_hz)), max(1024, int(_CHUNK_S * settings.rate_hz))
+    with ExitStack() as keyed:
+        keying = keyed.enter_context(SourceDrive(drive)) if drive is not None else None  # fails before any file
+        stream = open_sdr(address, settings, timeout_s=timeout_s)
+        started = _metadata(settings, stream, condition, "recording", {})
+        writer.json(meta_path, started)
+        rec = _stream_to(data_path, stream, writer, seconds=seconds, rate=settings.rate_hz, stop=stop,
+                         on_progress=on_progress)
+    if keying is not None:
+        started["global"].update({f"benchnf:drive_{k}": v for k, v in keying.metadata().items()})
+    return _finish(meta_path, started, stream, **rec, stop=stop, data_path=data_path)
+
+
+def _stream_to(data_path: Path, stream: SdrStream, writer: Writer, *, seconds: float, rate: float,
+               stop: threading.Event | None, on_progress: Callable[[int], None] | None) -> dict[str, Any]:
+    """Append the receiver's bytes to the data file until `seconds` are in, the stream ends or it is stopped."""
+    target, chunk = int(round(seconds * rate)), max(1024, int(_CHUNK_S * rate))
     written, interrupted, dropped, error = 0, False, False, None
     t0 = time.monotonic()
     try:
@@ -115,8 +130,8 @@ def record_sdr(output: str | Path, *, address: str, settings: SdrSettings, secon
         interrupted = True
     finally:
         stream.close()
-    return _finish(meta_path, started, stream, written=written, elapsed=time.monotonic() - t0, rate=settings.rate_hz,
-                   interrupted=interrupted, dropped=dropped, error=error, stop=stop, data_path=data_path)
+    return dict(written=written, elapsed=time.monotonic() - t0, rate=rate, interrupted=interrupted, dropped=dropped,
+                error=error)
 
 
 def _finish(meta_path: Path, started: dict[str, Any], stream: SdrStream, *, written: int, elapsed: float,

@@ -199,3 +199,23 @@ def records_url_of(args: argparse.Namespace) -> str | None:
     """The records database: --records, else BENCHNF_RECORDS, else the station file's."""
     import os
     return getattr(args, "records", None) or os.environ.get("BENCHNF_RECORDS") or stated_station(args).records
+
+
+def drive_options(p: argparse.ArgumentParser) -> None:
+    """The options of switching the noise source by a keying tone on a sound-card output (acquire.source_drive)."""
+    g = p.add_argument_group("the noise source switched by benchnf (a keying tone on a sound-card output)")
+    g.add_argument("--drive-source", metavar="DEVICE[:N]",
+                   help="key the noise source from this sound-card output (channel N from 1; 'default:2' the "
+                        "default output's second channel): a tone while hot, silence while cold (docs/yfactor.md)")
+    g.add_argument("--drive-state-s", type=float, default=1.0, metavar="S", help="each keyed state's length (1 s)")
+    g.add_argument("--drive-tone-hz", type=float, default=1000.0, metavar="F", help="the keying tone (1000 Hz)")
+    g.add_argument("--drive-level-dbfs", type=float, default=-6.0, metavar="DB", help="its peak level (-6 dBFS)")
+
+
+def drive_from_args(args: argparse.Namespace) -> Any:
+    """The keying settings, or None without --drive-source."""
+    if args.drive_source is None:
+        return None
+    from ..acquire.source_drive import DriveSettings, parse_drive
+    device, channel = parse_drive(args.drive_source)
+    return DriveSettings(device, channel, args.drive_state_s, args.drive_tone_hz, args.drive_level_dbfs)

@@ -12,6 +12,8 @@ from ._common import (
     calibration_options,
     common_options,
     device_options,
+    drive_from_args,
+    drive_options,
     progress,
     say_rate_note,
 )
@@ -43,6 +45,7 @@ def add_parser(sub: Any) -> None:
                    help="another input's calibration, for a recording of several inputs (each file names its "
                         "channel); repeat for each; the sidecar then states every input's volts per full scale")
     p.add_argument("-o", "--output", type=Path, required=True, metavar="FILE.wav")
+    drive_options(p)
     common_options(p)
     p.set_defaults(run=run)
 
@@ -50,6 +53,9 @@ def add_parser(sub: Any) -> None:
 def run(args: argparse.Namespace, writer: Writer) -> int:
     if args.sdr is not None:
         return _run_sdr(args, writer)
+    if args.drive_source is not None:
+        from ..errors import ParameterError
+        raise ParameterError("--drive-source keys a noise source ahead of a receiver: use it with --sdr")
     args.rate = args.rate or 48_000.0
     from ..acquire.record import record_to_file
     from ..io.sidecar import sidecar_candidates
@@ -98,11 +104,14 @@ def _run_sdr(args: argparse.Namespace, writer: Writer) -> int:
         raise ParameterError(f"{', '.join(sound_card_only)} belong to sound-card recording, not to --sdr")
     if args.centre_hz is None or args.gain is None:
         raise ParameterError("--sdr needs the receiver's --centre-hz F and a fixed tuner --gain DB")
+    drive = drive_from_args(args)
+    if drive is not None and args.condition != "switched":
+        raise ParameterError("--drive-source switches the noise source: record with --condition switched")
     settings = SdrSettings(args.centre_hz, args.rate or 2_400_000.0, parse_gain(args.gain), args.ppm)
     with progress(int(args.seconds * settings.rate_hz), quiet=args.quiet, label="recording") as tick:
         try:
             rep = record_sdr(args.output, address=args.sdr, settings=settings, seconds=args.seconds,
-                             condition=args.condition, writer=writer, on_progress=tick)
+                             condition=args.condition, writer=writer, on_progress=tick, drive=drive)
         except KeyboardInterrupt:
             print(f"benchnf: interrupted; what was recorded is kept beside {args.output} (its metadata says so)",
                   file=sys.stderr)

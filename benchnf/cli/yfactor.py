@@ -96,10 +96,15 @@ def add_options(p: argparse.ArgumentParser) -> None:
                       help="--live: stop after this long and write the whole run (default: until Ctrl-C)")
 
 
+    from ._common import drive_options
+    drive_options(p)
+
+
 def request_from_args(args: argparse.Namespace) -> Any:
     from ..measure.yfactor_request import YFactorRequest
     live_only = [o for o, v in (("--sdr", args.sdr), ("--gain", args.gain), ("--seconds", args.seconds),
-                                ("--calibrate-first", args.calibrate_first)) if v]
+                                ("--calibrate-first", args.calibrate_first),
+                                ("--drive-source", args.drive_source)) if v]
     if live_only and not args.live:
         from ..errors import ParameterError
         raise ParameterError(f"{', '.join(live_only)} belong{'s' if len(live_only) == 1 else ''} to a live run "
@@ -124,7 +129,7 @@ def run_stream(args: argparse.Namespace, writer: Any) -> int:
     from ..acquire.sdr_live import follow_pairs, typed_lines
     from ..errors import ParameterError
     from ..measure.yfactor_request import hot_cold_source
-    from ._common import write_outputs
+    from ._common import drive_from_args, write_outputs
     from .status import ExitStatus
     if args.sdr is None or args.centre_hz is None or args.gain is None:
         raise ParameterError("--live needs a receiver: --sdr rtl_tcp://HOST:PORT --centre-hz F --gain DB")
@@ -137,7 +142,8 @@ def run_stream(args: argparse.Namespace, writer: Any) -> int:
     source = hot_cold_source(request_from_args(args))
     print(_LIVE_CAUTION)
     result, interrupted = follow_pairs(args.sdr, settings, source, seconds=args.seconds,
-                                       calibrate_first=args.calibrate_first, lines=typed_lines(), out=sys.stdout)
+                                       calibrate_first=args.calibrate_first, lines=typed_lines(), out=sys.stdout,
+                                       drive=drive_from_args(args))
     if result is not None:
         from ..report.present_yfactor import present
         from ..report.render_png import figures
