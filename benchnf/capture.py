@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
-from collections.abc import Callable, Iterator, Mapping
+from collections.abc import Callable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from types import MappingProxyType
@@ -89,7 +89,9 @@ class Capture:
     metadata: Mapping[str, Any] = field(default_factory=dict)
     path: Path | None = None
     quantum_fs: float | None = None
-    _reader: Callable[[int, int, BlockSink | None, int, int], Iterator[NDArray[np.float64]]] | None = field(
+    # (block frames, channel or list of channels, sink, first frame, stop frame): blocks of one channel, or of
+    # several as (frames, channels)
+    _reader: Callable[[int, Any, BlockSink | None, int, int], Iterator[NDArray[np.float64]]] | None = field(
         default=None, repr=False, compare=False)
 
     def __post_init__(self) -> None:
@@ -119,7 +121,7 @@ class Capture:
         data = data.copy()
         data.setflags(write=False)
 
-        def reader(block_frames: int, ch: int, into: BlockSink | None, first: int,
+        def reader(block_frames: int, ch: int | list[int], into: BlockSink | None, first: int,
                    stop: int) -> Iterator[NDArray[np.float64]]:
             for start in range(first, stop, block_frames):
                 yield deliver(data[start:min(start + block_frames, stop), ch], into)
@@ -139,7 +141,7 @@ class Capture:
         if parent is None:
             raise CaptureError(f"{self.label} has no samples attached")
 
-        def reader(block_frames: int, ch: int, into: BlockSink | None, first: int,
+        def reader(block_frames: int, ch: int | list[int], into: BlockSink | None, first: int,
                    last: int) -> Iterator[NDArray[np.float64]]:
             return parent(block_frames, ch, into, first + start, last + start)
 
@@ -179,6 +181,25 @@ class Capture:
         if not 0 <= start <= stop:
             raise ParameterError(f"frames {start} to {stop} lie outside {self.label} ({self.n_frames} frames)")
         return self._reader(int(block_frames), ch, into, int(start), stop)
+
+    def frame_blocks(self, channels: Sequence[int], block_frames: int = DEFAULT_BLOCK_FRAMES, *, start: int = 0,
+                     stop: int | None = None, into: Callable[[int], NDArray[Any]] | None = None
+                     ) -> Iterator[NDArray[Any]]:
+        """Yield several channels of the recording together, blocks of shape (frames, len(channels)), from
+        one read of the recording (where :meth:`blocks` reads it once per channel). With `into`, each block
+        is written into the (frames, channels) array ``into(frames)`` gives (float64 or float32) and that
+        array is yielded."""
+        if self._reader is None:
+            raise CaptureError(f"{self.label} has no samples attached")
+        chans = [int(c) for c in channels]
+        bad = [c for c in chans if not 0 <= c < self.n_channels]
+        if bad or not chans:
+            raise ParameterError(f"channels {chans} do not all exist in {self.label} ({self.n_channels} channel(s), "
+                                 f"numbered from 0)")
+        stop = self.n_frames if stop is None else min(int(stop), self.n_frames)
+        if not 0 <= start <= stop:
+            raise ParameterError(f"frames {start} to {stop} lie outside {self.label} ({self.n_frames} frames)")
+        return self._reader(int(block_frames), chans, into, int(start), stop)
 
     def read(self, *, channel: int | None = None, max_frames: int | None = None) -> NDArray[np.float64]:
         """Return the samples of one channel as one array (at most `max_frames`)."""
@@ -227,8 +248,8 @@ class SampleStats:
         self.n_clipped += other.n_clipped
         self.n_nonfinite += other.n_nonfinite
 
-    def update(self, block: NDArray[np.float64]) -> None:
-        """Add one block of samples."""
+    def update(self, block: NDArray[np.floating]) -> None:
+        """Add one block of samples (float64, or float32 as a single-precision stream keeps them)."""
         if block.size == 0:
             return
         peak = max(float(block.max()), -float(block.min()))

@@ -14,8 +14,11 @@ from __future__ import annotations
 
 import os
 import threading
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
 from typing import TYPE_CHECKING
+
+import numpy as np
+from numpy.typing import NDArray
 
 from .capture import Capture, SampleStats
 from .dsp.spectrum import WelchAccumulator
@@ -67,6 +70,7 @@ def _in_parallel(run: Callable[[int], None], n_parts: int) -> None:
 
 def _one_part(capture: Capture, acc: WelchAccumulator, stats: SampleStats, first: int, read_to: int,
               counted_to: int, progress: Callable[[int], None] | None) -> None:
+    acc.expect(read_to - first)
     at = first
     for block in capture.blocks(into=acc.reserve, start=first, stop=read_to):
         own = block[: max(0, counted_to - at)]
@@ -109,6 +113,19 @@ def stream_spectrum(capture: Capture, *, segment_length: int, window: str = "han
     return acc, stats
 
 
+def _both_channels(x: Capture, y: Capture, start: int, stop: int,
+                   reserve: Callable[[int], NDArray[np.floating]]) -> Iterator[NDArray[np.floating]]:
+    """(frames, 2) blocks of both channels, written into ``reserve(frames)``: from one read of the file when
+    they are two channels of one recording."""
+    if x.path is not None and x.path == y.path and x.n_channels == y.n_channels:
+        yield from x.frame_blocks((x.channel, y.channel), start=start, stop=stop, into=reserve)
+        return
+    for bx, by in zip(x.blocks(start=start, stop=stop), y.blocks(start=start, stop=stop)):
+        into = reserve(bx.size)
+        into[:, 0], into[:, 1] = bx, by
+        yield into
+
+
 def stream_cross(x: Capture, y: Capture, *, segment_length: int,
                  progress: Callable[[int], None] | None = None) -> tuple["CrossAccumulator", SampleStats, SampleStats]:
     """The cross-spectrum accumulator of two channels of one recording (equally long, one sample rate),
@@ -132,16 +149,17 @@ def stream_cross(x: Capture, y: Capture, *, segment_length: int,
     def one(k: int) -> None:
         acc, sx, sy = workers[k]
         start, read_to, counted_to = parts[k]
+        acc.expect(read_to - start)
         at = start
-        for bx, by in zip(x.blocks(start=start, stop=read_to), y.blocks(start=start, stop=read_to)):
+        for both in _both_channels(x, y, start, read_to, acc.reserve):
             keep = max(0, counted_to - at)
-            sx.update(bx[:keep])
-            sy.update(by[:keep])
-            acc.update(bx, by)
-            at += bx.size
+            sx.update(both[:keep, 0])
+            sy.update(both[:keep, 1])
+            acc.commit(both.shape[0])
+            at += both.shape[0]
             if progress is not None:
                 with lock:
-                    progress(min(keep, bx.size))
+                    progress(min(keep, both.shape[0]))
     _in_parallel(one, len(parts))
     acc, sx, sy = workers[0]
     for part_acc, part_x, part_y in workers[1:]:

@@ -19,7 +19,7 @@ from numpy.typing import ArrayLike, NDArray
 from ..errors import MeasurementError, ParameterError
 from .psd import WINDOWS, Psd, default_segment_length, make_window, welch_dof, window_enbw_bins
 
-__all__ = ["Psd", "WelchAccumulator", "check_segmenting", "require_segments", "segment_means", "BatchRfft", "WINDOW_SUPPORT_RTOL",
+__all__ = ["Psd", "WelchAccumulator", "check_segmenting", "require_segments", "segment_means", "BatchFft", "WINDOW_SUPPORT_RTOL",
            "welch_psd", "welch_dof",
            "window_enbw_bins", "pool_psds",
            "make_window", "default_segment_length", "WINDOWS", "welch_iq_psd"]
@@ -34,25 +34,44 @@ WINDOW_SUPPORT_RTOL = 1e-12
 FFTW_AFTER_SEGMENTS = 2048
 
 
-class BatchRfft:
-    """Real FFTs of batches of segments, writing into reused buffers.
+class BatchFft:
+    """FFTs of batches of segments, writing into reused buffers: real input (``rfft``), or complex input
+    (``fft``, two real streams at once as ``x + i y``, :class:`benchnf.dsp.cross.CrossAccumulator`).
 
     FFTW (through pyFFTW, the ``fast`` extra) runs about 1.7 times faster than numpy's pocketfft on this
     work, but importing it costs about 0.13 s (it loads scipy.fft); so a stream starts on numpy and moves to
     FFTW once it has transformed FFTW_AFTER_SEGMENTS segments, where the saving outgrows the import (about
-    three minutes at 48 kHz). Both give the same transform to rounding (the tests run both). The environment
-    variable ``BENCHNF_FFT=numpy`` keeps numpy, ``BENCHNF_FFT=fftw`` takes FFTW from the start. One thread:
-    parallelism is left to the caller (one process per core).
+    three minutes at 48 kHz), or from the start when :meth:`expect` is told the stream is that long. Both
+    give the same transform to rounding (the tests run both). The environment variable ``BENCHNF_FFT=numpy``
+    keeps numpy, ``BENCHNF_FFT=fftw`` takes FFTW from the start. One thread: parallelism is left to the
+    caller (one part of the stream per core).
     """
 
-    def __init__(self, n: int) -> None:
+    def __init__(self, n: int, *, complex_input: bool = False) -> None:
         self.n = n
+        self.complex_input = complex_input
         self._plans: dict[int, Any] = {}
-        self._work = np.empty((0, n))
+        self._work = np.empty((0, n), dtype=np.complex128 if complex_input else np.float64)
         self._pyfftw: Any = None
+        self._single = False
         choice = os.environ.get("BENCHNF_FFT", "").lower()
         self._wanted = choice != "numpy"
         self._segments = 0 if choice != "fftw" else FFTW_AFTER_SEGMENTS
+
+    def expect(self, segments: int, *, single: bool = False) -> None:
+        """The stream will bring about `segments` segments: long enough for FFTW to repay its import, take
+        it from the first batch instead of after FFTW_AFTER_SEGMENTS. With `single`, such a stream is
+        transformed by FFTW in single precision (see :attr:`single`); numpy stays in double, where single
+        precision is slower."""
+        if segments >= FFTW_AFTER_SEGMENTS:
+            self._segments = max(self._segments, FFTW_AFTER_SEGMENTS)
+            if single and not self._plans and self.backend == "fftw":
+                self._single = True
+
+    @property
+    def single(self) -> bool:
+        """True when the transforms run in single precision (float32/complex64)."""
+        return self._single
 
     def _load_fftw(self) -> None:
         self._wanted = False  # one try
@@ -69,25 +88,26 @@ class BatchRfft:
             self._load_fftw()
         return "numpy" if self._pyfftw is None else "fftw"
 
-    def input(self, m: int) -> NDArray[np.float64]:
+    def input(self, m: int) -> NDArray[Any]:
         """The (m, n) array to write the windowed segments into."""
         if self.backend == "numpy":
             if self._work.shape[0] < m:
-                self._work = np.empty((m, self.n))
+                self._work = np.empty((m, self.n), dtype=self._work.dtype)
             return self._work[:m]
         if m not in self._plans:
             fftw = self._pyfftw
-            a = fftw.empty_aligned((m, self.n), dtype="float64")
-            b = fftw.empty_aligned((m, self.n // 2 + 1), dtype="complex128")
-            self._plans[m] = fftw.FFTW(a, b, axes=(1,), threads=1,
-                                       flags=("FFTW_ESTIMATE", "FFTW_DESTROY_INPUT"))
+            out = "complex64" if self._single else "complex128"
+            a = fftw.empty_aligned((m, self.n), dtype=out if self.complex_input else
+                                   ("float32" if self._single else "float64"))
+            b = fftw.empty_aligned((m, self.n if self.complex_input else self.n // 2 + 1), dtype=out)
+            self._plans[m] = fftw.FFTW(a, b, axes=(1,), threads=1, flags=("FFTW_ESTIMATE", "FFTW_DESTROY_INPUT"))
         return self._plans[m].input_array
 
-    def execute(self, m: int) -> NDArray[np.complex128]:
+    def execute(self, m: int) -> NDArray[np.complexfloating]:
         """Transform what :meth:`input` (same m) was filled with; the result is reused."""
         self._segments += m
         if self._pyfftw is None or m not in self._plans:
-            return np.fft.rfft(self._work[:m], axis=-1)
+            return (np.fft.fft if self.complex_input else np.fft.rfft)(self._work[:m], axis=-1)
         return self._plans[m]()
 
 
@@ -108,7 +128,7 @@ def require_segments(count: int, segment_length: int, sample_rate_hz: float) -> 
                                f"{segment_length / sample_rate_hz:.3g} s): record longer or choose a shorter --segment")
 
 
-def segment_means(buf: NDArray[np.float64], n_seg: int, n: int, hop: int) -> NDArray[np.float64]:
+def segment_means(buf: NDArray[Any], n_seg: int, n: int, hop: int) -> NDArray[Any]:
     """Mean of each of the `n_seg` segments of `n` samples that start every `hop` samples from ``buf[0]``.
 
     When the hop divides N (50 % overlap and the like) the segments are made of whole hop-blocks: each block
@@ -116,9 +136,13 @@ def segment_means(buf: NDArray[np.float64], n_seg: int, n: int, hop: int) -> NDA
     """
     if n % hop:
         step = buf.itemsize
-        return np.lib.stride_tricks.as_strided(buf, shape=(n_seg, n), strides=(hop * step, step)).mean(axis=-1)
+        return np.lib.stride_tricks.as_strided(buf, shape=(n_seg, n), strides=(hop * step, step)).mean(
+            axis=-1, dtype=np.complex128 if np.iscomplexobj(buf) else np.float64)
     r = n // hop
-    block_sums = buf[:(n_seg + r - 1) * hop].reshape(-1, hop).sum(axis=1)
+    # Each block summed in the samples' own precision (pairwise: relative error about eps log2(hop)), the
+    # blocks' sums then added in double.
+    block_sums = buf[:(n_seg + r - 1) * hop].reshape(-1, hop).sum(axis=1).astype(
+        np.complex128 if np.iscomplexobj(buf) else np.float64)
     sums = block_sums[:n_seg].copy()
     for j in range(1, r):
         sums += block_sums[j:j + n_seg]
@@ -177,7 +201,7 @@ class WelchAccumulator:
         self._buffer = np.empty(0)  # the unconsumed tail, then the new samples
         self._n_tail = 0
         self._reserved = 0
-        self._fft = BatchRfft(n)
+        self._fft = BatchFft(n)
         self._batch = _SEGMENTS_PER_BATCH
 
     @property
@@ -190,6 +214,10 @@ class WelchAccumulator:
     def fft_backend(self) -> str:
         """Which FFT library runs: ``"fftw"`` or ``"numpy"``."""
         return self._fft.backend
+
+    def expect(self, n_samples: int) -> None:
+        """The stream will bring about `n_samples` samples (a file of known length): lets the FFT choose."""
+        self._fft.expect((int(n_samples) - self.segment_length) // self.hop + 1)
 
     def reserve(self, n_samples: int) -> NDArray[np.float64]:
         """Space for the next `n_samples` samples of the stream: fill it, then :meth:`commit`.

@@ -145,7 +145,7 @@ def open_capture(path: str | Path, *, channel: int | None = None, condition: str
 
 def _direct_reader(path: Path, layout: WavLayout, n_frames: int) -> Any:
     """Blocks of an uncompressed WAV/RF64 decoded by numpy, from any frame."""
-    def reader(block_frames: int, ch: int, into: BlockSink | None, first: int,
+    def reader(block_frames: int, ch: int | list[int], into: BlockSink | None, first: int,
                stop: int) -> Iterator[NDArray[np.float64]]:
         try:
             yield from iter_channel_blocks(path, layout, stop - first, ch, block_frames, into, first_frame=first)
@@ -159,7 +159,7 @@ def _library_reader(path: Path, n_frames: int) -> Any:
     """Blocks of any file libsndfile reads, from any frame."""
     sf = _soundfile()
 
-    def reader(block_frames: int, ch: int, into: BlockSink | None, first: int,
+    def reader(block_frames: int, ch: int | list[int], into: BlockSink | None, first: int,
                stop: int) -> Iterator[NDArray[np.float64]]:
         got = first
         try:

@@ -159,7 +159,8 @@ def decode_samples(raw: bytes | bytearray | memoryview, layout: WavLayout, n_fra
     channel : int, optional
         One channel, shape (n_frames,); all channels, shape (n_frames, channels), if None.
     out : numpy.ndarray, optional
-        A 1-D float64 array of all the samples decoded, to write into (a new one by default).
+        A 1-D float64 array of all the samples decoded, to write into (a new one by default); float32 is
+        taken too (exact for 16- and 24-bit samples, rounded for wider ones).
     """
     dtype, scale, _ = _ENCODINGS[(layout.format_tag, layout.bits)]
     width = layout.bits // 8
@@ -177,8 +178,8 @@ def decode_samples(raw: bytes | bytearray | memoryview, layout: WavLayout, n_fra
         out = np.empty(count, dtype="<i4" if layout.bits == 24 else dtype)
     elif out is None:
         out = np.empty(count)
-    elif out.dtype != np.float64 or out.shape != (count,):
-        raise ValueError(f"out must be a 1-D float64 array of {count} samples")
+    elif out.dtype not in (np.float64, np.float32) or out.shape != (count,):
+        raise ValueError(f"out must be a 1-D float64 (or float32) array of {count} samples")
     if count == 0:
         return out if channel is not None else out.reshape(0, layout.channels)
     if layout.bits == 24:
@@ -190,20 +191,39 @@ def decode_samples(raw: bytes | bytearray | memoryview, layout: WavLayout, n_fra
         if native:
             np.left_shift(words, 8, out=out)  # the top byte is the next sample's: shifted out
         else:
-            np.multiply(np.left_shift(words, 8), scale, out=out)
+            np.multiply(np.left_shift(words, 8), scale, out=out, dtype=out.dtype)
     else:
         values = np.ndarray((count,), dtype=dtype, buffer=buf, offset=offset, strides=(stride,))
         if native:
             out[...] = values
         else:
-            np.multiply(values, scale, out=out)
+            np.multiply(values, scale, out=out, dtype=out.dtype)
     return out if channel is not None else out.reshape(n_frames, layout.channels)
 
 
-def iter_channel_blocks(path: str | Path, layout: WavLayout, n_frames: int, channel: int,
+def _decode_channels(view: memoryview, layout: WavLayout, k: int, channels: list[int],
+                     into: Callable[[int], NDArray[Any]] | None) -> NDArray[Any]:
+    """`k` frames of the listed channels as (k, len(channels)); straight into ``into(k)`` when they are every
+    channel in order."""
+    every = list(range(layout.channels))
+    if into is not None and channels == every:
+        out = into(k)
+        decode_samples(view, layout, k, None, out.reshape(-1))
+        return out
+    picked = decode_samples(view, layout, k)
+    picked = picked if channels == every else picked[:, channels]
+    if into is None:
+        return picked
+    out = into(k)
+    out[...] = picked
+    return out
+
+
+def iter_channel_blocks(path: str | Path, layout: WavLayout, n_frames: int, channel: int | list[int],
                         block_frames: int, into: Callable[[int], NDArray[np.float64]] | None = None,
                         *, first_frame: int = 0) -> Iterator[NDArray[np.float64]]:
-    """Yield one channel of `n_frames` frames from `first_frame` in blocks of `block_frames`.
+    """Yield one channel (or a list of channels, as (frames, channels) blocks) of `n_frames` frames from
+    `first_frame` in blocks of `block_frames`.
 
     Each block is decoded into ``into(k)`` when given (and that array yielded), else into a
     new array.
@@ -225,5 +245,8 @@ def iter_channel_blocks(path: str | Path, layout: WavLayout, n_frames: int, chan
             got = fh.readinto(view[:k * align])
             if got < k * align:
                 raise EOFError(f"{n_frames - left + got // align} of {n_frames} frames")
-            yield decode_samples(view, layout, k, channel, None if into is None else into(k))
+            if isinstance(channel, list):  # several channels: every one decoded, the wanted ones kept
+                yield _decode_channels(view, layout, k, channel, into)
+            else:
+                yield decode_samples(view, layout, k, channel, None if into is None else into(k))
             left -= k
