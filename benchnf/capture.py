@@ -171,16 +171,11 @@ class Capture:
         a file's samples are decoded straight to where they are used; without it, each
         block is a new array (or a read-only view of the capture's own array).
         """
-        if self._reader is None:
-            raise CaptureError(f"{self.label} has no samples attached")
         ch = self.channel if channel is None else channel
         if not 0 <= ch < self.n_channels:
             raise ParameterError(f"channel {ch} does not exist in {self.label} "
                                  f"({self.n_channels} channel(s), numbered from 0)")
-        stop = self.n_frames if stop is None else min(int(stop), self.n_frames)
-        if not 0 <= start <= stop:
-            raise ParameterError(f"frames {start} to {stop} lie outside {self.label} ({self.n_frames} frames)")
-        return self._reader(int(block_frames), ch, into, int(start), stop)
+        return self._read(block_frames, ch, into, start, stop)
 
     def frame_blocks(self, channels: Sequence[int], block_frames: int = DEFAULT_BLOCK_FRAMES, *, start: int = 0,
                      stop: int | None = None, into: Callable[[int], NDArray[Any]] | None = None
@@ -189,17 +184,20 @@ class Capture:
         one read of the recording (where :meth:`blocks` reads it once per channel). With `into`, each block
         is written into the (frames, channels) array ``into(frames)`` gives (float64 or float32) and that
         array is yielded."""
-        if self._reader is None:
-            raise CaptureError(f"{self.label} has no samples attached")
         chans = [int(c) for c in channels]
-        bad = [c for c in chans if not 0 <= c < self.n_channels]
-        if bad or not chans:
+        if not chans or any(not 0 <= c < self.n_channels for c in chans):
             raise ParameterError(f"channels {chans} do not all exist in {self.label} ({self.n_channels} channel(s), "
                                  f"numbered from 0)")
+        return self._read(block_frames, chans, into, start, stop)
+
+    def _read(self, block_frames: int, channels: int | list[int], into: Any, start: int,
+              stop: int | None) -> Iterator[NDArray[Any]]:
+        if self._reader is None:
+            raise CaptureError(f"{self.label} has no samples attached")
         stop = self.n_frames if stop is None else min(int(stop), self.n_frames)
         if not 0 <= start <= stop:
             raise ParameterError(f"frames {start} to {stop} lie outside {self.label} ({self.n_frames} frames)")
-        return self._reader(int(block_frames), chans, into, int(start), stop)
+        return self._reader(int(block_frames), channels, into, int(start), stop)
 
     def read(self, *, channel: int | None = None, max_frames: int | None = None) -> NDArray[np.float64]:
         """Return the samples of one channel as one array (at most `max_frames`)."""

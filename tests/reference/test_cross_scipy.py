@@ -110,3 +110,19 @@ def test_a_long_stream_in_single_precision_matches_scipy():
     np.testing.assert_allclose(r.s_xy[inner], pxy[inner], rtol=1e-5, atol=1e-5 * np.abs(pxy).max())
     np.testing.assert_allclose(r.s_xx[inner], signal.welch(x, **kw)[1][inner], rtol=1e-5)
     np.testing.assert_allclose(r.s_yy[inner], signal.welch(y, **kw)[1][inner], rtol=1e-5)
+
+
+@pytest.mark.parametrize("backend", ["numpy", "fftw"])
+def test_both_fft_backends_of_the_complex_transform_match_scipy(backend, monkeypatch):
+    """x + i y through numpy's and FFTW's complex transform, in double, equal scipy.signal.csd to 1e-9."""
+    if backend == "fftw":
+        pytest.importorskip("pyfftw")
+    monkeypatch.setenv("BENCHNF_FFT", backend)
+    rng = np.random.default_rng(8)
+    x, y = _pair(rng, 40_000)
+    acc = CrossAccumulator(sample_rate_hz=FS, segment_length=512)
+    acc.update(x, y)
+    assert acc._fft.backend == backend and not acc.single
+    kw = dict(fs=FS, window="hann", nperseg=512, noverlap=256, detrend="constant")
+    pxy = signal.csd(x, y, **kw)[1]
+    np.testing.assert_allclose(acc.result().s_xy, pxy, rtol=1e-9, atol=1e-12 * np.abs(pxy).max())
