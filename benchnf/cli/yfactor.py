@@ -7,6 +7,7 @@ import sys
 from pathlib import Path
 from typing import Any
 
+from ._common import drive_options
 from ._types import (
     celsius,
     channel_index,
@@ -96,7 +97,6 @@ def add_options(p: argparse.ArgumentParser) -> None:
                       help="--live: stop after this long and write the whole run (default: until Ctrl-C)")
 
 
-    from ._common import drive_options
     drive_options(p)
 
 

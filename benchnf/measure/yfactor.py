@@ -200,6 +200,10 @@ def yfactor_of_spectra(sp: "StateSpectra", *, first: Source, source: HotColdSour
     band = _headline_band(f, first, band, usable, source)
     quantum = quantisation_density(first)
     source_side, receiver_side = side_loss(passives, "source"), side_loss(passives, "receiver")
+    if receiver_side is not None and not corrected:
+        raise ParameterError("a passive stage on the receiver side is de-embedded through the receiver's own noise "
+                             "figure, which only the calibration pair measures: give --cal-hot/--cal-cold, or leave "
+                             "the stage out (it is then part of the system noise figure)")
 
     def evaluate(b: Band) -> tuple[Powers, Model] | None:
         w = band_bin_weights(f, b) * usable

@@ -183,6 +183,7 @@ def _absurd_numbers() -> list[Case]:
         ("yfactor --edge-fraction 2", nothing, [*YFACTOR, "--edge-fraction", "2"], 2),
         ("yfactor --source-side nan", nothing, [*YFACTOR, "--source-side", "nan", "290"], 2),
         ("yfactor --receiver-side -3 dB", nothing, [*YFACTOR, "--receiver-side", "-3", "290"], 2),
+        ("yfactor --receiver-side without a calibration pair", nothing, [*YFACTOR, "--receiver-side", "1", "290"], 2),
         ("yfactor --chain with three active stages", nothing, [*YFACTOR, "--chain", "{d}/head_amp_chain.toml"], 2),
         ("record --drive-source with the sound card", nothing, ["record", "--seconds", "1", "--condition", "hot",
                                                                 "--drive-source", "x", "-o", "{d}/k.wav"], 2),

@@ -50,7 +50,7 @@ CASES: dict[str, tuple[list[str], list[str]]] = {
                              "{demo}/shorted.flac"], []),
     "yfactor_losses": (["yfactor", "--hot", "{demo}/bath_hot.flac", "--cold", "{demo}/bath_cold.flac",
                         "--floor", "{demo}/bath_floor.flac", "--t-hot-k", "373.15", "--t-cold-k", "273.15",
-                        "--source-side", "0.5", "296", "--receiver-side", "0.2", "296", "--rows", "4", "--quiet",
+                        "--source-side", "0.5", "296", "--source-side", "0.2", "77",  "--rows", "4", "--quiet",
                         "--json", "{tmp}/out/y.json"], ["out/y.json"]),
     "eni_three_rs": (["eni", "{demo}/shorted.flac@0", "{demo}/terminated.flac@20", "{demo}/rs_100.flac@100",
                       "{demo}/rs_1000.flac@1000", "--tone", "{demo}/tone.flac", "--floor", "{demo}/floor.flac",
