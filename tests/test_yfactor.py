@@ -290,3 +290,12 @@ def test_floating_point_iq_keeps_the_level_rule(tmp_path):
     r = analyze_yfactor(hot=open_sigmf(tmp_path / "hot.sigmf-meta"), cold=open_sigmf(tmp_path / "cold.sigmf-meta"),
                         source=HotColdSource(enr=EnrTable.constant(15.0)))
     assert any("reaches -12.0 dBFS" in n and "may be compressing" in n for n in r.notes)
+
+
+def test_an_output_that_may_not_be_written_is_refused_before_the_work(tmp_path, capsys):
+    f = _iq_files(tmp_path)
+    rc = main(["yfactor", "--hot", str(f["hot"]), "--cold", str(f["cold"]), "--enr-db", "5.5",
+               "--json", str(f["hot"].with_suffix(".sigmf-data"))])
+    out, err = capsys.readouterr()
+    assert rc == ExitStatus.BAD_INPUT and "is an input of this run" in err
+    assert "Results" not in out  # nothing measured, nothing printed

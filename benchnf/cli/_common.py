@@ -104,6 +104,12 @@ def calibration_options(p: argparse.ArgumentParser) -> None:
                    help="a calibration file written by 'benchnf calibrate'")
 
 
+def check_outputs(args: argparse.Namespace, writer: Writer) -> None:
+    """Refuse a --json that may not be written before any work is done (it is written at the end)."""
+    if getattr(args, "json", None):
+        writer.target(args.json)
+
+
 def write_outputs(args: argparse.Namespace, writer: Writer, result: Any,
                   figures: Callable[[], list[tuple[str, Any]]] | None = None) -> None:
     """--json (the result with its provenance) and --plot, the same way for every command."""

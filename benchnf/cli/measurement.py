@@ -15,7 +15,7 @@ from functools import partial
 from typing import Any
 
 from ..write import Writer
-from ._common import output_options, progress, records_options, settle_station, write_outputs
+from ._common import check_outputs, output_options, progress, records_options, settle_station, write_outputs
 from .status import ExitStatus
 
 __all__ = ["add_parsers"]
@@ -40,6 +40,7 @@ def _run(kind: str, args: argparse.Namespace, writer: Writer) -> int:
     from ..report.render_png import figures
     from ..report.render_text import render_text
     entry = registry.measurement(kind)
+    check_outputs(args, writer)
     if getattr(args, "live", False) and entry.stream is not None:
         return int(entry.part("stream")(args, writer))
     settle_station(args)
