@@ -313,13 +313,13 @@ def test_a_cross_spectrum_result_with_a_reference_shows_where_the_noise_comes_fr
     assert "cross-spectrum of channels 0 and 1" in text
 
 
-def _start_tuning(browser, url, address):
+def _start_tuning(browser, url, address, **more):
     """Open the noise-figure view and start it on a stand-in receiver (1.024 MS/s, gain 30 dB, ENR 15 dB)."""
     _open(browser, url)
     browser.find_element(By.CSS_SELECTOR, ".rail button[data-view='tuning']").click()
     form = browser.find_element(By.ID, "tuning-form")
     for name, value in (("address", address), ("centre_mhz", "145"), ("rate_hz", "1024000"),
-                        ("gain_db", "30"), ("enr_db", "15")):
+                        ("gain_db", "30"), ("enr_db", "15"), *more.items()):
         box = form.find_element(By.NAME, name)
         box.clear()
         box.send_keys(value)
@@ -387,3 +387,20 @@ def test_noise_figure_mode_calibration_pair_then_the_dut(browser, bench, tmp_pat
         assert p["nf_db"] == pytest.approx(1.0, abs=p["u95_db"])
         assert p["gain_db"] == pytest.approx(10.0, abs=0.15)
     assert float(gain_text.split()[0]) == pytest.approx(10.0, abs=0.15) and gain_text.endswith("dB")
+
+
+@loopback
+def test_noise_figure_mode_keys_the_source_from_a_sound_card_output(browser, bench):
+    # The keying tone played through the real PortAudio/PulseAudio loopback while the stand-in receiver
+    # (INVENTED DATA) streams; the page says the source is keyed, and from which output.
+    from rtl_tcp_standin import Schedule, StandIn
+    with StandIn(schedule=Schedule(seed=13, period_s=0.6)) as standin, running_desk(bench) as (_proc, url):
+        _start_tuning(browser, url, standin.address, drive=DEVICE, drive_state_s="0.5")
+        _wait(browser, lambda d: _tuning_pairs(d) >= 2, 20.0)
+        state = browser.execute_script("return fetch('/api/tuning/state').then(r => r.json())")
+        said = browser.find_element(By.ID, "tuning-warn").text
+        browser.find_element(By.ID, "tuning-stop").click()
+        _wait(browser, lambda d: not d.execute_script("return fetch('/api/tuning/state').then(r => r.json())")
+              .get("running"), 10.0)
+    assert state["keying"]["state_s"] == 0.5 and state["keying"]["states_played"] >= 2
+    assert "keying from" in said and DEVICE in said

@@ -333,8 +333,9 @@ class Upload(DeskHandler):
         self.reply({"saved": st.folder.relative(path)})
 
 
-def tuning_settings(data: dict[str, Any], folder: Any) -> tuple[str, Any, Any]:
-    """The receiver address, its settings and the noise source from the "NF while tuning" form."""
+def tuning_settings(data: dict[str, Any], folder: Any) -> tuple[str, Any, Any, Any]:
+    """The receiver address, its settings, the noise source and the keying output (None: switched by hand)
+    from the "NF while tuning" form."""
     from ..acquire.sdr import SdrSettings, parse_gain, parse_sdr_address
     from ..measure.yfactor_request import YFactorRequest, hot_cold_source
     address = str(data.get("address") or "").strip()
@@ -351,7 +352,12 @@ def tuning_settings(data: dict[str, Any], folder: Any) -> tuple[str, Any, Any]:
         raise BenchError("give the noise source's ENR (dB) or its ENR table")
     req = YFactorRequest(enr_db=enr, enr_table=folder.resolve(table) if table else None,
                          t_cold_k=_number(data, "t_cold_k", low=1.0, high=1000.0, default=290.0))
-    return address, settings, hot_cold_source(req)
+    drive = None
+    if str(data.get("drive") or "").strip():
+        from ..acquire.source_drive import DriveSettings, parse_drive
+        device, channel = parse_drive(str(data["drive"]).strip())
+        drive = DriveSettings(device, channel, _number(data, "drive_state_s", low=0.2, high=60.0, default=1.0))
+    return address, settings, hot_cold_source(req), drive
 
 
 class TuningStart(DeskHandler):
@@ -360,8 +366,8 @@ class TuningStart(DeskHandler):
         st = self.state
         if st.tuning is None:
             st.tuning = TuningSession()
-        address, settings, source = tuning_settings(self.body(), st.folder)
-        st.tuning.start(address, settings, source)
+        address, settings, source, drive = tuning_settings(self.body(), st.folder)
+        st.tuning.start(address, settings, source, drive=drive)
         self.reply({"receiver": st.tuning.receiver})
 
 

@@ -8,6 +8,7 @@ it when the receiver is started again at other settings.
 from __future__ import annotations
 
 import threading
+from contextlib import ExitStack
 from typing import Any
 
 import numpy as np
@@ -31,12 +32,15 @@ class TuningSession:
         self._lock = threading.Lock()
         self._stop = threading.Event()
         self._thread: threading.Thread | None = None
+        self._held = ExitStack()  # the receiver and the keying output while the thread runs
+        self.keying: Any = None
 
     @property
     def running(self) -> bool:
         return self._thread is not None and self._thread.is_alive()
 
-    def start(self, address: str, settings: Any, source: Any) -> None:
+    def start(self, address: str, settings: Any, source: Any, *, drive: Any = None) -> None:
+        """Start the receiver (and, with `drive`, key the noise source from a sound-card output)."""
         from ..acquire.sdr import open_sdr
         from ..measure.yfactor_live import YFactorLive
         if self.running:
@@ -45,8 +49,14 @@ class TuningSession:
                            source=source)
         live.calibration = self.live.calibration if self.live is not None else None  # kept for the session
         live.check_calibration(settings.centre_hz, settings.rate_hz, settings.gain_db)
-        stream = open_sdr(address, settings)
-        self.live, self.settings, self.receiver = live, settings, stream.describe
+        keying = None
+        with ExitStack() as held:
+            if drive is not None:
+                from ..acquire.source_drive import SourceDrive
+                keying = held.enter_context(SourceDrive(drive))
+            stream = held.enter_context(open_sdr(address, settings))
+            self._held = held.pop_all()  # closed by the thread when it ends
+        self.live, self.settings, self.receiver, self.keying = live, settings, stream.describe, keying
         self.error, self.warnings = None, []
         self._stop.clear()
         self._thread = threading.Thread(target=self._run, args=(stream,), name="benchnf-tuning", daemon=True)
@@ -55,7 +65,7 @@ class TuningSession:
     def _run(self, stream: Any) -> None:
         from ..acquire.sdr import live_chunks
         try:
-            with stream:
+            with self._held:
                 for iq in live_chunks(stream, _READ_S, self._warn):
                     if self._stop.is_set():
                         return
@@ -108,7 +118,9 @@ class TuningSession:
             enr_points.append({"freq_hz": self.settings.centre_hz,
                                "enr_db": float(src.enr.at(np.array([self.settings.centre_hz]))[0])})
         best = min(range(len(pairs)), key=lambda i: pairs[i].noise_figure_db) if pairs else None
+        keying = self.keying.metadata() if self.keying is not None and self.running else None
         return {"running": self.running, "receiver": self.receiver, "error": self.error, "warnings": self.warnings,
+                "keying": keying,
                 "settings": {"centre_hz": self.settings.centre_hz, "rate_hz": self.settings.rate_hz,
                              "gain_db": self.settings.gain_db},
                 "calibration": None if cal is None else {

@@ -12,7 +12,8 @@ function drawTuning(p) {
   const last = pairs.length ? pairs[pairs.length - 1] : null;
   $("#tuning-nf").textContent = last ? last.text.nf : "–";
   $("#tuning-nf-cond").textContent = last ? `pair ${last.index} at ${last.t_s.toFixed(1)} s; Te ${last.text.te} (U at k=2)`
-    : (p.running ? "waiting for a hot and a cold state" : "switch the source on and off");
+    : (p.running ? (p.keying ? `benchnf keys the source (${p.keying.state_s} s states); waiting for a hot and a cold state`
+      : "waiting for a hot and a cold state") : "switch the source on and off");
   $("#tuning-gain").textContent = last ? last.text.gain : "–";
   $("#tuning-cal-state").textContent = p.calibrating ? "taking the next pair as the calibration pair"
     : (p.calibration ? `corrected: ${p.calibration.text}`
@@ -21,7 +22,8 @@ function drawTuning(p) {
   $("#tuning-best").textContent = best ? best.text.nf : "–";
   $("#tuning-pairs").textContent = `${pairs.length} pair${pairs.length === 1 ? "" : "s"}` + (best ? `; best is pair ${best.index}` : "");
   $("#tuning-receiver").textContent = p.running ? "running" : (p.error ? "stopped" : "idle");
-  $("#tuning-warn").textContent = p.error || (p.warnings || []).join("; ") || p.receiver || "";
+  $("#tuning-warn").textContent = p.error || (p.warnings || []).join("; ")
+    || (p.receiver || "") + (p.keying ? `; keying from ${p.keying.device_described}` : "");
   const t = pairs.map((q) => q.t_s);
   const traces = [
     {type: "scatter", mode: "lines+markers", name: "noise figure", x: t, y: pairs.map((q) => q.nf_db),
