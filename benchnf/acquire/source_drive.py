@@ -49,6 +49,12 @@ class DriveSettings:
         if self.channel < 0:
             raise ParameterError(f"output channel {self.channel + 1} does not exist: channels count from 1")
 
+    @classmethod
+    def at(cls, address: str, **kw: Any) -> "DriveSettings":
+        """Settings for the output ``DEVICE[:CHANNEL]`` names (:func:`parse_drive`), the rest as given."""
+        device, channel = parse_drive(address.strip())
+        return cls(device, channel, **kw)
+
     @property
     def state_frames(self) -> int:
         return int(round(self.state_s * self.sample_rate_hz))

@@ -222,6 +222,6 @@ def drive_from_args(args: argparse.Namespace) -> Any:
     """The keying settings, or None without --drive-source."""
     if args.drive_source is None:
         return None
-    from ..acquire.source_drive import DriveSettings, parse_drive
-    device, channel = parse_drive(args.drive_source)
-    return DriveSettings(device, channel, args.drive_state_s, args.drive_tone_hz, args.drive_level_dbfs)
+    from ..acquire.source_drive import DriveSettings
+    return DriveSettings.at(args.drive_source, state_s=args.drive_state_s, tone_hz=args.drive_tone_hz,
+                            level_dbfs=args.drive_level_dbfs)

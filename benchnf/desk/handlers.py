@@ -354,9 +354,9 @@ def tuning_settings(data: dict[str, Any], folder: Any) -> tuple[str, Any, Any, A
                          t_cold_k=_number(data, "t_cold_k", low=1.0, high=1000.0, default=290.0))
     drive = None
     if str(data.get("drive") or "").strip():
-        from ..acquire.source_drive import DriveSettings, parse_drive
-        device, channel = parse_drive(str(data["drive"]).strip())
-        drive = DriveSettings(device, channel, _number(data, "drive_state_s", low=0.2, high=60.0, default=1.0))
+        from ..acquire.source_drive import DriveSettings
+        drive = DriveSettings.at(str(data["drive"]),
+                                 state_s=_number(data, "drive_state_s", low=0.2, high=60.0, default=1.0))
     return address, settings, hot_cold_source(req), drive
 
 
