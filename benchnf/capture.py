@@ -30,6 +30,9 @@ CONDITIONS = ("floor", "shorted", "terminated", "tone", "hot", "cold", "tap", "r
 #: of any width are caught at their rails.
 CLIP_LEVEL_FS = 0.99996
 
+#: Frames folded into one row by :meth:`SampleStats.update_columns`.
+_FOLD_FRAMES = 2048
+
 DEFAULT_BLOCK_FRAMES = 1 << 16
 
 #: Gives a writable float64 array of the requested length for the next block (see Capture.blocks).
@@ -246,11 +249,13 @@ class SampleStats:
         self.n_clipped += other.n_clipped
         self.n_nonfinite += other.n_nonfinite
 
-    def update(self, block: NDArray[np.floating]) -> None:
-        """Add one block of samples (float64, or float32 as a single-precision stream keeps them)."""
+    def update(self, block: NDArray[np.floating], extremes: tuple[float, float] | None = None) -> None:
+        """Add one block of samples (float64, or float32 as a single-precision stream keeps them); its
+        (largest, smallest) sample when the caller has them already (:meth:`update_columns`)."""
         if block.size == 0:
             return
-        peak = max(float(block.max()), -float(block.min()))
+        high, low = extremes if extremes is not None else (float(block.max()), float(block.min()))
+        peak = max(high, -low)
         if not math.isfinite(peak):  # a NaN carries through max and min; an infinity is its own peak
             finite = np.isfinite(block)
             self.n_nonfinite += int(block.size - np.count_nonzero(finite))
@@ -264,6 +269,18 @@ class SampleStats:
         self.peak_fs = max(self.peak_fs, peak)
         if peak >= CLIP_LEVEL_FS:
             self.n_clipped += int(np.count_nonzero(np.abs(block) >= CLIP_LEVEL_FS))
+
+    @staticmethod
+    def update_columns(block: NDArray[np.floating], stats: Sequence["SampleStats"]) -> None:
+        """Add a C-contiguous (frames, channels) block, column j to ``stats[j]``.
+
+        The columns' extremes come from contiguous passes: the frames are folded into wide rows whose
+        elementwise extremes numpy takes with vector instructions (a column's own reduction steps through
+        memory one sample at a time: measured 3.5 times slower on stereo blocks here).
+        """
+        high, low = _column_extremes(block)
+        for j, st in enumerate(stats):
+            st.update(block[:, j], (float(high[j]), float(low[j])))
 
     @property
     def rms_fs(self) -> float:
@@ -298,3 +315,17 @@ class SampleStats:
             raise CaptureError(
                 f"{self.label} is clipped ({self.n_clipped} samples at full scale): the tone "
                 f"level would be wrong; lower the tone or the input gain and record it again")
+
+
+def _column_extremes(block: NDArray[np.floating]) -> tuple[NDArray[np.floating], NDArray[np.floating]]:
+    """Each column's largest and smallest value (NaN where a column holds one) of a C-contiguous 2-D block,
+    from frames folded into wide rows (see :meth:`SampleStats.update_columns`)."""
+    frames, width = block.shape
+    whole = frames - frames % _FOLD_FRAMES
+    wide, rest = block[:whole].reshape(-1, _FOLD_FRAMES * width), block[whole:]
+    out = []
+    for reduce, start in ((np.maximum, -np.inf), (np.minimum, np.inf)):
+        folded = reduce.reduce(wide, axis=0, initial=start)
+        columns = np.array([reduce.reduce(folded[j::width], initial=start) for j in range(width)])
+        out.append(reduce(columns, reduce.reduce(rest, axis=0, initial=start)))
+    return out[0], out[1]

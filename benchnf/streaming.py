@@ -153,8 +153,7 @@ def stream_cross(x: Capture, y: Capture, *, segment_length: int,
         at = start
         for both in _both_channels(x, y, start, read_to, acc.reserve):
             keep = max(0, counted_to - at)
-            sx.update(both[:keep, 0])
-            sy.update(both[:keep, 1])
+            SampleStats.update_columns(both[:keep], (sx, sy))
             acc.commit(both.shape[0])
             at += both.shape[0]
             if progress is not None:

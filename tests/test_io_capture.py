@@ -103,6 +103,26 @@ def test_sample_stats_find_damaged_samples_with_or_without_the_energy(bad, energ
         stats.check_noise()
 
 
+@pytest.mark.parametrize("frames", [0, 7, 2048, 5000, 59_392])
+def test_sample_stats_of_columns_equal_each_column_alone(frames):
+    """update_columns (extremes from folded rows) counts what update counts column by column: peaks,
+    clipped samples (at the rails, in the folded part and the tail) and damaged samples."""
+    rng = np.random.default_rng(frames)
+    block = rng.normal(0, 0.1, (frames, 2)).astype(np.float32)
+    if frames > 10:
+        block[3, 0], block[-2, 1] = -1.0, np.nan  # a rail in the first column, damage in the tail of the second
+        block[frames // 2, 1] = 0.99999
+    together = [SampleStats(label="x", energy=False), SampleStats(label="y", energy=False)]
+    SampleStats.update_columns(block, together)
+    for j, st in enumerate(together):
+        alone = SampleStats(label="xy"[j], energy=False)
+        alone.update(block[:, j])
+        assert (st.n, st.peak_fs, st.n_clipped, st.n_nonfinite) == (alone.n, alone.peak_fs, alone.n_clipped,
+                                                                    alone.n_nonfinite)
+    if frames > 10:
+        assert [st.n_clipped for st in together] == [1, 1] and together[1].n_nonfinite == 1
+
+
 def _tone_file(tmp_path, f_hz, vpfs=1.7, vrms=0.3, name="ref.wav"):
     t = np.arange(96_000) / 48_000.0
     x = vrms * math.sqrt(2) / vpfs * np.sin(2 * np.pi * f_hz * t)
