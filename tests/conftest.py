@@ -10,6 +10,16 @@ import pytest
 matplotlib.use("Agg")
 
 
+def pytest_configure(config):
+    """FFTW's measured plans (benchnf.dsp.fftw_backend) are kept for this session only, in its own folder,
+    never in the user's cache (subprocesses inherit the variable)."""
+    if "BENCHNF_FFTW_WISDOM" not in os.environ:
+        import tempfile
+        folder = tempfile.mkdtemp(prefix="benchnf-wisdom-")
+        os.environ["BENCHNF_FFTW_WISDOM"] = os.path.join(folder, "fftw-wisdom.json")
+        config.add_cleanup(lambda: __import__("shutil").rmtree(folder, ignore_errors=True))
+
+
 def pytest_collection_modifyitems(config, items):
     if os.environ.get("BENCHNF_HARDWARE") == "1":
         return

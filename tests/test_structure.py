@@ -124,6 +124,7 @@ JSON_READERS = {
     "io/sidecar.py": "sidecars", "io/sigmf_iq.py": "SigMF metadata", "io/schemas.py": "the shipped schemas",
     "desk/server.py": "the browser's requests (not a file)",
     "demo.py": "the demo's ground truth",
+    "dsp/fftw_backend.py": "FFTW's kept plans (a cache of its own)",
 }
 
 

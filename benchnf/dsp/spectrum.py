@@ -17,16 +17,16 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from ..errors import MeasurementError, ParameterError
+from . import fftw_backend
 from .psd import WINDOWS, Psd, default_segment_length, make_window, welch_dof, window_enbw_bins
 
-__all__ = ["Psd", "WelchAccumulator", "check_segmenting", "require_segments", "segment_means", "BatchFft", "WINDOW_SUPPORT_RTOL",
-           "welch_psd", "welch_dof",
-           "window_enbw_bins", "pool_psds",
+__all__ = ["Psd", "WelchAccumulator", "check_segmenting", "require_segments", "segment_means", "BatchFft",
+           "SEGMENTS_PER_BATCH", "WINDOW_SUPPORT_RTOL", "welch_psd", "welch_dof", "window_enbw_bins", "pool_psds",
            "make_window", "default_segment_length", "WINDOWS", "welch_iq_psd"]
 
 #: Segments per FFT call: many, to spread Python's per-call cost.  Measured here on a whole
 #: analysis at 32768-sample segments, 8 beat 1, 2, 4 and 32 (by 3-10 %).
-_SEGMENTS_PER_BATCH = 8
+SEGMENTS_PER_BATCH = 8
 #: Bins where the window's transform is below this fraction of its peak are rounding noise
 #: (a cosine-sum window's transform is exactly zero beyond its few terms).
 WINDOW_SUPPORT_RTOL = 1e-12
@@ -39,12 +39,15 @@ class BatchFft:
     (``fft``, two real streams at once as ``x + i y``, :class:`benchnf.dsp.cross.CrossAccumulator`).
 
     FFTW (through pyFFTW, the ``fast`` extra) runs about 1.7 times faster than numpy's pocketfft on this
-    work, but importing it costs about 0.13 s (it loads scipy.fft); so a stream starts on numpy and moves to
-    FFTW once it has transformed FFTW_AFTER_SEGMENTS segments, where the saving outgrows the import (about
-    three minutes at 48 kHz), or from the start when :meth:`expect` is told the stream is that long. Both
-    give the same transform to rounding (the tests run both). The environment variable ``BENCHNF_FFT=numpy``
-    keeps numpy, ``BENCHNF_FFT=fftw`` takes FFTW from the start. One thread: parallelism is left to the
-    caller (one part of the stream per core).
+    work, but importing it costs about 0.15 s (it loads scipy.fft); so a stream starts on numpy and starts
+    the import in the background (:mod:`benchnf.dsp.fftw_backend`) once it has transformed
+    FFTW_AFTER_SEGMENTS segments, where the saving outgrows the import (about three minutes at 48 kHz), or
+    at once when :meth:`expect` is told the stream is that long; it moves to FFTW at the first batch after
+    the import. Such a known long stream has the plan of its whole batches measured by FFTW, once per
+    machine and shape (kept as FFTW wisdom); other plans are estimated or taken from wisdom. All give the
+    same transform to rounding (the tests run each). The environment variable ``BENCHNF_FFT=numpy`` keeps
+    numpy, ``BENCHNF_FFT=fftw`` waits for FFTW and takes it from the first batch. One thread: parallelism is
+    left to the caller (one part of the stream per core).
     """
 
     def __init__(self, n: int, *, complex_input: bool = False) -> None:
@@ -56,36 +59,36 @@ class BatchFft:
         self._single = False
         choice = os.environ.get("BENCHNF_FFT", "").lower()
         self._wanted = choice != "numpy"
+        self._wait = choice == "fftw"
         self._segments = 0 if choice != "fftw" else FFTW_AFTER_SEGMENTS
+        self._measure = False
+        #: How each FFTW plan was made, by batch size (see :func:`benchnf.dsp.fftw_backend.plan`).
+        self.plan_origin: dict[int, str] = {}
 
     def expect(self, segments: int, *, single: bool = False) -> None:
-        """The stream will bring about `segments` segments: long enough for FFTW to repay its import, take
-        it from the first batch instead of after FFTW_AFTER_SEGMENTS. With `single`, such a stream is
-        transformed by FFTW in single precision (see :attr:`single`); numpy stays in double, where single
-        precision is slower."""
-        if segments >= FFTW_AFTER_SEGMENTS:
+        """The stream will bring about `segments` segments: long enough for FFTW to repay its import, start
+        the import now instead of after FFTW_AFTER_SEGMENTS, and have its whole batches' plan measured. With
+        `single`, such a stream is transformed by FFTW in single precision (see :attr:`single`)."""
+        if segments >= FFTW_AFTER_SEGMENTS and self._wanted:
             self._segments = max(self._segments, FFTW_AFTER_SEGMENTS)
-            if single and not self._plans and self.backend == "fftw":
+            self._measure = True
+            if single and not self._plans and fftw_backend.installed():
                 self._single = True
+            _ = self.backend
 
     @property
     def single(self) -> bool:
-        """True when the transforms run in single precision (float32/complex64)."""
+        """True when FFTW's transforms run in single precision (float32/complex64): the caller may keep its
+        samples in float32. numpy's transforms (before FFTW is loaded, or without it) stay in double, where
+        numpy's single precision is slower (measured 3.6 times at 32768 points)."""
         return self._single
-
-    def _load_fftw(self) -> None:
-        self._wanted = False  # one try
-        try:
-            import pyfftw
-            self._pyfftw = pyfftw
-        except ImportError:
-            pass
 
     @property
     def backend(self) -> str:
         """``"fftw"`` or ``"numpy"`` (what the next batch will use)."""
-        if self._wanted and self._segments >= FFTW_AFTER_SEGMENTS:
-            self._load_fftw()
+        if self._pyfftw is None and self._wanted and self._segments >= FFTW_AFTER_SEGMENTS:
+            fftw_backend.start()
+            self._pyfftw = fftw_backend.module(wait=self._wait)
         return "numpy" if self._pyfftw is None else "fftw"
 
     def input(self, m: int) -> NDArray[Any]:
@@ -100,7 +103,9 @@ class BatchFft:
             a = fftw.empty_aligned((m, self.n), dtype=out if self.complex_input else
                                    ("float32" if self._single else "float64"))
             b = fftw.empty_aligned((m, self.n if self.complex_input else self.n // 2 + 1), dtype=out)
-            self._plans[m] = fftw.FFTW(a, b, axes=(1,), threads=1, flags=("FFTW_ESTIMATE", "FFTW_DESTROY_INPUT"))
+            # measured for whole batches only: a stream's last, shorter one is estimated
+            self._plans[m], self.plan_origin[m] = fftw_backend.plan(
+                fftw, a, b, measure=self._measure and m == SEGMENTS_PER_BATCH)
         return self._plans[m].input_array
 
     def execute(self, m: int) -> NDArray[np.complexfloating]:
@@ -202,7 +207,7 @@ class WelchAccumulator:
         self._n_tail = 0
         self._reserved = 0
         self._fft = BatchFft(n)
-        self._batch = _SEGMENTS_PER_BATCH
+        self._batch = SEGMENTS_PER_BATCH
 
     @property
     def n_averages(self) -> int:

@@ -92,7 +92,9 @@ def test_a_long_stream_in_single_precision_matches_scipy():
     kept in double). Against scipy.signal.csd/welch in double: rounding of about 1e-7 per value, so the
     densities agree to 1e-5 relative (stated tolerance), far inside the estimate's own scatter."""
     pytest.importorskip("pyfftw")
+    from benchnf.dsp import fftw_backend
     from benchnf.dsp.spectrum import FFTW_AFTER_SEGMENTS
+    assert fftw_backend.module(wait=True) is not None  # FFTW from the first batch (it is imported beside a stream)
     rng = np.random.default_rng(4)
     nperseg = 256
     n = (FFTW_AFTER_SEGMENTS + 50) * nperseg // 2
@@ -102,7 +104,7 @@ def test_a_long_stream_in_single_precision_matches_scipy():
     acc.expect(n)
     for at in range(0, n, 30_000):
         acc.update(x[at:at + 30_000], y[at:at + 30_000])
-    assert acc.single and acc._buf.dtype == np.complex64
+    assert acc.single and acc._buf.dtype == np.complex64 and acc._fft.backend == "fftw"
     r = acc.result()
     kw = dict(fs=FS, window="hann", nperseg=nperseg, noverlap=nperseg // 2, detrend="constant")
     _f, pxy = signal.csd(x, y, **kw)

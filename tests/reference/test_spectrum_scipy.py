@@ -145,16 +145,19 @@ def test_both_fft_backends_match_scipy(backend, monkeypatch):
 
 
 def test_a_long_stream_moves_to_fftw_and_stays_on_scipys_spectrum(monkeypatch):
-    """Past FFTW_AFTER_SEGMENTS segments a stream moves from numpy to FFTW (pyFFTW installed); the spectrum is
-    scipy.signal.welch's to rounding across the move."""
+    """Past FFTW_AFTER_SEGMENTS segments a stream starts importing FFTW (pyFFTW installed) and moves to it at
+    the first batch after the import; the spectrum is scipy.signal.welch's to rounding across the move."""
     pytest.importorskip("pyfftw")
-    from benchnf.dsp import spectrum
+    from benchnf.dsp import fftw_backend, spectrum
     monkeypatch.delenv("BENCHNF_FFT", raising=False)
     monkeypatch.setattr(spectrum, "FFTW_AFTER_SEGMENTS", 20)
     x = np.random.default_rng(4).normal(0, 1e-4, 300_000)
     acc = WelchAccumulator(sample_rate_hz=48_000.0, segment_length=4096)
     assert acc.fft_backend == "numpy"
     for i in range(0, x.size, 30_000):
+        if i == 150_000:
+            assert acc._fft._segments >= 20  # the import has been started: let it finish
+            fftw_backend.module(wait=True)
         acc.update(x[i:i + 30_000])
     assert acc.fft_backend == "fftw"
     _, ref = signal.welch(x, fs=48_000.0, nperseg=4096)
