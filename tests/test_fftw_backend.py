@@ -5,6 +5,7 @@ process, never needed for a right answer. Transforms of every origin are checked
 from __future__ import annotations
 
 import json
+import os
 import subprocess
 import sys
 
@@ -65,15 +66,26 @@ def test_without_a_place_for_wisdom_nothing_is_measured_or_written(tmp_path, mon
     assert list(tmp_path.iterdir()) == []
 
 
-def test_a_damaged_wisdom_file_is_ignored_and_replaced(tmp_path):
-    path = tmp_path / "wisdom.json"
-    path.write_text("{not json")
+def _plan_in_a_new_process(path, n=416) -> str:
     script = ("from benchnf.dsp import fftw_backend as f; from benchnf.dsp.spectrum import BatchFft\n"
-              "f.module(wait=True); b = BatchFft(416, complex_input=True); b.expect(10**6, single=True)\n"
+              f"f.module(wait=True); b = BatchFft({n}, complex_input=True); b.expect(10**6, single=True)\n"
               "b.input(8); print(b.plan_origin[8])")
-    env = {**__import__("os").environ, "BENCHNF_FFTW_WISDOM": str(path)}
+    env = {**os.environ, "BENCHNF_FFTW_WISDOM": str(path)}
     run = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, env=env)
-    assert (run.returncode, run.stdout.strip(), run.stderr) == (0, "measured", "")
+    assert (run.returncode, run.stderr) == (0, "")
+    return run.stdout.strip()
+
+
+@pytest.mark.parametrize("kept", ["damaged", "another host"])
+def test_wisdom_that_is_damaged_or_from_another_machine_is_ignored_and_replaced(kept, tmp_path):
+    path = tmp_path / "wisdom.json"
+    if kept == "damaged":
+        path.write_text("{not json")
+    else:
+        assert _plan_in_a_new_process(path) == "measured" and _plan_in_a_new_process(path) == "wisdom"
+        made = json.loads(path.read_text())
+        path.write_text(json.dumps({**made, "host": "elsewhere/" + made["host"]}))
+    assert _plan_in_a_new_process(path) == "measured"
     assert json.loads(path.read_text())["format"] == "benchnf-fftw-wisdom-1"
 
 

@@ -14,7 +14,8 @@ measured plan so that a later planner finds it at once (the FFTW manual, "Words 
 kept in a small JSON file of benchnf's own (:func:`wisdom_path`: ``$BENCHNF_FFTW_WISDOM``, or
 ``fftw-wisdom.json`` in ``$XDG_CACHE_HOME/benchnf`` or ``~/.cache/benchnf``; ``BENCHNF_FFTW_WISDOM=off``
 keeps none and never measures). Wisdom changes only the speed: every plan computes the same transform.
-The file may be deleted at any time; one that cannot be read is ignored and replaced.
+The file may be deleted at any time; one that cannot be read, or was measured by another FFTW or on
+another machine (a cache folder shared between hosts), is ignored and replaced.
 """
 
 from __future__ import annotations
@@ -22,6 +23,7 @@ from __future__ import annotations
 import importlib.util
 import json
 import os
+import platform
 import tempfile
 import threading
 from pathlib import Path
@@ -59,13 +61,18 @@ def _version(fftw: Any) -> str:
     return str(fftw._fftw_version_dict.get("32", "")) + "/" + str(fftw._fftw_version_dict.get("64", ""))
 
 
+def _host() -> str:
+    """The machine wisdom was measured on: a cache folder shared between machines keeps one's only."""
+    return f"{platform.node()}/{platform.machine()}"
+
+
 def _load_wisdom(fftw: Any) -> None:
     path = wisdom_path()
     if path is None:
         return
     try:
         kept = json.loads(path.read_text(encoding="ascii"))
-        if kept.get("format") == _WISDOM_FORMAT and kept.get("fftw") == _version(fftw):
+        if (kept.get("format"), kept.get("fftw"), kept.get("host")) == (_WISDOM_FORMAT, _version(fftw), _host()):
             fftw.import_wisdom(tuple(w.encode("ascii") for w in kept["wisdom"]))
     except (OSError, ValueError, TypeError, KeyError, AttributeError):
         pass  # none yet, or damaged: planned afresh and replaced
@@ -75,7 +82,7 @@ def _save_wisdom(fftw: Any) -> None:
     path = wisdom_path()
     if path is None:
         return
-    text = json.dumps({"format": _WISDOM_FORMAT, "fftw": _version(fftw),
+    text = json.dumps({"format": _WISDOM_FORMAT, "fftw": _version(fftw), "host": _host(),
                        "wisdom": [w.decode("ascii") for w in fftw.export_wisdom()]})
     try:
         path.parent.mkdir(parents=True, exist_ok=True)
