@@ -20,11 +20,7 @@ another machine (a cache folder shared between hosts), is ignored and replaced.
 
 from __future__ import annotations
 
-import importlib.util
-import json
 import os
-import platform
-import tempfile
 import threading
 from pathlib import Path
 from types import ModuleType
@@ -44,6 +40,7 @@ def installed() -> bool:
     """True when pyFFTW can be imported (found on the path; not imported)."""
     global _installed
     if _installed is None:
+        import importlib.util
         _installed = importlib.util.find_spec("pyfftw") is not None
     return _installed
 
@@ -63,6 +60,7 @@ def _version(fftw: Any) -> str:
 
 def _host() -> str:
     """The machine wisdom was measured on: a cache folder shared between machines keeps one's only."""
+    import platform
     return f"{platform.node()}/{platform.machine()}"
 
 
@@ -70,6 +68,7 @@ def _load_wisdom(fftw: Any) -> None:
     path = wisdom_path()
     if path is None:
         return
+    import json
     try:
         kept = json.loads(path.read_text(encoding="ascii"))
         if (kept.get("format"), kept.get("fftw"), kept.get("host")) == (_WISDOM_FORMAT, _version(fftw), _host()):
@@ -82,6 +81,8 @@ def _save_wisdom(fftw: Any) -> None:
     path = wisdom_path()
     if path is None:
         return
+    import json
+    import tempfile
     text = json.dumps({"format": _WISDOM_FORMAT, "fftw": _version(fftw), "host": _host(),
                        "wisdom": [w.decode("ascii") for w in fftw.export_wisdom()]})
     try:
