@@ -399,8 +399,14 @@ def test_noise_figure_mode_keys_the_source_from_a_sound_card_output(browser, ben
         _wait(browser, lambda d: _tuning_pairs(d) >= 2, 20.0)
         state = browser.execute_script("return fetch('/api/tuning/state').then(r => r.json())")
         said = browser.find_element(By.ID, "tuning-warn").text
+        header = browser.find_element(By.ID, "audio-state").text
+        # the sound card is held: a live view may not take it meanwhile
+        refused = browser.execute_script("return api('live/start', {}).then(() => 'started', e => e.message)")
         browser.find_element(By.ID, "tuning-stop").click()
         _wait(browser, lambda d: not d.execute_script("return fetch('/api/tuning/state').then(r => r.json())")
               .get("running"), 10.0)
+        _wait(browser, lambda d: d.find_element(By.ID, "audio-state").text == "sound card idle", 10.0)
     assert state["keying"]["state_s"] == 0.5 and state["keying"]["states_played"] >= 2
     assert "keying from" in said and DEVICE in said
+    assert header == "sound card: the noise-source keying"
+    assert "busy with the noise-source keying" in refused

@@ -367,7 +367,7 @@ class TuningStart(DeskHandler):
         if st.tuning is None:
             st.tuning = TuningSession()
         address, settings, source, drive = tuning_settings(self.body(), st.folder)
-        st.tuning.start(address, settings, source, drive=drive)
+        st.tuning.start(address, settings, source, drive=drive, guard=st.guard)
         self.reply({"receiver": st.tuning.receiver})
 
 

@@ -18,6 +18,8 @@ from ..errors import BenchError
 __all__ = ["TuningSession"]
 
 _READ_S = 0.05
+#: Who holds the sound card while benchnf keys the noise source (the header says it).
+KEYING = "the noise-source keying"
 
 
 class TuningSession:
@@ -39,8 +41,10 @@ class TuningSession:
     def running(self) -> bool:
         return self._thread is not None and self._thread.is_alive()
 
-    def start(self, address: str, settings: Any, source: Any, *, drive: Any = None) -> None:
-        """Start the receiver (and, with `drive`, key the noise source from a sound-card output)."""
+    def start(self, address: str, settings: Any, source: Any, *, drive: Any = None, guard: Any = None) -> None:
+        """Start the receiver (and, with `drive`, key the noise source from a sound-card output, holding the
+        desk's sound-card `guard` while it plays, so that no live view or recording takes the card meanwhile
+        and the page's header says who has it)."""
         from ..acquire.sdr import open_sdr
         from ..measure.yfactor_live import YFactorLive
         if self.running:
@@ -53,6 +57,9 @@ class TuningSession:
         with ExitStack() as held:
             if drive is not None:
                 from ..acquire.source_drive import SourceDrive
+                if guard is not None:
+                    guard.take(KEYING)
+                    held.callback(guard.give_back, KEYING)
                 keying = held.enter_context(SourceDrive(drive))
             stream = held.enter_context(open_sdr(address, settings))
             self._held = held.pop_all()  # closed by the thread when it ends

@@ -65,8 +65,11 @@ window.addEventListener("DOMContentLoaded", () => {
     const r = await api("tuning/start", tuningForm());
     say("receiving from " + r.receiver, true);
     tuningTimer(true);
+    refreshState();
   }));
-  $("#tuning-stop").addEventListener("click", () => guarded(async () => { await api("tuning/stop", {}); pollTuning(); }));
+  $("#tuning-stop").addEventListener("click", () => guarded(async () => {
+    await api("tuning/stop", {}); pollTuning(); refreshState();
+  }));
   $("#tuning-cal").addEventListener("click", () => guarded(() => api("tuning/act", {what: "calibrate"})));
   $("#tuning-restart").addEventListener("click", () => guarded(() => api("tuning/act", {what: "restart"})));
   $("#tuning-mark").addEventListener("click", () => guarded(async () => {
