@@ -166,3 +166,47 @@ def test_fifteen_db_under_one_input_from_two_minutes(tmp_path):
         within += abs(r["noise_figure_db"] - NF_TRUE) <= r["uncertainty"]["noise_figure_db"]
         (tmp_path / f"t{seed}.wav").unlink()
     assert within >= 2
+
+
+def test_the_shorted_input_through_the_cross_spectrum_gives_the_voltage_noise_under_the_inputs_own(tmp_path):
+    # With its input shorted the DUT puts out only its voltage noise, en G (1e-7 V/√Hz here): 12 dB under the
+    # first input's own noise and 14 dB under the second's. Through the cross-spectrum (both recordings, the
+    # background subtracted from each) the 1 kHz voltage noise comes out within its U (k=2) in at least two of
+    # three seeds, as in the acceptance case above; one channel alone reads the inputs' own noise instead.
+    en_out = EN * 10 ** (GAIN_DB / 20)
+    own_db = 6.0 + 20 * math.log10(en_out / OUT)  # the inputs' own noise relative to OUT: 6 dB over en G
+    within = 0
+    for seed in (21, 22, 23):
+        rng = np.random.default_rng(seed)
+        term = _pair(tmp_path / "t.wav", rng, seconds=60, dut=OUT, own_db=own_db)
+        short = _pair(tmp_path / "s.wav", rng, seconds=60, dut=en_out, own_db=own_db)
+        rc, r = _analyze(tmp_path, "--terminated", term, "--shorted", short, "--cross")
+        assert rc == 0
+        en, u_db = r["voltage_noise_at_1khz_v_per_rthz"], r["uncertainty"]["voltage_noise_at_1khz_db"]
+        assert 0 < u_db < 1.5, u_db
+        within += abs(20 * math.log10(en / EN)) <= u_db
+        assert r["voltage_noise_band_vrms"] == pytest.approx(EN * math.sqrt(20_000 - 20), rel=0.15)
+    assert within >= 2
+    rc, alone = _analyze(tmp_path, "--terminated", term, "--shorted", short)
+    assert rc == 0 and alone["voltage_noise_at_1khz_v_per_rthz"] > 1.8 * EN  # the inputs' own: 6 dB and more
+
+
+def test_a_shorted_recording_the_cross_spectrum_cannot_resolve_is_said_not_reported(tmp_path):
+    rng = np.random.default_rng(24)
+    term = _pair(tmp_path / "t.wav", rng, seconds=20, dut=OUT, own_db=6.0)
+    short = _pair(tmp_path / "s.wav", rng, seconds=20, dut=0.0, own_db=6.0)  # no common noise at all
+    rc, r = _analyze(tmp_path, "--terminated", term, "--shorted", short, "--cross")
+    assert rc == 0 and r["voltage_noise_at_1khz_v_per_rthz"] is None
+    assert any("is not resolved in the cross-spectrum" in n and "record it longer" in n for n in r["notes"])
+
+
+@pytest.mark.parametrize(("level", "expected"), [(-1.0, False), (0.0, False), (0.05, False), (1.0, True)])
+def test_a_cross_estimate_is_resolved_only_when_three_sigma_above_zero(level, expected):
+    # A co-spectrum band sum within 3 standard deviations of zero is not resolved; a negative one never is
+    # (it once passed, its relative deviation being infinite). 100 bins of variance 1e-4, uncorrelated:
+    # sigma = 0.1 of the band sum of unit weights.
+    from benchnf.measure.gain_details import resolved
+    w, var = np.full(100, 1.0), np.full(100, 1e-4)
+    measured = np.full(100, level / 100)
+    assert resolved(w, measured, None, dof_measured=10.0, dof_floor=None, correlation=(1.0,),
+                    variance_measured=var) is expected

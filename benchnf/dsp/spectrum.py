@@ -74,7 +74,7 @@ class BatchFft:
             self._measure = True
             if single and not self._plans and fftw_backend.installed():
                 self._single = True
-            _ = self.backend
+            _ = self.backend  # starts the import now (and takes FFTW at once if it is loaded already)
 
     @property
     def single(self) -> bool:

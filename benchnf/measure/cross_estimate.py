@@ -29,9 +29,9 @@ from ..errors import CaptureError, MeasurementError, ParameterError
 from ..noise.floor import band_std
 from ..noise.uncertainty import Budget
 
-__all__ = ["CrossSetup", "CrossSummary", "CrossOutput", "check_cross_inputs", "check_multichannel", "less_background",
-           "cross_output", "cross_spectra", "summarise_cross", "check_cross_resolved", "advice", "second_input_term",
-           "WANTED_U95_DB"]
+__all__ = ["CrossSetup", "CrossSummary", "CrossOutput", "check_cross_inputs", "shorted_output", "check_multichannel",
+           "less_background", "cross_output", "cross_spectra", "summarise_cross", "check_cross_resolved", "advice",
+           "second_input_term", "WANTED_U95_DB"]
 
 #: The uncertainty (k=2, of the band's output noise as an amplitude, Welch part) the advice aims at.
 WANTED_U95_DB = 0.5
@@ -39,11 +39,12 @@ WANTED_U95_DB = 0.5
 
 @dataclass(frozen=True)
 class CrossSetup:
-    """The terminated recording's second channel on the DUT output, and optionally the background recording
-    (both inputs terminated), as its two channels."""
+    """The terminated recording's second channel on the DUT output, optionally the background recording
+    (both inputs terminated) as its two channels, and the shorted recording's second channel."""
 
     other: Capture
     background: tuple[Capture, Capture] | None = None
+    shorted_other: Capture | None = None
 
 
 @dataclass(frozen=True)
@@ -79,16 +80,16 @@ class CrossOutput:
 
 
 def check_cross_inputs(runs: Sequence[Any], *, floor: Any, shorted: Any) -> None:
-    """One terminated recording, no floor and no shorted capture (single-channel estimates)."""
+    """One terminated recording, no floor, and a shorted input (if any) recorded on both channels too."""
     if len(runs) != 1 or not isinstance(runs[0], Capture):
         raise ParameterError("the cross-spectrum estimate takes one terminated recording of two channels: record "
                              "one longer capture rather than repeats, and not a spectrum trace")
     if floor is not None:
         raise ParameterError("--cross needs no --floor: the two inputs' own noise averages away; give the "
                              "analyzer's correlated background (both inputs terminated) with --background")
-    if shorted is not None:
-        raise ParameterError("--shorted is not analysed by the cross-spectrum yet: analyse the shorted capture "
-                             "in a run without --cross")
+    if shorted is not None and not isinstance(shorted, Capture):
+        raise ParameterError("with --cross the shorted input is a recording of both channels, not a spectrum "
+                             "trace: record it as the terminated one")
 
 
 def check_multichannel(*, cross: CrossSetup | None, references: Sequence[Any], detector: str,
@@ -117,6 +118,16 @@ def cross_output(run: Capture, cross: CrossSetup, *, segment_length: int,
     path = cross.background[0].path if cross.background is not None else None
     return CrossOutput(spectra.dut_psd(background), spectra, background, (run.channel, other.channel),
                        str(path) if path is not None else None, other.volts_per_fs)
+
+
+def shorted_output(run: Capture, cross: CrossSetup, background: CrossSpectra | None, *, segment_length: int,
+                   progress: Any = None) -> Psd:
+    """The shorted recording's two channels as one estimate of the DUT's output with its input shorted (its
+    voltage noise alone), less the analyzer's correlated background measured once for both recordings."""
+    if cross.shorted_other is None:
+        raise ParameterError("the shorted recording's second channel was not opened: give --shorted with --cross")
+    spectra = cross_spectra(run, cross.shorted_other, segment_length=segment_length, progress=progress)
+    return spectra.dut_psd(background)
 
 
 def less_background(dut: Psd, background: CrossSpectra | None) -> Psd:

@@ -13,7 +13,7 @@ from ..dsp.spectrum import Psd
 from ..dsp.spurs import LineSearch, find_lines
 from ..dsp.weighting import Band
 from ..errors import MeasurementError, ParameterError
-from ..noise.floor import band_relative_std
+from ..noise.floor import band_relative_std, band_std
 from ..noise.gain_method import (
     band_noise_factor,
     spot_means,
@@ -39,9 +39,8 @@ def resolved(weights: NDArray[np.float64], measured: NDArray[np.float64], floor:
     """True if the excess of `measured` over `floor` (over zero for a cross-spectrum estimate, whose bins'
     `variance_measured` is given) in these weighted bins exceeds 3 sigma."""
     m = float(np.dot(weights, measured))
-    if variance_measured is not None and floor is None:
-        return m > 3.0 * band_relative_std(weights, measured, dof=dof_measured, correlation=correlation,
-                                           variance=variance_measured) * m
+    if variance_measured is not None and floor is None:  # a negative estimate is not resolved either
+        return m > 0 and m > 3.0 * band_std(weights, variance_measured, correlation)
     if floor is None or dof_floor is None:
         return True
     fl = float(np.dot(weights, floor))
@@ -58,7 +57,7 @@ def line_mask(search: LineSearch, size: int) -> NDArray[np.bool_]:
 
 
 def spot_values(f, band, fs, p_term, p_floor, p_short, term_clean, floor_clean, short_clean, out_diff,
-           e2_diff, en_diff, rs_ohm, temperature_k, notes, term_var=None) -> list[SpotValue]:
+           e2_diff, en_diff, rs_ohm, temperature_k, notes, term_var=None, short_var=None) -> list[SpotValue]:
     """One-third-octave spot values; a band narrower than one bin is not listed."""
     spot_band = Band(band.low_hz, min(band.high_hz, fs / 2 / 10 ** (1 / 20)))
     centres = [c for c in third_octave_centres_hz(spot_band)
@@ -85,7 +84,8 @@ def spot_values(f, band, fs, p_term, p_floor, p_short, term_clean, floor_clean, 
             low_margin.append(label)
         en_ok = (en_spot is not None and short_clean is not None and en_spot[i] > 0
                  and resolved(w_s, short_clean[span], floor_s, dof_measured=p_short.dof,
-                               dof_floor=floor_dof, correlation=kernel))
+                               dof_floor=floor_dof, correlation=kernel,
+                               variance_measured=short_var[span] if short_var is not None else None))
         rel = dut_power_rel_std(
             measured=m_band, measured_rel_std=band_relative_std(w_s, term_s, dof=p_term.dof, correlation=kernel,
                                                                 variance=var_s),

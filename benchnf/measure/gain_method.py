@@ -50,17 +50,8 @@ from ..noise.uncertainty import (
 from ..units import BOLTZMANN_J_PER_K, T0_K, power_db, thermal_density_v2_per_hz, vrms_to_dbu, vrms_to_dbv
 from .assumptions import NO_FLOOR
 from .attribution import Reference, attributed_output, describe
-from .cross_estimate import (
-    CrossSetup,
-    advice,
-    check_cross_inputs,
-    check_multichannel,
-    check_cross_resolved,
-    cross_output,
-    less_background,
-    second_input_term,
-    summarise_cross,
-)
+from .cross_estimate import (CrossSetup, advice, check_cross_inputs, check_cross_resolved, check_multichannel,
+                             cross_output, less_background, second_input_term, shorted_output, summarise_cross)
 from .gain import GainEstimate, GainSetup, measure_gain
 from .gain_steps import BandFigures, FloorStep, Lines, Prepared, Spectra
 from .noise_inputs import NoiseInput, Progress, capture_psd, check_rates, label_of, path_of, with_vpfs
@@ -171,7 +162,7 @@ def analyze_gain_method(*, terminated: NoiseInput | Sequence[NoiseInput], gain: 
     spots = spot_values(spec.f, band, prep.fs, spec.term, spec.floor, spec.short, lines.term.cleaned,
                    lines.floor.cleaned if lines.floor is not None else None,
                    lines.short.cleaned if lines.short is not None else None, fl.out_diff, bf.e2_diff, en_diff,
-                   rs_ohm, temperature_k, notes, term_var=lines.term_var)
+                   rs_ohm, temperature_k, notes, term_var=lines.term_var, short_var=lines.short_var)
     at_1k = next((s for s in spots if s.freq_hz == 1000.0), None)
     flicker, flicker_on = flicker_fit(spec.f, en_diff, bf.e2_diff, lines.term, spec.term, band, flicker_range_hz,
                                    flicker_free_slope, notes)
@@ -245,7 +236,9 @@ def _spectra(prep: Prepared, *, progress: Progress | None, cross: CrossSetup | N
         out = cross_output(prep.runs[0], cross, segment_length=prep.seg, progress=progress)  # type: ignore[arg-type]
         if att is not None:  # the co-spectrum conditioned on the references, less the background's
             out = replace(out, dut=less_background(att.conditioned, out.background))
-        return Spectra(runs=[out.dut], term=out.dut, floor=None, short=None, cross=out, attributed=att)
+        p_short = (shorted_output(prep.shorted, cross, out.background, segment_length=prep.seg,  # type: ignore[arg-type]
+                                  progress=progress) if prep.shorted is not None else None)
+        return Spectra(runs=[out.dut], term=out.dut, floor=None, short=p_short, cross=out, attributed=att)
     if att is not None:
         p_floor = capture_psd(prep.floor, segment_length=prep.seg, progress=progress) if prep.floor else None
         p_short = capture_psd(prep.shorted, segment_length=prep.seg, progress=progress) if prep.shorted else None
@@ -326,7 +319,12 @@ def _voltage_noise(prep: Prepared, spec: Spectra, lines: Lines, fl: FloorStep, g
     terminals = 1.0 if gain.zin_ohm is None else (gain.zin_ohm + rs_ohm) / gain.zin_ohm
     short_clean = lines.short.cleaned  # type: ignore[union-attr]
     w, used = fl.w_band, fl.used
-    s_rel = band_relative_std(w, short_clean, dof=spec.short.dof, correlation=fl.kernel)
+    s_rel = band_relative_std(w, short_clean, dof=spec.short.dof, correlation=fl.kernel, variance=lines.short_var)
+    if lines.short_var is not None and not resolved(w, short_clean, None, dof_measured=spec.short.dof, dof_floor=None,
+                                                    correlation=fl.kernel, variance_measured=lines.short_var):
+        notes.append(f"the shorted recording {label_of(prep.shorted)} is not resolved in the cross-spectrum "  # type: ignore[arg-type]
+                     f"after {spec.short.n_averages} averages: its voltage noise is not reported; record it longer")
+        return None
     check_not_swapped(shorted_power=float(np.dot(w[used], short_clean[used])),
                       terminated_power=fl.m_band * terminals ** 2, rel_std=math.hypot(fl.m_rel, s_rel))
     floor_clean = lines.floor.cleaned if lines.floor is not None else None
@@ -382,7 +380,7 @@ def _budgets(spec: Spectra, lines: Lines, fl: FloorStep, bf: BandFigures, g: Gai
     if at_1k is not None and at_1k.voltage_noise_v_per_rthz and spec.short is not None and lines.short is not None:
         budgets["voltage_noise_at_1khz_db"] = spot_density_budget(
             "voltage_noise_at_1khz_db", at_1k.voltage_noise_v_per_rthz, spec.f, spec.short, spec.floor,
-            lines.short.cleaned, floor_clean, g, gain, stated)
+            lines.short.cleaned, floor_clean, g, gain, stated, term_var=lines.short_var)
     if both and at_1k is not None and at_1k.input_density_v_per_rthz and at_1k.noise_figure_db is not None:
         spot_ratio = at_1k.input_density_v_per_rthz ** 2 / (4 * BOLTZMANN_J_PER_K * T0_K * rs_ohm)
         for key, sens in (("input_density_at_1khz_db", 1.0),

@@ -52,6 +52,11 @@ class Lines:
         """The cleaned terminated estimate's bin variances, for a cross-spectrum (else chi-square)."""
         return self.term.cleaned_variance
 
+    @property
+    def short_var(self) -> NDArray[np.float64] | None:
+        """The cleaned shorted estimate's bin variances, for a cross-spectrum (else chi-square)."""
+        return self.short.cleaned_variance if self.short is not None else None
+
 
 @dataclass(frozen=True)
 class FloorStep:

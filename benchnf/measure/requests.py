@@ -209,7 +209,9 @@ def _cross_setup(req: GainMethodRequest, open_one: Callable[..., Any]) -> Any:
     open_b = _opener(second, cal_b, name_b.replace("calibration", "second input's calibration", 1), 1.0)
     background = ((open_one(req.background, "floor", a), open_b(req.background, "floor", b))  # inputs terminated
                   if req.background is not None else None)
-    return CrossSetup(other=open_b(req.terminated[0], "terminated", b), background=background)
+    shorted = open_b(req.shorted, "shorted", b) if req.shorted is not None else None
+    return CrossSetup(other=open_b(req.terminated[0], "terminated", b), background=background,
+                      shorted_other=shorted)
 
 
 def run_gain_method(req: GainMethodRequest, *, progress: Any = None) -> Any:
