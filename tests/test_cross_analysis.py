@@ -105,6 +105,7 @@ def test_refusals_are_one_line_and_exit_2(tmp_path, capsys):
         (["--terminated", term, "--cross", "--cross-channels", "1,1"], "one channel twice"),
         (["--terminated", term, "--cross"], "record about"),  # 20 dB under each input, 1 s: not resolved
         (["--terminated", term, "--cross", "--background", term], "same file"),
+        (["--terminated", term, "--cross", "--shorted", term], "same file"),
     ]
     capsys.readouterr()
     assert _analyze(tmp_path, "--terminated", term, "--cross", second=None)[0] == 2

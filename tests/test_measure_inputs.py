@@ -47,6 +47,23 @@ def test_a_calibration_6_db_from_the_sidecar_is_refused(tmp_path, capsys):
     assert rc == ExitStatus.BAD_INPUT and "volts per full scale is 2 V in --volts-per-fs but 1 V" in err
 
 
+@pytest.mark.parametrize("role", ["--floor", "--shorted"])
+def test_one_recording_given_for_two_conditions_is_refused(role, tmp_path, capsys):
+    # The same data as terminated and as floor (or shorted) would read the difference between them as zero.
+    # A hard link is the same file too.
+    others = [DEMO / "terminated.flac", tmp_path / "again.flac"]
+    try:
+        others[1].hardlink_to(others[0])
+    except OSError:  # another file system: the path alone
+        others.pop()
+    for other in others:
+        rc = main(["analyze", "--terminated", str(DEMO / "terminated.flac"), role, str(other),
+                   "--tone", str(DEMO / "tone.flac"), "--volts-per-fs", "2", "--quiet"])
+        err = capsys.readouterr().err.strip().splitlines()
+        assert rc == ExitStatus.BAD_INPUT and len(err) == 1
+        assert "are the same file, given twice (as terminated, floor, shorted or background)" in err[0]
+
+
 def test_batch_and_analyze_give_the_same_figure_for_one_unit(tmp_path, capsys):
     unit = DEMO / "units" / "HA-0001"
     out = tmp_path / "r.json"

@@ -78,8 +78,14 @@ def _same(a: Any, b: Any, rel_tol: float) -> bool:
     return bool(a == b)
 
 
-def distinct_files(paths: Sequence[Path], role: str) -> None:
-    """Refuse the same file given twice for `role` (by path, link or copy of the same inode)."""
+#: Why the same recording may not stand for two conditions (see :func:`distinct_files`).
+OTHER_CONDITIONS = ("each condition is its own recording: the same data as two conditions would read "
+                    "the difference between them as zero")
+
+
+def distinct_files(paths: Sequence[Path], role: str, why: str = "repeats must be separate recordings (the same "
+                   "data twice would double the degrees of freedom and shrink the uncertainty falsely)") -> None:
+    """Refuse the same file given twice for `role` (by path or hard link: the same inode), saying `why`."""
     seen: dict[tuple[int, int], Path] = {}
     for p in paths:
         try:
@@ -88,9 +94,7 @@ def distinct_files(paths: Sequence[Path], role: str) -> None:
             continue  # the reader names a missing file
         key = (st.st_dev, st.st_ino)
         if key in seen:
-            raise ParameterError(f"{p} and {seen[key]} are the same file, given twice as {role}: repeats must be "
-                                 f"separate recordings (the same data twice would double the degrees of "
-                                 f"freedom and shrink the uncertainty falsely)")
+            raise ParameterError(f"{p} and {seen[key]} are the same file, given twice ({role}): {why}")
         seen[key] = p
 
 

@@ -17,7 +17,7 @@ from ..dsp.weighting import DEFAULT_BAND_HZ
 from ..errors import ParameterError
 from ..io.opener import TraceReading, input_kind, open_input
 from .assumptions import temperature_assumed
-from .inputs import agree, distinct_files, open_calibrated
+from .inputs import OTHER_CONDITIONS, agree, distinct_files, open_calibrated
 
 __all__ = ["GainMethodRequest", "resolve_gain_method", "run_gain_method", "request_from_result", "DEFAULT_BAND_HZ"]
 
@@ -101,6 +101,8 @@ def resolve_gain_method(req: GainMethodRequest) -> dict[str, Any]:
         raise ParameterError("give at least one terminated capture")
     req = _cross_channel(req)
     distinct_files(list(req.terminated), "terminated repeats")
+    distinct_files([*req.terminated, *(c for c in (req.floor, req.shorted, req.background) if c is not None)],
+                   "as terminated, floor, shorted or background", OTHER_CONDITIONS)
     stated = req.stated if req.stated is not None else StatedUncertainty()
     cal, cal_name = _calibration(req)
     open_one = _opener(req, cal, cal_name, stated.calibration_pct)
@@ -198,8 +200,6 @@ def _cross_setup(req: GainMethodRequest, open_one: Callable[..., Any]) -> Any:
     if len(req.terminated) != 1:
         raise ParameterError("--cross takes one terminated recording (both channels on the DUT output): record one "
                              "longer capture rather than repeats")
-    if req.background is not None:
-        distinct_files([req.terminated[0], req.background], "terminated and background")
     if req.cross_calibration is None and req.cross_volts_per_fs is None and not _sidecar_states(req, b):
         raise ParameterError("--cross needs each input's calibration: calibrate the second input too and give it "
                              "with --cross-calibration CAL.json, or state --cross-volts-per-fs V (or record with "
