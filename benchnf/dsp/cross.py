@@ -40,8 +40,6 @@ from .spectrum import SEGMENTS_PER_BATCH, WINDOW_SUPPORT_RTOL, BatchFft, check_s
 
 __all__ = ["CrossAccumulator", "CrossSpectra", "co_spectrum_psd"]
 
-_BATCH = SEGMENTS_PER_BATCH  # segments transformed at once (8: the batch's spectra stay in cache)
-
 
 @dataclass(frozen=True)
 class CrossSpectra(HannSegments):
@@ -200,7 +198,7 @@ class CrossAccumulator:
     def commit(self, n_samples: int) -> None:
         """Take the `n_samples` written into :meth:`reserve`'s space."""
         self._n_tail += int(n_samples)
-        if self._n_tail >= self.segment_length + (_BATCH - 1) * self.hop:
+        if self._n_tail >= self.segment_length + (SEGMENTS_PER_BATCH - 1) * self.hop:
             self._flush()
 
     def _flush(self) -> None:
@@ -209,8 +207,8 @@ class CrossAccumulator:
             return
         n_seg = (size - n) // hop + 1
         half = n // 2
-        for start in range(0, n_seg, _BATCH):
-            m = min(_BATCH, n_seg - start)
+        for start in range(0, n_seg, SEGMENTS_PER_BATCH):
+            m = min(SEGMENTS_PER_BATCH, n_seg - start)
             z = self._transform(start, m)
             pz = z.view(z.real.dtype)
             self._power += np.einsum("ij,ij->j", pz, pz)

@@ -9,9 +9,9 @@ A stream takes :func:`module` at each batch and moves to FFTW at the first batch
 **The plans.** FFTW chooses a plan by estimate (``FFTW_ESTIMATE``, instant) or by timing candidates
 (``FFTW_MEASURE``): at 32768 points in single precision the measured plan ran 0.071-0.086 ms per
 transform here against 0.117 ms estimated, but measuring costs about 0.35 s. FFTW's *wisdom* records a
-measured plan so that a later planner finds it at once (the FFTW manual, "Words of Wisdom"). A long stream
-(:func:`plan` with ``measure=True``) has its first plan measured once per machine and shape; the wisdom is
-kept in a small JSON file of benchnf's own (:func:`wisdom_path`: ``$BENCHNF_FFTW_WISDOM``, or
+measured plan so that a later planner finds it at once (the FFTW manual, "Words of Wisdom"). A long
+stream (:func:`plan` with ``measure=True``) has its whole batches' plan measured once per machine and
+shape; the wisdom is kept in a small JSON file of benchnf's own (:func:`wisdom_path`: ``$BENCHNF_FFTW_WISDOM``, or
 ``fftw-wisdom.json`` in ``$XDG_CACHE_HOME/benchnf`` or ``~/.cache/benchnf``; ``BENCHNF_FFTW_WISDOM=off``
 keeps none and never measures). Wisdom changes only the speed: every plan computes the same transform.
 The file may be deleted at any time; one that cannot be read, or was measured by another FFTW or on
